@@ -1,0 +1,50 @@
+# solsphere: two commands do all set-up on a fresh clone.
+#   make run    create .venv, install, run the demo (then serve the app; NO_SERVE=1 stops after the terminal part)
+#   make test   create .venv, install test extras (and Debian's chromium for browser tests), run every test
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+STAMP  := $(VENV)/.installed
+DEMO   := data/demo/varnish_binder.csv
+OUT    := out
+
+.PHONY: run test test-fast bench data browser-deps clean
+
+$(STAMP): pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install -q --upgrade pip
+	$(PY) -m pip install -q -e '.[test]'
+	touch $(STAMP)
+
+run: $(STAMP)
+	@mkdir -p $(OUT)
+	$(VENV)/bin/solsphere fit $(DEMO) --save $(OUT)/demo-project.json
+	$(VENV)/bin/solsphere rank $(OUT)/demo-project.json --top 10
+	$(VENV)/bin/solsphere blend $(OUT)/demo-project.json --top 10
+	$(VENV)/bin/solsphere share $(OUT)/demo-project.json -o $(OUT)/demo-sphere.html
+	@echo "Shareable map written to $(OUT)/demo-sphere.html"
+ifndef NO_SERVE
+	$(VENV)/bin/solsphere app $(OUT)/demo-project.json --host 127.0.0.1 --port 8050
+endif
+
+browser-deps:
+	@if [ ! -x /usr/bin/chromium ] || [ ! -x /usr/bin/chromedriver ]; then \
+	  if [ "$$(id -u)" = "0" ]; then \
+	    apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq chromium chromium-driver >/dev/null; \
+	  else echo "chromium missing: install Debian's chromium and chromium-driver (as root) for the browser tests"; fi; \
+	fi
+
+test: $(STAMP) browser-deps
+	$(PY) -m pytest
+
+test-fast: $(STAMP)
+	$(PY) -m pytest -m "not browser and not slow"
+
+bench: $(STAMP)
+	@for f in tests/perf/bench_*.py; do $(PY) $$f || exit 1; done
+
+data: $(STAMP)
+	$(PY) data/build_solvents.py
+
+clean:
+	rm -rf $(VENV) $(OUT) build *.egg-info

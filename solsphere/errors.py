@@ -1,0 +1,83 @@
+"""Errors a person can act on.
+
+Every problem with user input is raised as :class:`InputError` at the edge (reading a
+file, loading a project, parsing the command line). Its message names the place
+(file, line, column), what was found and what would fix it, on one line.
+"""
+
+from __future__ import annotations
+
+
+class SolsphereError(Exception):
+    """Base class for errors solsphere reports to the user (exit code 2)."""
+
+
+class InputError(SolsphereError, ValueError):
+    """Bad input: a file, a cell, an option.
+
+    Parameters
+    ----------
+    message : str
+        What was found and what was expected.
+    file : str or None, default=None
+        The file (or ``"<table>"`` for the app's table, ``"<command line>"``).
+    line : int or None, default=None
+        1-based line number in the file (the header is line 1).
+    column : int or str or None, default=None
+        1-based column number, or the column's name.
+    hint : str or None, default=None
+        What would fix it.
+    """
+
+    def __init__(self, message: str, file: str | None = None, line: int | None = None,
+                 column: int | str | None = None, hint: str | None = None):
+        self.message = message
+        self.file = file
+        self.line = line
+        self.column = column
+        self.hint = hint
+        super().__init__(self.__str__())
+
+    def where(self) -> str:
+        parts = []
+        if self.file is not None:
+            parts.append(str(self.file))
+        if self.line is not None:
+            parts.append(f"line {self.line}")
+        if self.column is not None:
+            parts.append(f"column {self.column}")
+        return ", ".join(parts)
+
+    def __str__(self) -> str:
+        text = " ".join(str(self.message).split())  # always one line
+        where = self.where()
+        out = f"{where}: {text}" if where else text
+        if self.hint:
+            out += f" Fix: {' '.join(str(self.hint).split())}"
+        return out
+
+    def to_dict(self) -> dict:
+        return {"error": str(self), "file": self.file, "line": self.line,
+                "column": self.column, "message": self.message, "hint": self.hint}
+
+
+class UnknownSolventError(InputError):
+    """A solvent name that the library does not know; carries close suggestions."""
+
+    def __init__(self, name: str, suggestions: list[str] | tuple[str, ...] = (), **where):
+        self.name = name
+        self.suggestions = list(suggestions)[:3]
+        msg = f"unknown solvent {name!r}."
+        if self.suggestions:
+            msg += " Did you mean " + ", ".join(repr(s) for s in self.suggestions) + "?"
+        where.setdefault("hint", "use a library name, CAS number or abbreviation, "
+                                 "or give the solvent's own dD, dP, dH columns")
+        super().__init__(msg, **where)
+
+
+class FitError(SolsphereError):
+    """The sphere cannot be bounded by these results (e.g. no bad results)."""
+
+
+class NotFittedError(SolsphereError, AttributeError):
+    """A model was used before ``fit``."""
