@@ -1,0 +1,293 @@
+"""Low-level file helpers shared by the readers and writers.
+
+Reading: :func:`read_text` checks the path (missing, a folder, too big), decodes the
+bytes (:func:`decode`: UTF-8, UTF-8 with BOM, UTF-16/UTF-32 with BOM, BOM-less UTF-16
+by its zero bytes), refuses binary files (a spreadsheet workbook saved as ``.csv`` by
+mistake, a PDF ...) and normalises line endings (:func:`normalise_newlines`:
+``\\r\\n`` and lone ``\\r`` become ``\\n``). Every problem is an
+:class:`~solsphere.errors.InputError` naming the file.
+
+Writing: :func:`atomic_write_text` writes a temporary file in the same folder, flushes
+and ``fsync``-s it, then renames it over the target with :func:`os.replace`, so the
+target is either the old file or the complete new one, never a half-written mix.
+"""
+
+from __future__ import annotations
+
+import errno
+import os
+import stat
+import tempfile
+from pathlib import Path
+
+from solsphere.errors import InputError
+
+#: Largest file :func:`read_text` accepts by default [bytes] (5 MB).
+MAX_BYTES = 5_000_000
+#: Longest single field (cell) the table readers accept [characters].
+MAX_FIELD = 10_000
+
+_UTF8_HINT = ("save the file as UTF-8 (Excel: 'CSV UTF-8'; LibreOffice: character set "
+              "'Unicode (UTF-8)')")
+
+# (signature, what it is) for binary files people save or rename as .csv by mistake.
+_SIGNATURES = (
+    (b"PK\x03\x04", "a zipped workbook (.xlsx or .ods)"),
+    (b"\xd0\xcf\x11\xe0", "an old Excel workbook (.xls)"),
+    (b"%PDF", "a PDF document"),
+    (b"\x89PNG", "a PNG image"),
+    (b"\xff\xd8\xff", "a JPEG image"),
+    (b"\x1f\x8b", "a gzip archive"),
+)
+
+
+def _label(path) -> str:
+    """The path as the user gave it (for messages)."""
+    return os.fspath(path) if isinstance(path, (str, os.PathLike)) else str(path)
+
+
+def normalise_newlines(text: str) -> str:
+    r"""Turn Windows (``\r\n``) and old Mac (``\r``) line endings into ``\n``.
+
+    >>> normalise_newlines("a\r\nb\rc\n")
+    'a\nb\nc\n'
+    """
+    return text.replace("\r\n", "\n").replace("\r", "\n")
+
+
+def _position(data: bytes, offset: int) -> tuple[int, int]:
+    """1-based (line, column) of byte ``offset`` in ``data`` (counting bytes)."""
+    before = data[:offset]
+    line = before.count(b"\n") + 1
+    col = offset - (before.rfind(b"\n") + 1) + 1
+    return line, col
+
+
+def _guess_utf16(data: bytes) -> str | None:
+    """'utf-16-le' / 'utf-16-be' for BOM-less UTF-16 text of mostly ASCII, else None."""
+    head = data[:400]
+    head = head[: len(head) // 2 * 2]
+    if len(head) < 4:
+        return None
+    even, odd = head[0::2], head[1::2]
+    if odd.count(0) >= 0.9 * len(odd) and even.count(0) == 0:
+        return "utf-16-le"
+    if even.count(0) >= 0.9 * len(even) and odd.count(0) == 0:
+        return "utf-16-be"
+    return None
+
+
+def decode(data: bytes, file: str | None = None) -> str:
+    """Decode the bytes of a text file and normalise its line endings.
+
+    Parameters
+    ----------
+    data : bytes
+        The file's content.
+    file : str or None, default=None
+        Name used in error messages.
+
+    Returns
+    -------
+    text : str
+        The text without a byte order mark, with ``\\n`` line endings.
+
+    Raises
+    ------
+    InputError
+        Binary content (a workbook, an image, NUL bytes) or bytes that are not valid
+        in the detected encoding (the message gives the line and column).
+
+    Examples
+    --------
+    >>> decode("\\ufeffsolvent,outcome\\r\\n".encode("utf-8"))
+    'solvent,outcome\\n'
+    >>> decode("solvent\\toutcome\\n".encode("utf-16"))
+    'solvent\\toutcome\\n'
+    """
+    if data.startswith(b"\xef\xbb\xbf"):
+        encoding = "utf-8-sig"
+    elif data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):
+        encoding = "utf-32"
+    elif data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        encoding = "utf-16"
+    else:
+        for sig, what in _SIGNATURES:
+            if data.startswith(sig):
+                raise InputError(f"this is {what}, not a text table.", file=file,
+                                 hint="open it and save (or export) it as CSV, "
+                                      "then give that file")
+        encoding = _guess_utf16(data) or "utf-8"
+    try:
+        text = data.decode(encoding)
+    except UnicodeDecodeError as exc:
+        if encoding.startswith("utf-8"):
+            skip = 3 if encoding == "utf-8-sig" else 0
+            line, col = _position(data, exc.start)
+            if line == 1:
+                col -= skip
+            bad = data[exc.start:exc.start + 1].hex()
+            raise InputError(f"byte 0x{bad} is not valid UTF-8 text (the file may be "
+                             f"in a Windows or Mac code page).", file=file, line=line,
+                             column=col, hint=_UTF8_HINT) from None
+        raise InputError(f"the file starts like {encoding.upper()} text but is not valid "
+                         f"{encoding.upper()} ({exc.reason}).", file=file,
+                         hint=_UTF8_HINT) from None
+    text = text.lstrip("\ufeff").rstrip("\x1a")  # stray BOM; DOS end-of-file mark
+    if "\x00" in text:
+        line = text.count("\n", 0, text.index("\x00")) + 1
+        raise InputError("the file contains NUL bytes: it is binary, not a text table.",
+                         file=file, line=line,
+                         hint="save (or export) the data as CSV and give that file")
+    sample = text[:4096]
+    control = sum(1 for ch in sample if ord(ch) < 32 and ch not in "\t\n\r\f\v")
+    if sample and control > max(2, 0.01 * len(sample)):
+        raise InputError(f"the file looks binary ({control} control characters in the "
+                         f"first {len(sample)}), not a text table.", file=file,
+                         hint="save (or export) the data as CSV and give that file")
+    return normalise_newlines(text)
+
+
+def _size(n: int) -> str:
+    """Readable size: '5 MB', '12.3 kB', '7 bytes'."""
+    if n >= 1_000_000:
+        return f"{n / 1e6:.3g} MB"
+    if n >= 1000:
+        return f"{n / 1e3:.3g} kB"
+    return f"{n} bytes"
+
+
+def read_text(path, *, limit: int = MAX_BYTES) -> str:
+    """Read a text file with the checks every solsphere input goes through.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file. Error messages name it exactly as given.
+    limit : int, default=MAX_BYTES
+        Largest accepted size [bytes].
+
+    Returns
+    -------
+    text : str
+        Decoded text with ``\\n`` line endings (see :func:`decode`).
+
+    Raises
+    ------
+    InputError
+        Missing path, a folder, unreadable, larger than ``limit``, binary, or not
+        decodable.
+    """
+    label = _label(path)
+    p = Path(path)
+    try:
+        if not p.exists():
+            where = Path.cwd()
+            raise InputError("file not found.", file=label,
+                             hint=f"check the name and folder (relative paths start "
+                                  f"from {where})")
+        if p.is_dir():
+            raise InputError("this is a folder, not a file.", file=label,
+                             hint="give the path of the file inside it")
+        size = p.stat().st_size
+        if size > limit:
+            raise InputError(f"the file is {_size(size)}; the limit is {_size(limit)}.",
+                             file=label,
+                             hint="check that this is the right file; split it if it "
+                                  "really is this big")
+        with open(p, "rb") as fh:
+            data = fh.read(limit + 1)  # bounded even for devices and pipes
+    except InputError:
+        raise
+    except OSError as exc:
+        raise InputError(f"cannot read the file ({exc.strerror or exc}).", file=label,
+                         hint="check that it exists and that you may read it") from None
+    if len(data) > limit:
+        raise InputError(f"more than {_size(limit)} of data (the size limit).",
+                         file=label, hint="check that this is the right file")
+    return decode(data, file=label)
+
+
+def _write_bytes(fh, data: bytes) -> None:
+    """Write all of ``data`` to the open binary file ``fh`` (a seam for tests)."""
+    fh.write(data)
+
+
+def atomic_write_text(path, text: str, *, encoding: str = "utf-8") -> Path:
+    """Write ``text`` to ``path`` so that a crash never leaves a half-written file.
+
+    The text goes to a temporary file in the target's folder, is flushed and
+    ``fsync``-ed, and then renamed over the target with :func:`os.replace` (atomic on
+    POSIX and Windows). If anything fails, the temporary file is removed and the old
+    target is left exactly as it was. A symbolic link is written through (its target
+    is replaced, the link stays). An existing target keeps its permission bits.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        Target file.
+    text : str
+        Content; written as is (no newline translation).
+    encoding : str, default="utf-8"
+
+    Returns
+    -------
+    path : pathlib.Path
+        The file written.
+
+    Raises
+    ------
+    InputError
+        The target is a folder, its folder does not exist, or the operating system
+        refused the write (permission, disk full ...). The old file is untouched.
+    """
+    label = _label(path)
+    p = Path(path)
+    if p.is_symlink():
+        p = Path(os.path.realpath(p))
+    if p.is_dir():
+        raise InputError("this is a folder; cannot save over it.", file=label,
+                         hint="give a file name, e.g. project.json")
+    folder = p.parent if str(p.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"the folder {str(folder)!r} does not exist.", file=label,
+                         hint="create the folder first or choose another place")
+    data = text.encode(encoding)
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise InputError(f"cannot write in this folder ({exc.strerror or exc}).",
+                         file=label, hint="choose a folder you may write to") from None
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            _write_bytes(fh, data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        try:
+            mode = stat.S_IMODE(p.stat().st_mode)
+        except FileNotFoundError:
+            mode = 0o644
+        os.chmod(tmp, mode)
+        os.replace(tmp, p)
+    except BaseException as exc:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        if isinstance(exc, OSError):
+            reason = exc.strerror or str(exc)
+            if exc.errno == errno.ENOSPC:
+                reason = "the disk is full"
+            raise InputError(f"could not save ({reason}); the previous file, if any, "
+                             f"is unchanged.", file=label,
+                             hint="free some space or choose another place") from None
+        raise
+    try:  # make the rename itself durable (POSIX; best effort)
+        dfd = os.open(folder, os.O_RDONLY)
+        try:
+            os.fsync(dfd)
+        finally:
+            os.close(dfd)
+    except OSError:
+        pass
+    return p

@@ -1,0 +1,994 @@
+"""Bench results: read, validate and resolve the trials a sphere is fitted to.
+
+A results file (CSV or TSV, see CONVENTIONS.md) has one row per trial::
+
+    solvent,outcome,dD,dP,dH,note
+    toluene,good,,,,clear after 1 h
+    ethanol,does not,,,,
+    toluene 70 + ethanol 30,partly,,,,swells
+    my resin thinner,good,17.1,4.2,6.0,own coordinates
+
+Each solvent cell is resolved once, here: a library name / synonym / CAS number /
+abbreviation (``library.lookup``), a blend tested as one trial (``toluene 70 +
+ethanol 30``: volume parts, placed at the volume-fraction weighted mean of its
+components, :func:`solsphere.hsp.mix`), or the user's own solvent with its own
+``dD, dP, dH``. Own coordinates given for a known solvent override the library.
+
+Error convention
+----------------
+Every problem is an :class:`~solsphere.errors.InputError` on one line with
+
+- ``file``: the path exactly as given (``"<table>"`` for the app's table);
+- ``line``: the 1-based physical line of the file, the header being line 1 when
+  nothing precedes it (blank and ``#`` comment lines count, as in an editor); for the
+  app's table, the row index + 1;
+- ``column``: the column's **name** (``"solvent"``, ``"outcome"``, ``"dD"``, ``"dP"``,
+  ``"dH"``, ``"note"``; for header problems, the header cell as written), so the app
+  can mark the cell whatever the column order;
+- a message saying what was found and what was expected, and a hint saying how to fix
+  it.
+
+:func:`read` raises the first problem (in line order) and says how many more follow;
+:func:`validate_rows` returns all of them next to the rows that are fine.
+
+Partial results
+---------------
+Trials keep ``"partial"`` as read. The documented default for turning them into a
+yes/no answer (:meth:`Trials.binary`) is :data:`DEFAULT_PARTIAL` = ``"good"``: partial
+dissolution or swelling means a strong interaction, so the sphere should include it
+(common practice, no source). The fit has its own ``partial`` setting.
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import math
+import re
+from dataclasses import dataclass, field
+from typing import Any, Iterable, Iterator, Protocol
+
+import numpy as np
+
+from solsphere import hsp
+from solsphere.errors import InputError, UnknownSolventError
+from solsphere.fileio import MAX_FIELD, read_text as _read_file_text
+
+__all__ = ["Trial", "Trials", "read", "read_text", "from_rows", "validate_rows",
+           "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
+           "COLUMNS", "MAX_COORDINATE"]
+
+#: Canonical outcomes.
+OUTCOMES = ("good", "bad", "partial")
+#: Words shown to people for each outcome (CONVENTIONS.md).
+DISPLAY = {"good": "dissolves", "partial": "partly", "bad": "does not"}
+#: How :meth:`Trials.binary` counts a partial result unless told otherwise.
+DEFAULT_PARTIAL = "good"
+#: The columns of a results file, in the order they are written.
+COLUMNS = ("solvent", "outcome", "dD", "dP", "dH", "note")
+#: Largest accepted coordinate [MPa½]. No liquid comes close: water's δH, the largest
+#: of the common solvents, is about 42 MPa½ (Hansen handbook, 2007; from memory).
+MAX_COORDINATE = 60.0
+#: Accepted outcome words (compared after lower-casing and collapsing spaces).
+OUTCOME_WORDS = {
+    "good": ("good", "1", "yes", "y", "true", "soluble", "dissolves", "dissolved",
+             "dissolve", "+"),
+    "bad": ("bad", "0", "no", "n", "false", "insoluble", "does not", "does not dissolve",
+            "doesn't", "doesn't dissolve", "not soluble", "-"),
+    "partial": ("partial", "partly", "partially", "swells", "swollen", "0.5"),
+}
+_WORD_TO_OUTCOME = {w: k for k, words in OUTCOME_WORDS.items() for w in words}
+_COORDS = ("dD", "dP", "dH")
+_OVERRIDE = "+own override"
+_HEADER_ALIASES = {
+    "solvent": "solvent", "solvents": "solvent",
+    "outcome": "outcome", "outcomes": "outcome",
+    "dd": "dD", "dp": "dP", "dh": "dH",
+    "note": "note", "notes": "note", "comment": "note", "comments": "note",
+}
+_HEADER_EXAMPLE = "solvent,outcome,dD,dP,dH,note"
+# 1 (cal/cm³)½ = 2.0455 MPa½ (Hansen handbook, 2007, ch. 1; from memory).
+_CAL_TO_MPA = 2.0455
+
+
+class LibraryLike(Protocol):
+    """What trials need from a library (see :mod:`solsphere.library`)."""
+
+    def lookup(self, text: str): ...
+
+    def find(self, text: str): ...
+
+
+# --------------------------------------------------------------------------- records
+
+
+@dataclass
+class Trial:
+    """One bench result, resolved to a point in Hansen space.
+
+    Attributes
+    ----------
+    name : str
+        Display name: the library's name, the user's text for an own solvent, or a
+        blend label such as ``"toluene 70 + ethanol 30"``.
+    text : str
+        The solvent cell as written.
+    outcome : {"good", "bad", "partial"}
+    dD, dP, dH : float
+        Resolved coordinates [MPa½].
+    source : str
+        ``"library"``, ``"own"``, ``"blend"``, ``"library+own override"`` or
+        ``"blend+own override"`` (own coordinates given for a blend).
+    components : tuple of (str, float)
+        For blends: (library name, volume fraction) pairs, fractions summing to 1;
+        ``()`` otherwise.
+    cas : str or None
+    note : str
+    line : int
+        1-based line of the file (row index + 1 for the app's table).
+    solvent : Solvent or None
+        The library record (None for own solvents and blends).
+    """
+
+    name: str
+    text: str
+    outcome: str
+    dD: float
+    dP: float
+    dH: float
+    source: str
+    components: tuple = ()
+    cas: str | None = None
+    note: str = ""
+    line: int = 0
+    solvent: Any = None
+
+    @property
+    def point(self) -> tuple[float, float, float]:
+        return (self.dD, self.dP, self.dH)
+
+    @property
+    def own_coordinates(self) -> bool:
+        """True when the coordinates came from the user's dD, dP, dH cells."""
+        return self.source == "own" or self.source.endswith(_OVERRIDE)
+
+    @property
+    def identity(self) -> tuple:
+        """What makes two trials "the same solvent" (duplicate detection)."""
+        if self.components:
+            return ("blend", tuple(sorted((n.casefold(), round(f, 9))
+                                          for n, f in self.components)))
+        if self.cas:
+            return ("cas", self.cas)
+        return ("name", " ".join(self.name.split()).casefold())
+
+    def to_row(self) -> dict:
+        """The file columns of this trial (coordinates only where the user gave them)."""
+        own = self.own_coordinates
+        return {"solvent": self.text, "outcome": self.outcome,
+                "dD": self.dD if own else None, "dP": self.dP if own else None,
+                "dH": self.dH if own else None, "note": self.note}
+
+    def to_dict(self) -> dict:
+        """JSON-safe dict: the file columns plus the resolved values."""
+        d = self.to_row()
+        d.update({"line": self.line, "name": self.name, "source": self.source,
+                  "resolved": [self.dD, self.dP, self.dH],
+                  "components": [[n, f] for n, f in self.components], "cas": self.cas})
+        return d
+
+
+@dataclass
+class Trials:
+    """The validated bench results of one material.
+
+    Attributes
+    ----------
+    trials : list of Trial
+    source : str
+        The file name as given, or ``"<table>"``.
+    warnings : list of str
+        Problems that did not stop reading (repeated rows, ignored columns ...), each
+        naming its file and line.
+    """
+
+    trials: list = field(default_factory=list)
+    source: str = "<table>"
+    warnings: list = field(default_factory=list)
+
+    def __len__(self) -> int:
+        return len(self.trials)
+
+    def __iter__(self) -> Iterator[Trial]:
+        return iter(self.trials)
+
+    def __getitem__(self, i) -> Trial:
+        return self.trials[i]
+
+    def __str__(self) -> str:
+        n = {k: sum(t.outcome == k for t in self.trials) for k in OUTCOMES}
+        out = (f"{len(self)} trials from {self.source}: {n['good']} dissolve, "
+               f"{n['partial']} partly, {n['bad']} do not")
+        if self.warnings:
+            out += f"; {len(self.warnings)} warning{'s' if len(self.warnings) > 1 else ''}"
+        return out
+
+    @property
+    def points(self) -> np.ndarray:
+        """Coordinates, ndarray of shape (n, 3) [MPa½]."""
+        return np.array([t.point for t in self.trials], dtype=float).reshape(-1, 3)
+
+    @property
+    def outcomes(self) -> list[str]:
+        return [t.outcome for t in self.trials]
+
+    @property
+    def names(self) -> list[str]:
+        return [t.name for t in self.trials]
+
+    def binary(self, partial: str = DEFAULT_PARTIAL) -> tuple[np.ndarray, np.ndarray, list[str]]:
+        """Points and a yes/no answer per trial.
+
+        Parameters
+        ----------
+        partial : {"good", "bad", "skip"}, default="good"
+            How to count partial results: as dissolving, as not dissolving, or left
+            out.
+
+        Returns
+        -------
+        points : ndarray of shape (m, 3)
+        good : ndarray of bool, shape (m,)
+        names : list of str, length m
+        """
+        if partial not in ("good", "bad", "skip"):
+            raise ValueError(f"partial must be 'good', 'bad' or 'skip'; found {partial!r}")
+        keep = [t for t in self.trials if not (partial == "skip" and t.outcome == "partial")]
+        points = np.array([t.point for t in keep], dtype=float).reshape(-1, 3)
+        good = np.array([t.outcome == "good" or (t.outcome == "partial" and partial == "good")
+                         for t in keep], dtype=bool)
+        return points, good, [t.name for t in keep]
+
+    def to_rows(self) -> list[dict]:
+        """Rows with the file columns (solvent, outcome, dD, dP, dH, note).
+
+        Coordinates are filled only where the user gave them (own solvents and
+        overrides), so :func:`from_rows` of the result gives the same trials.
+        """
+        return [t.to_row() for t in self.trials]
+
+    def to_csv(self) -> str:
+        """The trials as the text of a results file (comma-separated, header first)."""
+        import io
+        buf = io.StringIO()
+        w = csv.writer(buf, lineterminator="\n")
+        w.writerow(COLUMNS)
+        for r in self.to_rows():
+            w.writerow(["" if r[c] is None else (repr(r[c]) if isinstance(r[c], float)
+                                                  else r[c]) for c in COLUMNS])
+        return buf.getvalue()
+
+    def to_dict(self) -> dict:
+        """JSON-safe dict for the project file: rows plus resolved coordinates."""
+        return {"source": self.source, "warnings": list(self.warnings),
+                "rows": [t.to_dict() for t in self.trials]}
+
+    @classmethod
+    def from_dict(cls, data: dict, library: LibraryLike | None = None,
+                  file: str | None = None) -> "Trials":
+        """Rebuild trials saved by :meth:`to_dict`, re-validating every row.
+
+        Rows are checked exactly like a results file. The saved coordinates win, so a
+        project gives the same fit even if the library changes: when the library's
+        values differ, or a saved solvent is no longer in the library, the saved
+        coordinates are used and a warning says so.
+
+        Parameters
+        ----------
+        data : dict
+            Output of :meth:`to_dict`.
+        library : Library or None, default=None
+            None means :func:`solsphere.library.load_library`.
+        file : str or None, default=None
+            The project file, named in error messages.
+
+        Raises
+        ------
+        InputError
+            Wrong structure or types, or a row that does not validate.
+        """
+        label = file if file is not None else "<project>"
+        hint = ("the project file was edited or damaged: fix that entry, or make a new "
+                "project from the results file")
+
+        def bad(msg: str):
+            return InputError(f"trials: {msg}", file=label, hint=hint)
+
+        if not isinstance(data, dict):
+            raise bad(f"expected an object, found {_json_type(data)}")
+        for key, typ, tname in (("source", str, "a string"), ("warnings", list, "a list"),
+                                ("rows", list, "a list")):
+            if key not in data:
+                raise bad(f"missing key {key!r}")
+            if not isinstance(data[key], typ):
+                raise bad(f"{key!r} must be {tname}, found {_json_type(data[key])}")
+        if not all(isinstance(w, str) for w in data["warnings"]):
+            raise bad("'warnings' must be a list of strings")
+        source = data["source"]
+        records = []
+        for i, r in enumerate(data["rows"]):
+            where = f"rows[{i}]"
+            if not isinstance(r, dict):
+                raise bad(f"{where} must be an object, found {_json_type(r)}")
+            for key in ("solvent", "outcome", "line", "resolved"):
+                if key not in r:
+                    raise bad(f"{where} has no {key!r}")
+            for key in ("solvent", "outcome", "note"):
+                if key in r and not isinstance(r[key], str):
+                    raise bad(f"{where}.{key} must be a string, found {_json_type(r[key])}")
+            if not isinstance(r["line"], int) or isinstance(r["line"], bool) or r["line"] < 1:
+                raise bad(f"{where}.line must be a positive integer, found {r['line']!r}")
+            res = r["resolved"]
+            if (not isinstance(res, list) or len(res) != 3
+                    or not all(_is_number(v) and math.isfinite(v) for v in res)):
+                raise bad(f"{where}.resolved must be a list of 3 finite numbers, "
+                          f"found {res!r}")
+            for c in _COORDS:
+                v = r.get(c)
+                if v is not None and not _is_number(v):
+                    raise bad(f"{where}.{c} must be a number or null, found {v!r}")
+            cells = {k: r.get(k) for k in COLUMNS}
+            records.append((r["line"], cells, tuple(float(v) for v in res)))
+        lib = _get_library(library)
+        ctx = _Context(file=source, library=lib, decimal_comma=True,
+                       unit="row" if source == "<table>" else "line")
+        trials, errors = _collect(((ln, cells) for ln, cells, _ in records), ctx,
+                                  stored=[s for _, _, s in records])
+        if errors:
+            e = errors[0]
+            raise InputError(f"saved trial ({e.where()}): {e.message}", file=label,
+                             hint=e.hint or hint)
+        warnings = list(data["warnings"])
+        warnings += [w for w in ctx.warnings if w not in warnings]
+        return cls(trials=trials, source=source, warnings=warnings)
+
+
+# ---------------------------------------------------------------------- public readers
+
+
+def read(path, library: LibraryLike | None = None) -> Trials:
+    """Read a bench results file (CSV, TSV or semicolon-separated).
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file; error messages name it as given.
+    library : Library or None, default=None
+        Resolves solvent names. None means :func:`solsphere.library.load_library`.
+
+    Returns
+    -------
+    Trials
+
+    Raises
+    ------
+    InputError
+        The first problem in the file (see the module's error convention).
+    """
+    label = str(path)
+    return read_text(_read_file_text(path), source=label, library=library)
+
+
+def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None) -> Trials:
+    """Read bench results from the text of a results file.
+
+    Parameters
+    ----------
+    text : str
+        The whole file (any line endings; a leading BOM is ignored).
+    source : str, default="<text>"
+        Name used in messages.
+    library : Library or None, default=None
+        None means :func:`solsphere.library.load_library`.
+
+    Returns
+    -------
+    Trials
+
+    Raises
+    ------
+    InputError
+    """
+    text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
+    records, decimal_comma, header_warnings, header_line = _parse_table(text, source)
+    if not records:
+        raise InputError("the header is there but no trial rows follow it.", file=source,
+                         line=header_line + 1,
+                         hint="add one row per solvent tested, e.g. 'toluene,good'")
+    ctx = _Context(file=source, library=_get_library(library), decimal_comma=decimal_comma,
+                   unit="line", warnings=list(header_warnings))
+    trials, errors = _collect(records, ctx)
+    if errors:
+        raise _first(errors)
+    return Trials(trials=trials, source=source, warnings=ctx.warnings)
+
+
+def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,
+                  source: str = "<table>") -> tuple[Trials, list[InputError]]:
+    """Validate the app's table, keeping the rows that are fine.
+
+    Parameters
+    ----------
+    rows : list of dict
+        Keys ``solvent, outcome, dD, dP, dH, note`` (missing keys count as empty;
+        other keys are ignored). Values may be strings, numbers or None. Rows whose
+        cells are all empty are skipped.
+    library : Library or None, default=None
+        None means :func:`solsphere.library.load_library`.
+    source : str, default="<table>"
+
+    Returns
+    -------
+    trials : Trials
+        The valid rows (a repeated row is kept once; of two rows with conflicting
+        outcomes the first is kept).
+    errors : list of InputError
+        One per bad cell, with ``line`` = row index + 1 and ``column`` = the column
+        name. Empty when everything is fine.
+    """
+    ctx = _Context(file=source, library=_get_library(library), decimal_comma=True,
+                   unit="row")
+    records = []
+    for i, row in enumerate(rows):
+        if not isinstance(row, dict):
+            records.append((i + 1, InputError(f"row must be a mapping of column names to "
+                                              f"values, found {type(row).__name__}.",
+                                              file=source, line=i + 1)))
+            continue
+        cells = {}
+        for k, v in row.items():
+            key = k if k in COLUMNS else (_canon_header(str(k))[0] if isinstance(k, str) else None)
+            if key is not None:
+                cells[key] = v
+        records.append((i + 1, cells))
+    trials, errors = _collect(records, ctx)
+    return Trials(trials=trials, source=source, warnings=ctx.warnings), errors
+
+
+def from_rows(rows: Iterable[dict], library: LibraryLike | None = None,
+              source: str = "<table>") -> Trials:
+    """Validate the app's table like a file: raise the first problem.
+
+    Parameters and return value as :func:`validate_rows` (without the error list).
+
+    Raises
+    ------
+    InputError
+        The first bad cell (``line`` = row index + 1, ``column`` = column name), or an
+        empty table.
+    """
+    trials, errors = validate_rows(rows, library=library, source=source)
+    if errors:
+        raise _first(errors)
+    if not len(trials):
+        raise InputError("the table has no trials.", file=source,
+                         hint="add one row per solvent tested, with its outcome")
+    return trials
+
+
+def parse_outcome(text) -> str | None:
+    """Canonical outcome of a cell (``"good"``, ``"bad"``, ``"partial"``), None if unknown.
+
+    >>> parse_outcome(" Dissolves "), parse_outcome("does NOT"), parse_outcome("0,5")
+    ('good', 'bad', 'partial')
+    >>> parse_outcome("maybe") is None
+    True
+    """
+    if isinstance(text, bool):
+        return "good" if text else "bad"
+    if isinstance(text, (int, float)):
+        text = repr(float(text))
+    w = " ".join(str(text).strip().lower().replace("\u2019", "'").split()).rstrip(".!")
+    if w in _WORD_TO_OUTCOME:
+        return _WORD_TO_OUTCOME[w]
+    try:
+        v = float(w.replace(",", "."))
+    except ValueError:
+        return None
+    return {1.0: "good", 0.0: "bad", 0.5: "partial"}.get(v)
+
+
+# -------------------------------------------------------------------------- internals
+
+
+@dataclass
+class _Context:
+    file: str
+    library: Any
+    decimal_comma: bool
+    unit: str  # "line" (files) or "row" (the app's table)
+    warnings: list = field(default_factory=list)
+
+    def warn(self, line: int | None, msg: str) -> None:
+        where = self.file if line is None else f"{self.file}, {self.unit} {line}"
+        self.warnings.append(f"{where}: {msg}")
+
+    def error(self, msg: str, line: int | None, column: str | None,
+              hint: str | None = None) -> InputError:
+        return InputError(msg, file=self.file, line=line, column=column, hint=hint)
+
+
+class _CellProblem(Exception):
+    def __init__(self, message: str, hint: str | None = None):
+        super().__init__(message)
+        self.message, self.hint = message, hint
+
+
+def _get_library(library):
+    if library is not None:
+        return library
+    from solsphere.library import load_library
+    return load_library()
+
+
+def _json_type(v) -> str:
+    return {dict: "an object", list: "a list", str: "a string", bool: "true/false",
+            type(None): "null"}.get(type(v), "a number" if _is_number(v) else type(v).__name__)
+
+
+def _is_number(v) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool)
+
+
+def _first(errors: list[InputError]) -> InputError:
+    """The first error, telling how many more there are."""
+    e = errors[0]
+    more = len(errors) - 1
+    if more:
+        e.message = f"{e.message.rstrip()} ({more} more problem{'s' if more > 1 else ''} " \
+                    f"after this one.)"
+        e.args = (str(e),)
+    return e
+
+
+def _text(v) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, float) and v.is_integer():
+        return str(int(v))
+    return str(v).strip()
+
+
+def _empty(v) -> bool:
+    return v is None or (isinstance(v, str) and not v.strip())
+
+
+_NUMBER = re.compile(r"^[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?$")
+
+
+def _parse_number(raw, decimal_comma: bool) -> float:
+    """A float from a cell; raises _CellProblem with a reason."""
+    if _is_number(raw):
+        return float(raw)
+    s = str(raw).strip().replace("\u2212", "-").replace(" ", "")
+    low = s.lower().lstrip("+-")
+    if low in ("nan", "inf", "infinity"):
+        raise _CellProblem(f"{raw!r} is not a finite number.", "write a number in MPa½")
+    if not _NUMBER.match(s):
+        raise _CellProblem(f"{str(raw).strip()!r} is not a number.",
+                           "write a number in MPa½, e.g. 17.8")
+    if "," in s:
+        if not decimal_comma:
+            raise _CellProblem(f"{str(raw).strip()!r} has a decimal comma, but this file "
+                               f"separates its columns with commas.",
+                               f"write {s.replace(',', '.')} with a decimal point, or save "
+                               f"the file with semicolons")
+        s = s.replace(",", ".")
+    return float(s)
+
+
+def _coordinate(raw, name: str, decimal_comma: bool) -> float:
+    v = _parse_number(raw, decimal_comma)
+    if not math.isfinite(v):
+        raise _CellProblem(f"{name} {raw!r} is not a finite number.", "write a number in MPa½")
+    if v < 0:
+        raise _CellProblem(f"{name} is {v:g}, but Hansen parameters cannot be negative.",
+                           "check the sign and the column")
+    if v > MAX_COORDINATE:
+        raise _CellProblem(f"{name} is {v:g} MPa½, above {MAX_COORDINATE:g} (no solvent "
+                           f"comes close).", "check the units (MPa½) and the column")
+    return v
+
+
+# ----------------------------------------------------------------------- header/table
+
+
+def _canon_header(raw: str) -> tuple[str | None, str]:
+    """(canonical column name or None, unit text) of a header cell."""
+    low = raw.replace("\ufeff", "").strip().lower()
+    unit = ""
+    m = re.match(r"^(.*?)\s*[\(\[](.*)[\)\]]\s*$", low)
+    if m and m.group(1):
+        low, unit = m.group(1), m.group(2).strip()
+    else:
+        m = re.match(r"^(.*?)\s*[/,]?\s*(\(?\s*(?:mpa|j\s*/|j\s*cm|cal).*)$", low)
+        if m and m.group(1):
+            low, unit = m.group(1), m.group(2).strip()
+    key = low.replace("δ", "d").replace("delta", "d")
+    key = re.sub(r"[\s_\-.]", "", key)
+    return _HEADER_ALIASES.get(key), unit
+
+
+def _simplify(raw: str) -> str:
+    return re.sub(r"[\s_\-.]", "", raw.strip().lower())
+
+
+def _sniff(header: str, file: str, line: int) -> str:
+    bare = re.sub(r'"[^"]*"', "", header)
+    counts = {sep: bare.count(sep) for sep in ("\t", ";", ",")}
+    best = max(counts, key=counts.__getitem__)
+    if counts[best] == 0:
+        raise InputError(f"the header {header.strip()[:60]!r} has a single column; need at "
+                         f"least 'solvent' and 'outcome'.", file=file, line=line,
+                         hint=f"separate the column names with commas, tabs or semicolons: "
+                              f"{_HEADER_EXAMPLE}")
+    return best
+
+
+def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list[str | None]:
+    canon: list[str | None] = []
+    seen: dict[str, str] = {}
+    unknown: list[str] = []
+    for raw in cells:
+        name = raw.replace("\ufeff", "").strip()
+        if not name:
+            canon.append(None)
+            continue
+        key, unit = _canon_header(name)
+        if key is None:
+            canon.append(None)
+            unknown.append(name)
+            continue
+        if key in _COORDS and unit:
+            u = unit.replace(" ", "")
+            if "cal" in u:
+                raise InputError(f"column {name!r} is in (cal/cm³)½; solsphere works in "
+                                 f"MPa½.", file=file, line=line, column=name,
+                                 hint=f"multiply the values by {_CAL_TO_MPA} and rename the "
+                                      f"column {key}")
+            if not ("mpa" in u or "j/cm" in u or "j cm" in u):
+                warnings.append(f"{file}, line {line}: unit {unit!r} of column {name!r} not "
+                                f"recognised; its values are read as MPa½")
+        if key in seen:
+            raise InputError(f"columns {seen[key]!r} and {name!r} are both read as {key!r}.",
+                             file=file, line=line, column=name,
+                             hint="rename or delete one of them")
+        seen[key] = name
+        canon.append(key)
+    missing = [k for k in ("solvent", "outcome") if k not in seen]
+    known = {"solvent": "solvent", "outcome": "outcome", "note": "note",
+             "dd": "dD", "dp": "dP", "dh": "dH"}
+    for name in unknown:
+        close = difflib.get_close_matches(_simplify(name), ["solvent", "outcome"], n=1,
+                                          cutoff=0.7)
+        if close and close[0] in missing:
+            raise InputError(f"column {name!r} is not a column solsphere knows; did you "
+                             f"mean {close[0]!r}?", file=file, line=line, column=name,
+                             hint=f"rename the column to {close[0]}")
+        near = difflib.get_close_matches(_simplify(name), list(known), n=1, cutoff=0.7)
+        guess = f" (did you mean {known[near[0]]!r}?)" if near else ""
+        warnings.append(f"{file}, line {line}: column {name!r} ignored{guess}; solsphere "
+                        f"reads {', '.join(COLUMNS)}")
+    if missing:
+        found = ", ".join(repr(c.strip()) for c in cells if c.strip()) or "nothing"
+        if any(parse_outcome(c) for c in cells if c.strip()):
+            msg = (f"the first line looks like data ({found}), not a header naming the "
+                   f"columns.")
+        else:
+            msg = f"no {missing[0]!r} column (found {found})."
+        raise InputError(msg, file=file, line=line,
+                         hint=f"make the first line a header such as {_HEADER_EXAMPLE}")
+    return canon
+
+
+def _parse_table(text: str, file: str):
+    """Split a results file into (line, cells-by-column) records.
+
+    Returns (records, decimal_comma, warnings, header_line); a record may be
+    (line, InputError) for a line that cannot be split into the header's columns.
+    """
+    physical = text.split("\n")
+    kept = [(i + 1, s) for i, s in enumerate(physical)
+            if s.strip() and not s.lstrip().startswith("#")]
+    if not kept:
+        what = "empty" if not text.strip() else "only comments"
+        raise InputError(f"the file is {what}; expected a header row and one row per trial.",
+                         file=file, line=None,
+                         hint=f"start with a header such as {_HEADER_EXAMPLE}, then one "
+                              f"row per solvent tested")
+    declared = re.match(r'^\s*"?sep=(.)"?\s*$', kept[0][1], re.IGNORECASE)
+    if declared:  # a spreadsheet's "sep=;" first line names the separator
+        kept = kept[1:]
+        if not kept:
+            raise InputError("the file has only a 'sep=' line; expected a header row and "
+                             "one row per trial.", file=file, line=None,
+                             hint=f"add a header such as {_HEADER_EXAMPLE}")
+    header_line = kept[0][0]
+    sep = declared.group(1) if declared else _sniff(kept[0][1], file, header_line)
+    reader = csv.reader((s for _, s in kept), delimiter=sep, quotechar='"',
+                        skipinitialspace=True)
+    warnings: list[str] = []
+
+    def csv_problem(exc: csv.Error, line: int) -> InputError:
+        if "field larger" in str(exc):
+            return InputError(f"a cell is longer than {MAX_FIELD} characters.", file=file,
+                              line=line, hint="check for a missing closing quote")
+        return InputError(f"cannot split the line into cells ({exc}).", file=file,
+                          line=line, hint="check the quotes on this line")
+
+    try:
+        header = next(reader)
+    except csv.Error as exc:
+        raise csv_problem(exc, header_line) from None
+    columns = _read_header(header, file, header_line, warnings)
+    records: list = []
+    while True:
+        start = reader.line_num
+        try:
+            row = next(reader)
+        except StopIteration:
+            break
+        except csv.Error as exc:
+            records.append((kept[start][0], csv_problem(exc, kept[start][0])))
+            break
+        line = kept[start][0]
+        if not any(c.strip() for c in row):
+            continue
+        extra = [c for c in row[len(columns):] if c.strip()]
+        if extra:
+            hint = "put a value that contains the separator in double quotes"
+            if sep == ",":
+                hint += "; write decimals with a point (17.5), not a comma"
+            records.append((line, InputError(
+                f"{len(row)} cells but the header names {len(columns)} columns "
+                f"(extra: {extra[0][:40]!r}).", file=file, line=line, hint=hint)))
+            continue
+        cells = {key: row[i] for i, key in enumerate(columns) if key and i < len(row)}
+        records.append((line, cells))
+    return records, sep != ",", warnings, header_line
+
+
+# ------------------------------------------------------------------------- resolution
+
+
+def _collect(records: Iterable, ctx: _Context, stored: list | None = None):
+    """Parse records into trials; drop repeats; gather errors in line order."""
+    trials: list[Trial] = []
+    errors: list[InputError] = []
+    seen: dict[tuple, Trial] = {}
+    for i, (line, cells) in enumerate(records):
+        if isinstance(cells, InputError):
+            errors.append(cells)
+            continue
+        if all(_empty(v) for v in cells.values()):
+            continue
+        trial, errs = _parse_row(cells, line, ctx, stored[i] if stored else None)
+        if errs:
+            errors.extend(errs)
+            continue
+        key = trial.identity
+        first = seen.get(key)
+        if first is None:
+            seen[key] = trial
+            trials.append(trial)
+        elif first.outcome == trial.outcome:
+            ctx.warn(line, f"{trial.name} repeats {ctx.unit} {first.line} with the same "
+                           f"outcome; kept {ctx.unit} {first.line} only")
+        else:
+            u = ctx.unit
+            errors.append(ctx.error(
+                f"{trial.name} is listed twice with different outcomes: {u} {first.line} "
+                f"says {DISPLAY[first.outcome]}, {u} {line} says {DISPLAY[trial.outcome]}.",
+                line, "outcome", hint="re-test or keep one of the two rows"))
+    return trials, errors
+
+
+def _outcome_hint() -> str:
+    return "; ".join(f"{k}: {', '.join(v)}" for k, v in OUTCOME_WORDS.items())
+
+
+def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
+    """(Trial, []) or (None, [InputError, ...]) for one row."""
+    errors: list[InputError] = []
+
+    def bad(msg, column, hint=None):
+        errors.append(ctx.error(msg, line, column, hint))
+
+    for key in COLUMNS:
+        v = cells.get(key)
+        if isinstance(v, str) and len(v) > MAX_FIELD:
+            bad(f"the cell has {len(v)} characters; the limit is {MAX_FIELD}.", key,
+                "check for a missing closing quote or pasted junk")
+    if errors:
+        return None, errors
+    text = " ".join(_text(cells.get("solvent")).split())
+    note = _text(cells.get("note"))
+    raw_outcome = cells.get("outcome")
+    outcome = None
+    if _empty(raw_outcome):
+        bad("the outcome is empty.", "outcome", "write good, bad or partial (or dissolves, "
+                                                "does not, partly)")
+    else:
+        outcome = parse_outcome(raw_outcome)
+        if outcome is None:
+            bad(f"{_text(raw_outcome)!r} is not an outcome solsphere knows.", "outcome",
+                f"write one of: {_outcome_hint()}")
+    coords: dict[str, float] = {}
+    given = [c for c in _COORDS if not _empty(cells.get(c))]
+    coord_problem = False
+    for c in given:
+        try:
+            coords[c] = _coordinate(cells[c], c, ctx.decimal_comma)
+        except _CellProblem as p:
+            bad(f"{c}: {p.message}" if not p.message.startswith(c) else p.message, c, p.hint)
+            coord_problem = True
+    if 0 < len(given) < 3 and not coord_problem:
+        missing = [c for c in _COORDS if c not in given]
+        bad(f"only {', '.join(given)} given; own coordinates need all three of dD, dP, dH "
+            f"(missing {', '.join(missing)}).", missing[0],
+            f"fill in {', '.join(missing)}, or clear {', '.join(given)} to use the library "
+            f"values")
+        coord_problem = True
+    point = tuple(coords[c] for c in _COORDS) if len(coords) == 3 else None
+    resolved = None
+    if not text:
+        bad("the solvent cell is empty.", "solvent",
+            "write a solvent name, CAS number or abbreviation, or a blend such as "
+            "'toluene 70 + ethanol 30'")
+    elif not coord_problem:
+        try:
+            resolved = _resolve(text, point, ctx, line, stored)
+        except InputError as e:
+            errors.append(e)
+    if errors:
+        return None, errors
+    name, p, source, components, cas, solvent = resolved
+    if stored is not None and any(abs(a - b) > 1e-9 for a, b in zip(p, stored)):
+        ctx.warn(line, f"the library's values for {name} ({_fmt_point(p)}) differ from those "
+                       f"saved in the project ({_fmt_point(stored)}); using the saved ones")
+        p = stored
+    return Trial(name=name, text=text, outcome=outcome, dD=float(p[0]), dP=float(p[1]),
+                 dH=float(p[2]), source=source, components=components, cas=cas, note=note,
+                 line=line, solvent=solvent), []
+
+
+def _fmt_point(p) -> str:
+    return ", ".join(f"{v:.2f}" for v in p)
+
+
+def _suggestions(library, text: str) -> list[str]:
+    try:
+        library.lookup(text)
+    except UnknownSolventError as e:
+        return list(e.suggestions)
+    return []
+
+
+def _resolve(text: str, point, ctx: _Context, line: int, stored):
+    """(name, point, source, components, cas, solvent) for a solvent cell."""
+    lib = ctx.library
+    sol = lib.find(text)
+    if sol is not None:
+        if point is not None:
+            return sol.name, point, "library" + _OVERRIDE, (), sol.cas, sol
+        return sol.name, sol.point, "library", (), sol.cas, sol
+    if not text.replace("+", "").strip():
+        raise ctx.error(f"{text!r} is not a solvent: a lone '+'.", line, "solvent",
+                        "write a blend as 'toluene 70 + ethanol 30'")
+    problem = None
+    if len(_split_plus(text)) > 1:
+        try:
+            name, bp, components = _parse_blend(text, ctx, line)
+        except InputError as e:
+            if point is None and stored is None:
+                raise
+            problem = e
+        else:
+            if point is not None:
+                return name, point, "blend" + _OVERRIDE, components, None, None
+            return name, bp, "blend", components, None, None
+    if point is not None:
+        if problem is not None:
+            ctx.warn(line, f"{text!r} read as your own solvent with the coordinates given, "
+                           f"not as a blend ({problem.message.rstrip('.')})")
+        return text, point, "own", (), None, None
+    if stored is not None:
+        why = (f"no longer reads as a blend ({problem.message.rstrip('.')})" if problem
+               else "is not in this library")
+        ctx.warn(line, f"{text!r} {why}; using the coordinates saved in the project "
+                       f"({_fmt_point(stored)})")
+        return text, stored, "own", (), None, None
+    raise UnknownSolventError(text, _suggestions(lib, text), file=ctx.file, line=line,
+                              column="solvent")
+
+
+def _split_plus(text: str) -> list[str]:
+    """Split on '+' outside brackets (so '(+)-limonene' stays whole)."""
+    parts, depth, cur = [], 0, []
+    for ch in text:
+        if ch in "([{":
+            depth += 1
+        elif ch in ")]}":
+            depth = max(0, depth - 1)
+        if ch == "+" and depth == 0:
+            parts.append("".join(cur))
+            cur = []
+        else:
+            cur.append(ch)
+    parts.append("".join(cur))
+    return parts
+
+
+_NUM = r"-?(?:\d+(?:[.,]\d+)?|[.,]\d+)"
+_TRAIL = re.compile(rf"^(?P<name>.*\S)\s+(?P<num>{_NUM})\s*(?P<pct>%?)$")
+_LEAD = re.compile(rf"^(?P<num>{_NUM})\s*(?P<pct>%?)\s+(?P<name>\S.*)$")
+
+
+def _parse_blend(text: str, ctx: _Context, line: int):
+    """(label, point, components) of a blend cell such as 'toluene 70 + ethanol 30'."""
+    lib = ctx.library
+    example = "write each component with its volume part: 'toluene 70 + ethanol 30'"
+    pieces = [p.strip() for p in _split_plus(text)]
+    if any(not p for p in pieces):
+        raise ctx.error(f"blend {text!r} has a '+' with nothing on one side.", line,
+                        "solvent", example)
+    comps = []
+    for piece in pieces:
+        options = [m for m in (_TRAIL.match(piece), _LEAD.match(piece)) if m]
+        found = None
+        for m in options:
+            sol = lib.find(m["name"])
+            if sol is not None:
+                found = (sol, m)
+                break
+        if found is None:
+            if not options or lib.find(piece) is not None:
+                raise ctx.error(f"blend component {piece!r} has no volume part.", line,
+                                "solvent", example)
+            name = options[0]["name"]
+            err = UnknownSolventError(name, _suggestions(lib, name), file=ctx.file,
+                                      line=line, column="solvent",
+                                      hint="every component of a blend must be a library "
+                                           "solvent; or give the whole blend's own dD, dP, "
+                                           "dH")
+            err.message = f"in blend {text!r}: {err.message}"
+            err.args = (str(err),)
+            raise err
+        sol, m = found
+        num = m["num"]
+        if "," in num and not ctx.decimal_comma:
+            raise ctx.error(f"blend part {num!r} has a decimal comma, but this file "
+                            f"separates its columns with commas.", line, "solvent",
+                            f"write {num.replace(',', '.')}")
+        part = float(num.replace(",", "."))
+        if not part > 0:
+            raise ctx.error(f"blend part of {sol.name} is {part:g}; volume parts must be "
+                            f"positive.", line, "solvent",
+                            "leave a solvent out of the blend instead of giving it 0")
+        comps.append((sol, part, bool(m["pct"])))
+    names = [c[0].name.casefold() for c in comps]
+    for n in names:
+        if names.count(n) > 1:
+            twice = next(c[0].name for c in comps if c[0].name.casefold() == n)
+            raise ctx.error(f"{twice} appears twice in blend {text!r}.", line, "solvent",
+                            "give each solvent once, with its total volume part")
+    parts = np.array([c[1] for c in comps])
+    total = float(parts.sum())
+    if any(c[2] for c in comps) and abs(total - 100.0) > 0.01:
+        ctx.warn(line, f"the parts of blend {text!r} are given in % but sum to {total:g}, "
+                       f"not 100; read as volume parts")
+    point = hsp.mix([c[0].point for c in comps], parts)
+    fractions = parts / total
+    label = " + ".join(f"{c[0].name} {c[1]:g}" for c in comps)
+    components = tuple((c[0].name, float(f)) for c, f in zip(comps, fractions))
+    return label, tuple(float(v) for v in point), components
