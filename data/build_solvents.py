@@ -1,0 +1,601 @@
+#!/usr/bin/env python3
+"""Regenerate ``data/solvents.csv`` from the ``chemicals`` package.
+
+Run from the repository root (``make data`` does this)::
+
+    .venv/bin/python data/build_solvents.py          # writes data/solvents.csv
+    .venv/bin/python data/build_solvents.py --check  # rebuilds in memory, compares, writes nothing
+
+Only this script and the reference tests import ``chemicals``; the runtime reads the CSV.
+Hansen parameters come from the union of three compilations carried by
+``chemicals.solubility`` (see data/README.md for the references and the winner rule):
+``WDR_SCHRIER``, ``ALSHERI_HANSEN`` and ``MANUEL_RUBEN_2022``. The fourth table in that
+module (credited to a program on GitHub) is deliberately never read: its file is not
+loaded at all, and the module-level accessors that would load it are not touched.
+
+Every property records the chemicals method (or coefficient table) it came from in the
+``sources`` column, as ``field=METHOD;field=METHOD;...``. Output is sorted by CAS number
+(numerically), so the file is deterministic. The script also checks that every CAS in
+``data/aliases.csv`` is present and fails otherwise.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import math
+import re
+import sys
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+OUT = HERE / "solvents.csv"
+ALIASES = HERE / "aliases.csv"
+
+T25 = 298.15  # K
+P_ATM = 101.325  # kPa
+
+#: The three compilations, in priority order (highest first) for the winner rule.
+#: Tuple of (method name in chemicals.solubility, its data file in chemicals/Misc).
+COMPILATIONS = (
+    ("WDR_SCHRIER", "schrier_hansen_solubility_parameters.tsv"),
+    ("ALSHERI_HANSEN", "alshehri_hansen_solubility_parameters.tsv"),
+    ("MANUEL_RUBEN_2022", "ruben_manuel_hansen_solubility_parameters.tsv"),
+)
+#: Two compilations "agree" on a compound when all three parameters differ by at most this
+#: [MPa½]: twice the 0.1 MPa½ to which the tables are given (our own choice).
+AGREE_TOL = 0.2
+
+#: Entries set aside before the winner rule: rows that are verbatim copies of a different
+#: compound's row (found by comparing every row with every other compound's rows in the
+#: three tables; see data/README.md). The compound keeps its other compilations.
+SET_ASIDE = {
+    ("127-18-4", "ALSHERI_HANSEN"): "same row as 1,1,2,2-tetrachloroethane 79-34-5",
+    ("124-38-9", "ALSHERI_HANSEN"): "same row as formic acid 64-18-6",
+    ("141-43-5", "WDR_SCHRIER"): "same row as ethanol 64-17-5",
+}
+
+#: Estimation (group-contribution) methods that are skipped for Tb and Tm: the library
+#: holds tabulated values only, so that ``liquid`` is never decided by an estimate.
+ESTIMATES = {"JOBACK"}
+
+COLUMNS = (
+    "cas", "name", "synonyms", "dD", "dP", "dH", "spread", "compilations",
+    "mw", "molar_volume", "density", "boiling_point", "melting_point", "flash_point",
+    "vapour_pressure", "dielectric", "log_p", "twa_ppm", "twa_mg_m3", "carcinogen",
+    "liquid", "sources",
+)
+
+MAX_SYNONYMS = 6
+MAX_SYNONYM_LENGTH = 32
+# Registry / catalogue codes that PubChem lists as synonyms; not names a chemist types.
+_CODE = re.compile(r"^(nsc|un|ccris|hsdb|einecs|ec|ai3|brn|fema|caswell|epa|rcra|dot|ins|"
+                   r"chebi|unii|dtxsid|dtxcid|schembl|zinc|mfcd|nci|wln|cid|ncgc|akos|"
+                   r"bidd|ksc|ls|sbi|cas|beilstein|hms|smr|mls|spectrum|prestwick)\b")
+_CASLIKE = re.compile(r"^\d{2,7}-\d{2}-\d$")
+# FDA UNII codes (10 letters/digits) and short catalogue codes ("i794", "3br", "p067").
+_UNII = re.compile(r"^(?=[a-z0-9]*\d)(?=[a-z0-9]*[a-z])[a-z0-9]{10}$")
+_SHORTCODE = re.compile(r"^([a-z]{1,3}\d{2,4}|\d{1,2}[a-z]{1,3}|\d+vr)$")
+#: PubChem synonyms that are generic, isomer-ambiguous or name another substance (a
+#: polymer, a class); dropped so that they never resolve to one particular compound.
+BAD_SYNONYMS = {
+    "xylene", "diamine", "azine", "acetates", "isobutyrate", "dimethicone", "dimethicones",
+    "dimeticone", "dimeticonum", "dimeticona", "polysilane", "neoprene", "carbomer",
+    "formal", "hydrazines", "amylene", "n-amylene", "isopentenes", "pentene", "pentylene",
+    "hexylene", "heptylene", "nonylene", "decylene", "pentanone", "hexanone",
+    "trichloroethane", "dichloroethylene", "bromopropane", "nitropropane", "methylfuran",
+    "chlorohexane", "acetylphenol", "df", "disulfane", "pentanol-2", "butoxime",
+}
+
+
+def norm(text: str) -> str:
+    """Lookup key: casefold, keep letters and digits only (same rule as solsphere.library)."""
+    return re.sub(r"[\W_]+", "", str(text).casefold())
+
+
+def sig(x: float | None, digits: int = 10) -> float | None:
+    """Strip float noise (e.g. from K -> °C) while keeping the source's precision."""
+    if x is None:
+        return None
+    x = float(x)
+    if not math.isfinite(x):
+        return None
+    return float(f"{x:.{digits}g}")
+
+
+def fmt(x) -> str:
+    if x is None:
+        return ""
+    if isinstance(x, bool):
+        return "true" if x else "false"
+    if isinstance(x, float):
+        return repr(x)
+    return str(x)
+
+
+def _num(v) -> float | None:
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if math.isfinite(f) else None
+
+
+def cas_key(cas: str) -> tuple[int, int, int]:
+    a, b, c = cas.split("-")
+    return int(a), int(b), int(c)
+
+
+# --------------------------------------------------------------------------- Hansen values
+def load_compilations():
+    """Return {method: {cas: (dD, dP, dH) in MPa½}} for the three allowed compilations."""
+    import chemicals.solubility  # noqa: F401  (registers the data files)
+    from chemicals.data_reader import data_source
+
+    out = {}
+    for method, filename in COMPILATIONS:
+        df = data_source(filename)
+        table = {}
+        for cas, row in zip(df.index, df[["HANSEN_DELTA_D", "HANSEN_DELTA_P",
+                                          "HANSEN_DELTA_H"]].itertuples(index=False)):
+            vals = [_num(v) for v in row]
+            if any(v is None for v in vals):
+                continue
+            # Pa½ -> MPa½; the tables are given to 10 Pa½ (0.01 MPa½) at finest.
+            table[str(cas).strip()] = tuple(round(v / 1000.0, 2) for v in vals)
+        out[method] = table
+    return out
+
+
+def agree(a, b, tol: float = AGREE_TOL) -> bool:
+    return all(abs(x - y) <= tol + 1e-9 for x, y in zip(a, b))
+
+
+def choose(have: dict[str, tuple]) -> tuple[str, str]:
+    """Winner rule. ``have`` maps compilation -> point. Returns (winner, rule).
+
+    1. only one compilation lists the compound -> it ("only");
+    2. all listing compilations agree within AGREE_TOL -> the highest-priority one ("agree");
+    3. some compilation agrees with more others than any rival -> the highest-priority
+       member of that largest agreeing group ("majority");
+    4. otherwise the highest-priority compilation ("priority").
+    """
+    order = [m for m, _ in COMPILATIONS if m in have]
+    if len(order) == 1:
+        return order[0], "only"
+    support = {m: sum(agree(have[m], have[o]) for o in order if o != m) for m in order}
+    if all(v == len(order) - 1 for v in support.values()):
+        return order[0], "agree"
+    best = max(support.values())
+    if best > 0 and sum(v == best for v in support.values()) < len(order):
+        return next(m for m in order if support[m] == best), "majority"
+    return order[0], "priority"
+
+
+def spread_of(points) -> float | None:
+    """Largest difference between compilations on any one of dD, dP, dH [MPa½]."""
+    if len(points) < 2:
+        return None
+    return round(max(max(p[k] for p in points) - min(p[k] for p in points)
+                     for k in range(3)), 2)
+
+
+# --------------------------------------------------------------------------- identities
+def good_synonym(s: str) -> bool:
+    if not s or len(s) > MAX_SYNONYM_LENGTH or not s.isascii():
+        return False
+    if _CASLIKE.match(s) or _CODE.match(s) or _UNII.match(s) or _SHORTCODE.match(s):
+        return False
+    if s.casefold() in BAD_SYNONYMS or "@" in s:
+        return False
+    if any(ch in s for ch in "[]{}();:/"):
+        return False
+    if re.search(r",\s", s) or s.endswith("-"):  # inverted index names "benzene, methyl-"
+        return False
+    if re.search(r"\d{4,}", s):  # catalogue numbers
+        return False
+    return bool(re.search(r"[a-z]", s))
+
+
+def identity(cas: str):
+    """(name, [synonyms], mw) from chemicals.identifiers, or None if the CAS is not there."""
+    from chemicals.identifiers import check_CAS, search_chemical
+
+    if not check_CAS(cas):
+        return None
+    try:
+        meta = search_chemical(cas)
+    except ValueError:
+        return None
+    cands = [meta.common_name or ""] + [meta.iupac_name or ""] + list(meta.synonyms or [])
+    name = meta.common_name
+    if not name or _CASLIKE.match(name):
+        name = next((s for s in cands if good_synonym(s)), meta.iupac_name)
+    if not name:
+        return None
+    seen = {norm(name)}
+    syns = []
+    for s in cands:
+        s = s.strip()
+        k = norm(s)
+        if k in seen or not good_synonym(s):
+            continue
+        seen.add(k)
+        syns.append(s)
+        if len(syns) >= MAX_SYNONYMS:
+            break
+    return name, syns, sig(meta.MW)
+
+
+# --------------------------------------------------------------------------- properties
+def first_method(methods_fn, value_fn, cas, skip=()):
+    """First tabulated method chemicals offers (its own priority order), skipping some."""
+    for m in methods_fn(cas):
+        if m in skip:
+            continue
+        v = value_fn(cas, method=m)
+        if v is not None and (not isinstance(v, float) or math.isfinite(v)):
+            return v, m
+    return None, None
+
+
+def in_range(T, tmin, tmax):
+    tmin, tmax = _num(tmin), _num(tmax)
+    return (tmin is None or tmin <= T) and (tmax is None or T <= tmax)
+
+
+class Tables:
+    """The chemicals coefficient tables, loaded once (they are lazily loaded modules)."""
+
+    def __init__(self):
+        import chemicals.permittivity as E
+        import chemicals.vapor_pressure as P
+        import chemicals.volume as V
+        from chemicals import critical
+        self.V, self.P, self.E, self.critical = V, P, E, critical
+        self.perry_rho = V.rho_data_Perry_8E_105_l
+        self.vdi_rho = V.rho_data_VDI_PPDS_2
+        self.costald = V.rho_data_COSTALD
+        self.psat = [
+            ("WAGNER_MCGARRY", P.Psat_data_WagnerMcGarry),
+            ("WAGNER_POLING", P.Psat_data_WagnerPoling),
+            ("ANTOINE_EXTENDED_POLING", P.Psat_data_AntoineExtended),
+            ("ANTOINE_POLING", P.Psat_data_AntoinePoling),
+            ("DIPPR_PERRY_8E", P.Psat_data_Perrys2_8),
+            ("VDI_PPDS", P.Psat_data_VDI_PPDS_3),
+            ("LANDOLT", P.Psat_data_Landolt_Antoine),
+        ]
+        self.eps = E.permittivity_data_CRC
+
+    @staticmethod
+    def row(df, cas):
+        if cas not in df.index:
+            return None
+        r = df.loc[cas]
+        if getattr(r, "ndim", 1) > 1:  # duplicated index: take the first row
+            r = r.iloc[0]
+        return r
+
+    def molar_volume(self, cas, mw):
+        """Liquid molar volume at 25 °C [m³/mol] and the method used.
+
+        Order: DIPPR EQ105 fit (Perry's 8th ed. Table 2-32, within its range), VDI PPDS
+        saturated-liquid density fit (below Tc), COSTALD with the tabulated characteristic
+        volume and SRK acentric factor, COSTALD with critical volume and acentric factor,
+        Rackett with the critical compressibility. T above Tc gives None.
+        """
+        from chemicals.acentric import omega
+        from chemicals.dippr import EQ105
+        V, crit = self.V, self.critical
+        r = self.row(self.perry_rho, cas)
+        if r is not None and in_range(T25, r.Tmin, r.Tmax):
+            rho = EQ105(T25, r.C1, r.C2, r.C3, r.C4)  # mol/m³
+            if rho > 0:
+                return 1.0 / rho, "DIPPR_PERRY_8E"
+        r = self.row(self.vdi_rho, cas)
+        if r is not None and T25 < r.Tc and mw:
+            return V.volume_VDI_PPDS(T25, r.Tc, r.rhoc, r.A, r.B, r.C, r.D, mw), "VDI_PPDS"
+        Tc = crit.Tc(cas)
+        if Tc is None or not T25 < Tc:
+            return None, None
+        r = self.row(self.costald, cas)
+        if r is not None and _num(r.Vchar) and _num(r.omega_SRK) is not None:
+            return V.COSTALD(T25, Tc, r.Vchar, r.omega_SRK), "COSTALD (tabulated parameters)"
+        Vc, w = crit.Vc(cas), omega(cas)
+        if Vc and w is not None:
+            return V.COSTALD(T25, Tc, Vc, w), "COSTALD (Vc, omega)"
+        Pc, Zc = crit.Pc(cas), crit.Zc(cas)
+        if Pc and Zc:
+            return V.Rackett(T25, Tc, Pc, Zc), "RACKETT"
+        return None, None
+
+    def vapour_pressure(self, cas):
+        """Liquid vapour pressure at 25 °C [Pa]: first coefficient table valid at 298.15 K."""
+        from chemicals.dippr import EQ101
+        P = self.P
+        for method, df in self.psat:
+            r = self.row(df, cas)
+            if r is None:
+                continue
+            try:
+                if method == "WAGNER_MCGARRY":
+                    if not (r.Tmin <= T25 < r.Tc):
+                        continue
+                    v = P.Wagner_original(T25, r.Tc, r.Pc, r.A, r.B, r.C, r.D)
+                elif method in ("WAGNER_POLING",):
+                    if not (in_range(T25, r.Tmin, r.Tmax) and T25 < r.Tc):
+                        continue
+                    v = P.Wagner(T25, r.Tc, r.Pc, r.A, r.B, r.C, r.D)
+                elif method == "ANTOINE_EXTENDED_POLING":
+                    if not in_range(T25, r.Tmin, r.Tmax):
+                        continue
+                    v = P.TRC_Antoine_extended(T25, r.Tc, r.to, r.A, r.B, r.C, r.n, r.E, r.F)
+                elif method == "ANTOINE_POLING":
+                    if not in_range(T25, r.Tmin, r.Tmax):
+                        continue
+                    v = P.Antoine(T25, r.A, r.B, r.C, base=10.0)
+                elif method == "DIPPR_PERRY_8E":
+                    if not in_range(T25, r.Tmin, r.Tmax):
+                        continue
+                    v = EQ101(T25, r.C1, r.C2, r.C3, r.C4, r.C5)
+                elif method == "VDI_PPDS":
+                    if not (r.Tm <= T25 < r.Tc):
+                        continue
+                    v = P.Wagner(T25, r.Tc, r.Pc, r.A, r.B, r.C, r.D)
+                else:  # LANDOLT: Antoine in Pa and K with the natural exponential
+                    if not in_range(T25, r.Tmin, r.Tmax):
+                        continue
+                    v = P.Antoine(T25, r.A, r.B, r.C, base=math.e)
+            except (TypeError, ValueError, OverflowError, ZeroDivisionError):
+                continue
+            v = _num(v)
+            if v is not None and v > 0:
+                return v, method
+        return None, None
+
+    def dielectric(self, cas):
+        """Relative permittivity at 25 °C from the CRC table: its fit if valid at 298.15 K,
+        else its single tabulated value when measured within 5 K of 25 °C."""
+        r = self.row(self.eps, cas)
+        if r is None:
+            return None, None
+        if _num(r.A) is not None and _num(r.Tmin) is not None and in_range(T25, r.Tmin, r.Tmax):
+            coeffs = [_num(r[k]) or 0.0 for k in ("A", "B", "C", "D")]
+            return self.E.permittivity_CRC(T25, *coeffs), "CRC"
+        T, e = _num(r.T), _num(r.Permittivity)
+        if T is not None and e is not None and abs(T - T25) <= 5.0:
+            return e, f"CRC (at {T:g} K)"
+        return None, None
+
+
+def carcinogen_text(cas) -> str:
+    """Short text: IARC group 1/2A/2B and NTP 'known'/'reasonably anticipated' listings."""
+    from chemicals.safety import Carcinogen
+    d = Carcinogen(cas) or {}
+    parts = []
+    iarc = d.get("International Agency for Research on Cancer", "")
+    m = re.search(r"\((1|2A|2B)\)", iarc or "")
+    if m:
+        parts.append(f"IARC group {m.group(1)}")
+    ntp = d.get("National Toxicology Program 13th Report on Carcinogens", "")
+    if ntp in ("Known", "Reasonably Anticipated"):
+        parts.append("NTP " + ("known" if ntp == "Known" else "reasonably anticipated"))
+    return "; ".join(parts)
+
+
+def properties(cas, mw, tables):
+    from chemicals import environment, phase_change, safety
+    src = {}
+    out = {}
+
+    def put(field, value, method):
+        out[field] = value
+        if value is not None and method:
+            src[field] = method
+
+    Tb, m = first_method(phase_change.Tb_methods, phase_change.Tb, cas, ESTIMATES)
+    put("boiling_point", sig(Tb - 273.15) if Tb else None, m)
+    Tm, m = first_method(phase_change.Tm_methods, phase_change.Tm, cas, ESTIMATES)
+    put("melting_point", sig(Tm - 273.15) if Tm else None, m)
+    Tf, m = first_method(safety.T_flash_methods, safety.T_flash, cas)
+    put("flash_point", sig(Tf - 273.15) if Tf else None, m)
+
+    Vm, m = tables.molar_volume(cas, mw)
+    if Vm is not None and Vm > 0:
+        put("molar_volume", sig(Vm * 1e6), m)  # cm³/mol
+        if mw:
+            put("density", sig(mw / (Vm * 1e6)), m)  # g/cm³
+    else:
+        put("molar_volume", None, None)
+        put("density", None, None)
+
+    Ps, m = tables.vapour_pressure(cas)
+    put("vapour_pressure", sig(Ps / 1000.0) if Ps else None, m)  # kPa
+    eps, m = tables.dielectric(cas)
+    put("dielectric", sig(eps), m)
+    lp, m = first_method(environment.logP_methods, environment.logP, cas)
+    put("log_p", sig(lp), m)
+
+    # liquid at 25 °C: Tm < 25 °C < Tb. With one of them unknown, a liquid-phase vapour
+    # pressure correlation valid at 25 °C counts as evidence for the liquid (its range
+    # starts at or above the melting point), provided Psat < 1 atm (not a gas).
+    tb, tm, ps = out["boiling_point"], out["melting_point"], out["vapour_pressure"]
+    if tb is not None and tm is not None:
+        liquid = tm < 25.0 < tb
+    elif (tb is not None and tb <= 25.0) or (tm is not None and tm >= 25.0):
+        liquid = False
+    elif ps is not None and ps < P_ATM:
+        liquid = True
+    else:
+        liquid = None
+    out["liquid"] = liquid
+
+    # 8-hour TWA (chemicals.safety.TWA: the Ontario table). A ppm limit is also given in
+    # mg/m³ (converted at 25 °C, 1 atm); a limit given only in mg/m³ is not converted.
+    # chemicals derives ppm from mg/m³ itself where its table has only one; a limit for a
+    # mist/dust (named so in the table) is kept in mg/m³ only.
+    twa = safety.TWA(cas)
+    twa_ppm = twa_mg = None
+    entry = safety.Ontario_exposure_limits_dict.get(cas) or {}
+    aerosol = re.search(r"\b(mist|dust|fume|particulate|aerosol)", entry.get("Name", ""), re.I)
+    if twa and aerosol and entry.get("TWA (mg/m^3)"):
+        twa_mg = entry["TWA (mg/m^3)"]
+        src["twa_mg_m3"] = safety.TWA_methods(cas)[0] + f" ({aerosol.group(1).lower()})"
+    elif twa:
+        value, unit = twa
+        meth = safety.TWA_methods(cas)[0]
+        if unit == "ppm":
+            twa_ppm = value
+            src["twa_ppm"] = meth
+            if mw:
+                twa_mg = sig(safety.ppmv_to_mgm3(value, mw, T=T25))
+                src["twa_mg_m3"] = meth + " (ppm converted at 25 °C, 1 atm)"
+        else:
+            twa_mg = value
+            src["twa_mg_m3"] = meth
+    out["twa_ppm"] = sig(twa_ppm)
+    out["twa_mg_m3"] = sig(twa_mg)
+    out["carcinogen"] = carcinogen_text(cas)
+    if out["carcinogen"]:
+        src["carcinogen"] = "IARC+NTP"
+    return out, src
+
+
+# --------------------------------------------------------------------------- assembly
+def build(verbose: bool = True):
+    t0 = time.perf_counter()
+    comps = load_compilations()
+    all_cas = sorted(set().union(*[set(t) for t in comps.values()]), key=cas_key)
+    tables = Tables()
+    rows, dropped = [], []
+    stats = {}
+    for cas in all_cas:
+        ident = identity(cas)
+        if ident is None:
+            dropped.append(cas)
+            continue
+        name, syns, mw = ident
+        have = {m: comps[m][cas] for m, _ in COMPILATIONS if cas in comps[m]}
+        usable = {m: p for m, p in have.items() if (cas, m) not in SET_ASIDE}
+        winner, rule = choose(usable)
+        if len(usable) < len(have):
+            rule += ", " + " ".join(m for m in have if m not in usable) + " set aside"
+        stats[rule] = stats.get(rule, 0) + 1
+        dD, dP, dH = have[winner]
+        props, src = properties(cas, mw, tables)
+        sources = {"dD": winner, "dP": winner, "dH": winner, "hansen_rule": rule}
+        if mw:
+            sources["mw"] = "chemicals.identifiers"
+        sources.update(src)
+        rows.append({
+            "cas": cas, "name": name, "synonyms": syns, "dD": dD, "dP": dP, "dH": dH,
+            "spread": spread_of(list(have.values())),
+            "compilations": "|".join(have), "mw": mw, **props, "sources": sources,
+        })
+    _dedupe_names(rows)
+    _drop_ambiguous_synonyms(rows)
+    for r in rows:
+        r["synonyms"] = "|".join(r["synonyms"])
+        r["sources"] = ";".join(f"{k}={v}" for k, v in r["sources"].items())
+    if verbose:
+        n = len(rows)
+        print(f"compilations: " + ", ".join(f"{m} {len(comps[m])}" for m, _ in COMPILATIONS))
+        print(f"union {len(all_cas)} CAS; dropped {len(dropped)} not in chemicals.identifiers "
+              f"(no name): {' '.join(dropped)}")
+        print(f"kept {n}; winner rule: {stats}")
+        for f in ("liquid", "flash_point", "twa_ppm", "twa_mg_m3", "boiling_point",
+                  "melting_point", "molar_volume", "vapour_pressure", "dielectric", "log_p"):
+            k = sum(1 for r in rows if (r[f] is True if f == "liquid" else r[f] is not None))
+            print(f"  with {f}: {k}")
+        print(f"  carcinogen listed: {sum(1 for r in rows if r['carcinogen'])}")
+        print(f"  spread > 1 MPa½: {sum(1 for r in rows if (r['spread'] or 0) > 1)}")
+        print(f"  liquids with spread > 1 MPa½: "
+              f"{sum(1 for r in rows if r['liquid'] is True and (r['spread'] or 0) > 1)}")
+        print(f"build time {time.perf_counter() - t0:.1f} s")
+    return rows
+
+
+def _dedupe_names(rows):
+    """Two CAS whose names coincide after normalisation (stereo descriptors and
+    punctuation are dropped by it, e.g. "(+)-menthol" / "menthol"): the first (lowest
+    CAS) keeps the name, the others get " (CAS)" appended so every display name is unique
+    as a lookup key. A renamed compound keeps its original name as its first synonym (an
+    exact, unnormalised match still finds it) and loses the synonyms it shares with the
+    compound that kept the name."""
+    first = {}
+    for r in rows:
+        k = norm(r["name"])
+        if k in first:
+            kept = first[k]
+            shared = {s.casefold() for s in kept["synonyms"]}
+            original = r["name"]
+            r["name"] = f"{original} ({r['cas']})"
+            r["synonyms"] = [original] + [s for s in r["synonyms"]
+                                          if s.casefold() not in shared][:MAX_SYNONYMS - 1]
+        else:
+            first[k] = r
+
+
+def _drop_ambiguous_synonyms(rows):
+    """A synonym names one compound only: it is dropped when it is (casefolded) another
+    compound's name or a synonym of two compounds. Coincidences that appear only after
+    normalisation are left to the lookup's priority rule (names before synonyms)."""
+    names = {r["name"].casefold() for r in rows}
+    count = {}
+    for r in rows:
+        for s in r["synonyms"]:
+            count[s.casefold()] = count.get(s.casefold(), 0) + 1
+    for r in rows:
+        r["synonyms"] = [s for s in r["synonyms"]
+                         if count[s.casefold()] == 1 and s.casefold() not in names]
+
+
+def to_csv(rows) -> str:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(COLUMNS)
+    for r in rows:
+        w.writerow([fmt(r[c]) for c in COLUMNS])
+    return buf.getvalue()
+
+
+def check_aliases(rows) -> list[str]:
+    """Problems with data/aliases.csv: unknown CAS, duplicate alias, missing note."""
+    cas = {r["cas"] for r in rows}
+    problems, seen = [], set()
+    with open(ALIASES, newline="", encoding="utf-8") as fh:
+        for i, a in enumerate(csv.DictReader(fh), start=2):
+            if a["cas"] not in cas:
+                problems.append(f"aliases.csv line {i}: {a['alias']} -> {a['cas']} not in solvents.csv")
+            if norm(a["alias"]) in seen:
+                problems.append(f"aliases.csv line {i}: duplicate alias {a['alias']}")
+            seen.add(norm(a["alias"]))
+            if not a.get("note"):
+                problems.append(f"aliases.csv line {i}: empty note")
+    return problems
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--check", action="store_true",
+                    help="rebuild in memory and compare with data/solvents.csv; write nothing")
+    ap.add_argument("-q", "--quiet", action="store_true")
+    args = ap.parse_args(argv)
+    rows = build(verbose=not args.quiet)
+    text = to_csv(rows)
+    problems = check_aliases(rows) if ALIASES.exists() else ["data/aliases.csv missing"]
+    for p in problems:
+        print(p, file=sys.stderr)
+    if args.check:
+        same = OUT.exists() and OUT.read_text(encoding="utf-8") == text
+        print("solvents.csv is up to date" if same else "solvents.csv differs from a rebuild")
+        return 0 if same and not problems else 1
+    OUT.write_text(text, encoding="utf-8")
+    print(f"wrote {OUT} ({len(rows)} rows)")
+    return 1 if problems else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
