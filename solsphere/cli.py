@@ -1,0 +1,231 @@
+"""The ``solsphere`` command: a thin layer over the library.
+
+Every subcommand prints a human table by default and one JSON object with ``--json``.
+Exit codes: 0 success, 2 bad input or usage, 1 internal error (a bug).
+Heavy imports (plotly, dash, scipy) happen inside the subcommands so ``--help`` is instant.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from .errors import InputError, SolsphereError
+
+EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
+          "flammable and toxic: read each safety data sheet and work with ventilation and "
+          "protection; local regulations and licensed practice take precedence.")
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse with one-line errors (exit 2) naming the fix."""
+
+    def error(self, message):  # noqa: D401 - argparse API
+        self.exit(2, f"solsphere: error: <command line>: {message}. "
+                     f"Fix: see '{self.prog} --help'.\n")
+
+
+def _positive_int(text: str) -> int:
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, found {text!r}") from None
+    if v < 1:
+        raise argparse.ArgumentTypeError(f"expected a number ≥ 1, found {v}")
+    return v
+
+
+def _number(text: str) -> float:
+    try:
+        v = float(text.replace(",", "."))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number, found {text!r}") from None
+    if v != v or v in (float("inf"), float("-inf")):
+        raise argparse.ArgumentTypeError(f"expected a finite number, found {text!r}")
+    return v
+
+
+def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)"):
+    p.add_argument("file", metavar="FILE", help=what)
+    p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
+                   help="count 'partly' results as good, bad, or leave them out "
+                        "(default: good, or the project's setting)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+
+
+def _add_pool(p):
+    p.add_argument("--candidates", metavar="SHELF",
+                   help="CSV of the solvents you have (column 'solvent', optional dD,dP,dH); "
+                        "default: every library liquid")
+    p.add_argument("--top", type=_positive_int, default=20, help="how many to list (default 20)")
+    p.add_argument("--exclude", action="append", default=[], metavar="NAMES",
+                   help="leave these solvents out (comma-separated; repeatable)")
+    p.add_argument("--min-flash-point", type=_number, metavar="°C",
+                   help="only solvents with a known flash point at or above this")
+    p.add_argument("--max-boiling-point", type=_number, metavar="°C",
+                   help="only solvents boiling at or below this")
+    p.add_argument("--no-carcinogens", action="store_true",
+                   help="leave out solvents with a carcinogen classification")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="solsphere", epilog=EPILOG,
+                     description="Hansen solubility spheres from bench results: fit, rank "
+                                 "untried solvents, design blends, share an interactive map.")
+    parser.add_argument("--version", action="version", version=_version())
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    p = sub.add_parser("fit", help="fit the sphere to bench results", epilog=EPILOG)
+    _add_input(p)
+    p.add_argument("--save", metavar="PROJECT.json", help="save trials, settings and fit (atomic)")
+
+    p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
+    _add_input(p)
+    _add_pool(p)
+    p.add_argument("--include-tested", action="store_true", help="keep tested solvents in the list")
+
+    p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
+    _add_input(p)
+    _add_pool(p)
+    p.add_argument("--with-single", action="store_true",
+                   help="also list pairs whose best mix is one solvent alone")
+
+    p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
+    _add_input(p)
+    p.add_argument("-o", "--output", required=True, metavar="OUT.html", help="where to write it")
+    p.add_argument("--title", default=None, help="page title")
+
+    p = sub.add_parser("app", help="serve the interactive app in the browser", epilog=EPILOG)
+    p.add_argument("file", metavar="FILE", nargs="?", help="project or results file to open")
+    p.add_argument("--host", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
+    p.add_argument("--port", type=_positive_int, default=8050, help="port (default 8050)")
+    return parser
+
+
+def _version() -> str:
+    from . import __version__
+    return f"solsphere {__version__}"
+
+
+# ---------------------------------------------------------------- shared steps
+
+def load_session(args):
+    """Read FILE (results or project) and return (project, fit dict, library)."""
+    from .library import load_library
+    from .project import load_any
+    from .session import fit_project
+    lib = load_library()
+    project = load_any(args.file, library=lib)
+    fit = fit_project(project, partial=args.partial, library=lib)
+    return project, fit, lib
+
+
+def candidate_pool(args, lib, project):
+    from .session import candidate_pool as pool
+    return pool(lib, shelf=args.candidates, exclude=_split(args.exclude),
+                min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
+                exclude_carcinogens=args.no_carcinogens)
+
+
+def _split(values) -> list[str]:
+    out = []
+    for v in values or []:
+        out += [x.strip() for x in v.split(",") if x.strip()]
+    return out
+
+
+def _emit(args, obj, text: str):
+    if args.json:
+        print(json.dumps(obj, ensure_ascii=False, allow_nan=False))
+    else:
+        print(text)
+
+
+# ---------------------------------------------------------------- subcommands
+
+def cmd_fit(args) -> int:
+    project, fit, lib = load_session(args)
+    if args.save:
+        from .project import save
+        project.fit = fit.to_dict()
+        project.settings["partial"] = fit.partial
+        save(project, args.save)
+    text = str(fit)
+    if args.save and not args.json:
+        text += f"\nProject saved to {args.save}"
+    _emit(args, fit.to_dict(), text)
+    return 0
+
+
+def cmd_rank(args) -> int:
+    from .rank import rank_solvents
+    project, fit, lib = load_session(args)
+    pool, filters = candidate_pool(args, lib, project)
+    tested = set(project.trials.names) | {t.cas for t in project.trials if t.cas}
+    ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
+                            include_tested=args.include_tested, filters=filters)
+    _emit(args, ranking.to_dict(), str(ranking))
+    return 0
+
+
+def cmd_blend(args) -> int:
+    from .blend import screen_blends
+    project, fit, lib = load_session(args)
+    pool, filters = candidate_pool(args, lib, project)
+    screen = screen_blends(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top,
+                           only_blends=not args.with_single)
+    screen.filters.update(filters)
+    _emit(args, screen.to_dict(), str(screen))
+    return 0
+
+
+def cmd_share(args) -> int:
+    from .fileio import atomic_write_text
+    from .session import share_page
+    project, fit, lib = load_session(args)
+    page = share_page(project, fit, lib, title=args.title)
+    atomic_write_text(args.output, page)
+    _emit(args, {"output": args.output, "bytes": len(page.encode())},
+          f"Wrote {args.output} ({len(page.encode()) / 1e6:.1f} MB, self-contained, opens offline)")
+    return 0
+
+
+def cmd_app(args) -> int:
+    from app.server import serve
+    serve(args.file, host=args.host, port=args.port)
+    return 0
+
+
+COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
+            "app": cmd_app}
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not args.command:
+        parser.print_help()
+        return 2
+    try:
+        return COMMANDS[args.command](args)
+    except SolsphereError as exc:
+        print(f"solsphere: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("solsphere: interrupted", file=sys.stderr)
+        return 130
+    except BrokenPipeError:
+        return 0
+    except Exception as exc:  # a bug: say so in one line, keep the trace for developers
+        import os
+        import traceback
+        if os.environ.get("SOLSPHERE_DEBUG"):
+            traceback.print_exc()
+        print(f"solsphere: internal error (a bug, please report it): {type(exc).__name__}: {exc}. "
+              f"Set SOLSPHERE_DEBUG=1 to see the trace.", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

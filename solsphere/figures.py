@@ -1,0 +1,310 @@
+"""Plotly figures: the 3D map of Hansen space and its three 2D projections, and the
+standalone share file.
+
+Look (our own, see CONVENTIONS.md): ColorBrewer Dark2 colours; dissolves = teal filled
+circle, does not = burnt-orange x, partly = slate diamond, untried library solvents =
+small light-grey dots, blends = mustard line + open circle, the sphere = translucent grey
+surface with a thin mesh. The δD axis is drawn at twice the scale of δP and δH so the
+Hansen sphere (whose δD semi-axis is R0/2) looks round.
+
+The figures take plain dicts (``SphereFit.to_dict()``, ``Ranking.to_dict()``,
+``BlendScreen.to_dict()``), so the app can draw straight from its stored JSON.
+"""
+
+from __future__ import annotations
+
+import html
+import json
+
+import numpy as np
+
+STYLE = {
+    "good": {"color": "#1b9e77", "symbol": "circle", "label": "dissolves"},
+    "bad": {"color": "#d95f02", "symbol": "x", "label": "does not"},
+    "partial": {"color": "#7570b3", "symbol": "diamond", "label": "partly"},
+}
+UNTRIED = "#bbbbbb"
+BLEND = "#e6ab02"
+SPHERE = "#666666"
+MISFIT_RING = "#222222"
+AXIS = {"dD": "δD (MPa½)", "dP": "δP (MPa½)", "dH": "δH (MPa½)"}
+OUTCOME_WORD = {k: v["label"] for k, v in STYLE.items()}
+
+
+def _go():
+    import plotly.graph_objects as go  # imported lazily: keeps `solsphere --help` fast
+    return go
+
+
+def _hover(name, p, red=None, outcome=None, extra=None) -> str:
+    parts = [f"<b>{html.escape(str(name))}</b>",
+             f"δD {p[0]:.1f}  δP {p[1]:.1f}  δH {p[2]:.1f} MPa½"]
+    if red is not None:
+        parts.append(f"RED {red:.2f}")
+    if outcome:
+        parts.append(html.escape(OUTCOME_WORD.get(outcome, str(outcome))))
+    if extra:
+        parts.append(html.escape(str(extra)))
+    return "<br>".join(parts)
+
+
+def sphere_mesh(centre, R0: float, n: int = 28):
+    """Surface points of the Hansen sphere in real coordinates (δD semi-axis R0/2)."""
+    u = np.linspace(0, 2 * np.pi, n)
+    v = np.linspace(0, np.pi, n // 2 + 1)
+    x = centre[0] + (R0 / 2.0) * np.outer(np.cos(u), np.sin(v))
+    y = centre[1] + R0 * np.outer(np.sin(u), np.sin(v))
+    z = centre[2] + R0 * np.outer(np.ones_like(u), np.cos(v))
+    return x, y, z
+
+
+def _trial_groups(fit: dict):
+    for outcome in ("good", "partial", "bad"):
+        rows = [r for r in fit.get("table", []) if r.get("outcome") == outcome]
+        if rows:
+            yield outcome, rows
+
+
+def _blend_segments(blends: list[dict]):
+    """(segment xyz lists with None separators, blend points, hover texts)."""
+    xs, ys, zs, pts, texts = [], [], [], [], []
+    for b in blends:
+        comps = b.get("component_points")
+        if comps:
+            for k in range(len(comps)):
+                a, c = comps[k], comps[(k + 1) % len(comps)]
+                if len(comps) == 2 and k == 1:
+                    break
+                xs += [a[0], c[0], None]
+                ys += [a[1], c[1], None]
+                zs += [a[2], c[2], None]
+        p = (b["dD"], b["dP"], b["dH"])
+        pts.append(p)
+        label = " + ".join(f"{n} {100 * f:.0f}%" for n, f in zip(b["solvents"], b["volume_fractions"]))
+        texts.append(_hover(label, p, b.get("red")))
+    return xs, ys, zs, pts, texts
+
+
+def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | None = None,
+          cloud=None, paths: list[dict] | None = None, highlight: list[dict] | None = None,
+          show_untried: bool = True, height: int = 620):
+    """The 3D map: tested solvents by outcome, the sphere, untried points, blends.
+
+    Parameters
+    ----------
+    fit : dict
+        ``SphereFit.to_dict()``: needs dD, dP, dH, R0 and the per-trial ``table``.
+    untried : list of dict or None
+        Ranked candidates (``Ranking.to_dict()["solvents"]``) drawn as faint dots.
+    blends : list of dict or None
+        Blends (``BlendScreen.to_dict()["blends"]``) drawn as segments and points.
+    cloud : array-like of shape (m, 3) or None
+        Resampled sphere centres (uncertainty), drawn as a faint cloud.
+    paths : list of dict or None
+        Drying paths, each with ``points`` (m, 3) and a ``label``.
+    highlight : list of dict or None
+        Solvents to mark (e.g. one the user clicked), each with name, dD, dP, dH.
+    """
+    go = _go()
+    c = (fit["dD"], fit["dP"], fit["dH"])
+    R0 = fit["R0"]
+    fig = go.Figure()
+    x, y, z = sphere_mesh(c, R0)
+    fig.add_trace(go.Surface(x=x, y=y, z=z, opacity=0.15, showscale=False, name="sphere",
+                             colorscale=[[0, SPHERE], [1, SPHERE]], hoverinfo="skip",
+                             contours={"x": {"show": True, "color": SPHERE, "width": 1},
+                                       "y": {"show": True, "color": SPHERE, "width": 1}}))
+    fig.add_trace(go.Scatter3d(x=[c[0]], y=[c[1]], z=[c[2]], mode="markers", name="centre",
+                               marker={"size": 5, "color": SPHERE, "symbol": "cross"},
+                               hovertext=[_hover("sphere centre", c, extra=f"R0 {R0:.1f} MPa½")],
+                               hoverinfo="text"))
+    if untried and show_untried:
+        fig.add_trace(go.Scatter3d(
+            x=[s["dD"] for s in untried], y=[s["dP"] for s in untried],
+            z=[s["dH"] for s in untried], mode="markers", name="untried",
+            marker={"size": 2, "color": UNTRIED, "opacity": 0.5},
+            hovertext=[_hover(s["name"], (s["dD"], s["dP"], s["dH"]), s.get("red")) for s in untried],
+            hoverinfo="text"))
+    if cloud is not None and len(cloud):
+        cl = np.asarray(cloud, dtype=float)
+        fig.add_trace(go.Scatter3d(x=cl[:, 0], y=cl[:, 1], z=cl[:, 2], mode="markers",
+                                   name="resampled centres", hoverinfo="skip",
+                                   marker={"size": 1.5, "color": SPHERE, "opacity": 0.25}))
+    for outcome, rows in _trial_groups(fit):
+        st = STYLE[outcome]
+        misfit = [r.get("agrees") is False for r in rows]
+        fig.add_trace(go.Scatter3d(
+            x=[r["dD"] for r in rows], y=[r["dP"] for r in rows], z=[r["dH"] for r in rows],
+            mode="markers", name=st["label"],
+            marker={"size": 5, "color": st["color"], "symbol": st["symbol"]},
+            hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r.get("red"), outcome,
+                              "misfit" if m else None) for r, m in zip(rows, misfit)],
+            hoverinfo="text"))
+    # scatter3d takes one marker line width per trace, so misfits get their own ring trace
+    wrong = [r for r in fit.get("table", []) if r.get("agrees") is False]
+    if wrong:
+        fig.add_trace(go.Scatter3d(
+            x=[r["dD"] for r in wrong], y=[r["dP"] for r in wrong], z=[r["dH"] for r in wrong],
+            mode="markers", name="misfits",
+            marker={"size": 11, "color": MISFIT_RING, "symbol": "circle-open"},
+            hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r.get("red"),
+                              r.get("outcome"), "misfit") for r in wrong],
+            hoverinfo="text"))
+    if blends:
+        xs, ys, zs, pts, texts = _blend_segments(blends)
+        fig.add_trace(go.Scatter3d(x=xs, y=ys, z=zs, mode="lines", name="blend segments",
+                                   line={"color": BLEND, "width": 4}, hoverinfo="skip"))
+        fig.add_trace(go.Scatter3d(
+            x=[p[0] for p in pts], y=[p[1] for p in pts], z=[p[2] for p in pts],
+            mode="markers", name="blends", hovertext=texts, hoverinfo="text",
+            marker={"size": 6, "color": "rgba(0,0,0,0)", "symbol": "circle-open",
+                    "line": {"color": BLEND, "width": 3}}))
+    for path in paths or []:
+        p = np.asarray(path["points"], dtype=float)
+        fig.add_trace(go.Scatter3d(x=p[:, 0], y=p[:, 1], z=p[:, 2], mode="lines",
+                                   name=path.get("label", "drying path"),
+                                   line={"color": BLEND, "width": 3, "dash": "dot"},
+                                   hoverinfo="name"))
+    if highlight:
+        fig.add_trace(go.Scatter3d(
+            x=[h["dD"] for h in highlight], y=[h["dP"] for h in highlight],
+            z=[h["dH"] for h in highlight], mode="markers+text", name="picked",
+            text=[html.escape(h["name"]) for h in highlight], textposition="top center",
+            marker={"size": 7, "color": "rgba(0,0,0,0)", "symbol": "square-open",
+                    "line": {"color": "#333333", "width": 2}},
+            hovertext=[_hover(h["name"], (h["dD"], h["dP"], h["dH"]), h.get("red")) for h in highlight],
+            hoverinfo="text"))
+    fig.update_layout(scene=_scene(fit, untried if show_untried else None), height=height,
+                      margin={"l": 0, "r": 0, "t": 30, "b": 0}, legend={"itemsizing": "constant"},
+                      uirevision="map")
+    return fig
+
+
+def _ranges(fit: dict, extra: list[dict] | None):
+    pts = [(r["dD"], r["dP"], r["dH"]) for r in fit.get("table", [])]
+    c = np.array([fit["dD"], fit["dP"], fit["dH"]])
+    R0 = fit["R0"]
+    pts += [tuple(c - [R0 / 2, R0, R0]), tuple(c + [R0 / 2, R0, R0])]
+    a = np.array(pts, dtype=float)
+    lo, hi = a.min(axis=0), a.max(axis=0)
+    pad = np.maximum((hi - lo) * 0.05, 0.5)
+    return lo - pad, hi + pad
+
+
+def _scene(fit: dict, untried):
+    lo, hi = _ranges(fit, untried)
+    span = hi - lo
+    ratio = np.array([2 * span[0], span[1], span[2]])
+    ratio = ratio / ratio.max()
+    return {"xaxis": {"title": {"text": AXIS["dD"]}, "range": [lo[0], hi[0]]},
+            "yaxis": {"title": {"text": AXIS["dP"]}, "range": [lo[1], hi[1]]},
+            "zaxis": {"title": {"text": AXIS["dH"]}, "range": [lo[2], hi[2]]},
+            "aspectmode": "manual",
+            "aspectratio": {"x": float(ratio[0]), "y": float(ratio[1]), "z": float(ratio[2])}}
+
+
+PLANES = (("dP", "dH"), ("dD", "dP"), ("dD", "dH"))
+_IDX = {"dD": 0, "dP": 1, "dH": 2}
+
+
+def projections(fit: dict, blends: list[dict] | None = None, height: int = 340):
+    """The three 2D projections (δP–δH, δD–δP, δD–δH) with the sphere's outline.
+
+    In the planes with δD the δD axis is drawn at twice the scale, so the outline
+    (an ellipse with δD semi-axis R0/2) looks round.
+    """
+    go = _go()
+    from plotly.subplots import make_subplots
+    fig = make_subplots(rows=1, cols=3, horizontal_spacing=0.08,
+                        subplot_titles=[f"{AXIS[a][:2]}–{AXIS[b][:2]}" for a, b in PLANES])
+    c = np.array([fit["dD"], fit["dP"], fit["dH"]])
+    R0 = fit["R0"]
+    t = np.linspace(0, 2 * np.pi, 121)
+    semi = np.array([R0 / 2, R0, R0])
+    for k, (a, b) in enumerate(PLANES, start=1):
+        ia, ib = _IDX[a], _IDX[b]
+        fig.add_trace(go.Scatter(x=c[ia] + semi[ia] * np.cos(t), y=c[ib] + semi[ib] * np.sin(t),
+                                 mode="lines", line={"color": SPHERE, "width": 1.5},
+                                 fill="toself", fillcolor="rgba(102,102,102,0.10)",
+                                 hoverinfo="skip", showlegend=False, name="sphere"), row=1, col=k)
+        for outcome, rows in _trial_groups(fit):
+            st = STYLE[outcome]
+            fig.add_trace(go.Scatter(
+                x=[(r["dD"], r["dP"], r["dH"])[ia] for r in rows],
+                y=[(r["dD"], r["dP"], r["dH"])[ib] for r in rows], mode="markers",
+                name=st["label"], legendgroup=outcome, showlegend=(k == 1),
+                marker={"color": st["color"], "symbol": st["symbol"], "size": 8,
+                        "line": {"width": [2 if r.get("agrees") is False else 0 for r in rows],
+                                 "color": MISFIT_RING}},
+                hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r.get("red"), outcome)
+                           for r in rows], hoverinfo="text"), row=1, col=k)
+        if blends:
+            for bl in blends:
+                comps = bl.get("component_points") or []
+                if comps:
+                    cyc = comps + [comps[0]] if len(comps) > 2 else comps
+                    fig.add_trace(go.Scatter(x=[p[ia] for p in cyc], y=[p[ib] for p in cyc],
+                                             mode="lines", line={"color": BLEND, "width": 2},
+                                             hoverinfo="skip", showlegend=False), row=1, col=k)
+                p = (bl["dD"], bl["dP"], bl["dH"])
+                fig.add_trace(go.Scatter(x=[p[ia]], y=[p[ib]], mode="markers", showlegend=False,
+                                         marker={"symbol": "circle-open", "color": BLEND, "size": 10,
+                                                 "line": {"width": 2}}, hoverinfo="skip"),
+                              row=1, col=k)
+        fig.update_xaxes(title_text=AXIS[a], row=1, col=k)
+        fig.update_yaxes(title_text=AXIS[b], row=1, col=k,
+                         scaleanchor=f"x{k if k > 1 else ''}",
+                         scaleratio=(2.0 if a == "dD" else 1.0) * (0.5 if b == "dD" else 1.0))
+    fig.update_layout(height=height, margin={"l": 40, "r": 10, "t": 40, "b": 40},
+                      legend={"orientation": "h", "y": -0.25}, uirevision="proj")
+    return fig
+
+
+SHARE_TEMPLATE = """<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8">
+<title>{title}</title>
+<style>
+body {{ font-family: system-ui, sans-serif; margin: 1.5em auto; max-width: 1200px; color: #222; }}
+pre {{ background: #f6f6f4; padding: 1em; overflow-x: auto; font-size: 13px; }}
+.caution {{ border-left: 4px solid #e6ab02; padding: .5em 1em; background: #fffbea; }}
+</style>
+<script type="text/javascript">{plotlyjs}</script>
+</head><body>
+<h1>{title}</h1>
+<p class="caution">{caution}</p>
+<div id="map3d"></div>
+<div id="planes"></div>
+<h2>Fit report</h2>
+<pre>{report}</pre>
+{extra}
+<p class="caution">{caution}</p>
+<p><small>Made with solsphere {version}. Hansen parameters from published compilations (see the
+solvent library's README). Invented demo data are labelled as such.</small></p>
+<script type="text/javascript">
+var f3 = {fig3d};
+var f2 = {fig2d};
+Plotly.newPlot("map3d", f3.data, f3.layout, {{responsive: true, displaylogo: false}});
+Plotly.newPlot("planes", f2.data, f2.layout, {{responsive: true, displaylogo: false}});
+</script>
+</body></html>
+"""
+
+
+def _json_for_script(obj_json: str) -> str:
+    """Make JSON safe to embed inside <script> (no closing tag, no HTML comment)."""
+    return (obj_json.replace("<", "\\u003c").replace(">", "\\u003e")
+            .replace("&", "\\u0026").replace("\u2028", "\\u2028").replace("\u2029", "\\u2029"))
+
+
+def share_html(fig3d, fig2d, report: str, title: str = "Hansen solubility sphere",
+               extra_sections: list[tuple[str, str]] | None = None, caution: str = "") -> str:
+    """One self-contained HTML page (plotly.js inlined, no network) with both figures and
+    the plain-text report. All user text is HTML-escaped."""
+    from plotly.offline import get_plotlyjs
+    from . import __version__
+    extra = "".join(f"<h2>{html.escape(h)}</h2>\n<pre>{html.escape(body)}</pre>\n"
+                    for h, body in (extra_sections or []))
+    return SHARE_TEMPLATE.format(
+        title=html.escape(title), plotlyjs=get_plotlyjs(), caution=html.escape(caution),
+        report=html.escape(report), extra=extra, version=__version__,
+        fig3d=_json_for_script(fig3d.to_json()), fig2d=_json_for_script(fig2d.to_json()))

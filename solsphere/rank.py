@@ -1,0 +1,129 @@
+"""Untried solvents ranked by how close they sit to the fitted sphere.
+
+Every candidate (the library's liquids, or a user's shelf) gets its Hansen distance Ra
+and RED to the sphere; the table is sorted by RED with the safety facts a formulator
+checks before trying one (boiling point, flash point, exposure limit, hazard flags).
+A RED below 1 is a prediction, not a guarantee: confirm at the bench.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import hsp
+from .library import Solvent, hazard_flags
+
+CAUTION = ("Predictions are guides: confirm at the bench. Solvents are flammable and toxic: "
+           "read each safety data sheet, work with ventilation and protection; local "
+           "regulations and licensed practice take precedence.")
+
+
+@dataclass
+class RankedSolvent:
+    """One candidate with its distance to the sphere and its safety facts."""
+
+    solvent: Solvent
+    Ra: float
+    red: float
+    flags: list[str] = field(default_factory=list)
+    tested: bool = False
+
+    def to_dict(self) -> dict:
+        s = self.solvent
+        return {"name": s.name, "cas": s.cas, "dD": s.dD, "dP": s.dP, "dH": s.dH,
+                "Ra": self.Ra, "red": self.red, "inside": self.red <= 1.0,
+                "boiling_point": s.boiling_point, "flash_point": s.flash_point,
+                "twa_ppm": s.twa_ppm, "twa_mg_m3": s.twa_mg_m3, "carcinogen": s.carcinogen,
+                "spread": s.spread, "flags": list(self.flags), "tested": self.tested}
+
+
+@dataclass
+class Ranking:
+    """Candidates sorted by RED (smallest first)."""
+
+    solvents: list[RankedSolvent]
+    centre: tuple[float, float, float]
+    R0: float
+    n_candidates: int
+    filters: dict = field(default_factory=dict)
+
+    def to_dict(self) -> dict:
+        return {"centre": list(self.centre), "R0": self.R0, "n_candidates": self.n_candidates,
+                "filters": dict(self.filters),
+                "solvents": [r.to_dict() for r in self.solvents], "caution": CAUTION}
+
+    def __str__(self) -> str:
+        head = (f"Untried solvents nearest the sphere (centre {self.centre[0]:.1f}, "
+                f"{self.centre[1]:.1f}, {self.centre[2]:.1f}; R0 {self.R0:.1f} MPa½), "
+                f"{len(self.solvents)} of {self.n_candidates} candidates")
+        rows = [("solvent", "dD", "dP", "dH", "RED", "bp °C", "flash °C", "TWA ppm", "flags")]
+        for r in self.solvents:
+            s = r.solvent
+            rows.append((s.name[:32], f"{s.dD:.1f}", f"{s.dP:.1f}", f"{s.dH:.1f}",
+                         f"{r.red:.2f}", _num(s.boiling_point, 0), _num(s.flash_point, 0),
+                         _num(s.twa_ppm, 3, g=True), "; ".join(r.flags)))
+        return "\n".join([head, format_table(rows), CAUTION])
+
+
+def _num(x, digits: int, g: bool = False) -> str:
+    if x is None:
+        return "—"
+    return f"{x:.{digits}g}" if g else f"{x:.{digits}f}"
+
+
+def format_table(rows: list[tuple]) -> str:
+    """Left-aligned plain-text table; the first row is the header."""
+    widths = [max(len(str(r[i])) for r in rows) for i in range(len(rows[0]))]
+    lines = []
+    for k, r in enumerate(rows):
+        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)).rstrip())
+        if k == 0:
+            lines.append("  ".join("-" * w for w in widths))
+    return "\n".join(lines)
+
+
+def rank_solvents(candidates, centre, R0: float, top: int | None = None,
+                  tested: set[str] | frozenset = frozenset(), include_tested: bool = False,
+                  filters: dict | None = None) -> Ranking:
+    """Rank candidate solvents by RED to a sphere.
+
+    Parameters
+    ----------
+    candidates : sequence of Solvent
+        The pool (library liquids or a shelf), already filtered for safety limits.
+    centre : array-like of shape (3,)
+        Sphere centre (dD, dP, dH) [MPa½].
+    R0 : float
+        Sphere radius [MPa½].
+    top : int or None, default=None
+        Keep only the ``top`` nearest; None keeps all.
+    tested : set of str, default=frozenset()
+        Names (or CAS numbers) already tested; left out unless ``include_tested``.
+    include_tested : bool, default=False
+        Keep tested solvents in the table (marked ``tested``).
+    filters : dict or None, default=None
+        The filters the caller applied, recorded in the result.
+
+    Returns
+    -------
+    Ranking
+    """
+    pool = []
+    for s in candidates:
+        is_tested = s.name in tested or (s.cas is not None and s.cas in tested)
+        if is_tested and not include_tested:
+            continue
+        pool.append((s, is_tested))
+    centre = tuple(float(c) for c in centre)
+    if not pool:
+        return Ranking([], centre, float(R0), 0, dict(filters or {}))
+    pts = np.array([s.point for s, _ in pool], dtype=float)
+    dist = hsp.ra(pts, centre)
+    order = np.argsort(dist, kind="stable")
+    if top is not None:
+        order = order[:top]
+    rows = [RankedSolvent(pool[i][0], float(dist[i]), float(dist[i] / R0),
+                          hazard_flags(pool[i][0]), pool[i][1]) for i in order]
+    return Ranking(rows, centre, float(R0), len(pool), dict(filters or {}))

@@ -1,0 +1,143 @@
+"""A user's shelf: the solvents a lab actually has, to rank and blend from.
+
+A shelf file is a CSV/TSV (comma, tab or semicolon; decimal commas with semicolons) with
+a ``solvent`` column and optional columns that override or add to the library's values:
+
+=================  ==============================================
+column             meaning
+=================  ==============================================
+``solvent``        library name, CAS number or abbreviation; or your own name
+``dD, dP, dH``     own coordinates [MPa½] (required for solvents not in the library)
+``price``          price per litre, any currency (used by cheapest-inside rankings)
+``flash_point``    °C
+``boiling_point``  °C
+``density``        g/cm³ at 25 °C
+``vapour_pressure``  kPa at 25 °C
+``twa_ppm``        8-hour exposure limit, ppm
+``note``           free text, ignored
+=================  ==============================================
+
+Bad cells raise :class:`~solsphere.errors.InputError` naming the file, line and column.
+"""
+
+from __future__ import annotations
+
+import csv
+import dataclasses
+import math
+import re
+
+from .errors import InputError
+from .fileio import MAX_FIELD, read_text
+from .trials import _COORDS, _CellProblem, _Context, _coordinate, _parse_number, _resolve, _sniff
+
+#: shelf column -> (Solvent field, lowest, highest accepted value)
+PROPERTY_COLUMNS = {
+    "price": ("price", 0.0, 1e7),
+    "flash_point": ("flash_point", -100.0, 400.0),
+    "boiling_point": ("boiling_point", -100.0, 500.0),
+    "density": ("density", 0.3, 3.5),
+    "vapour_pressure": ("vapour_pressure", 0.0, 1e4),
+    "twa_ppm": ("twa_ppm", 0.0, 1e6),
+}
+_ALIASES = {"solvent": "solvent", "solvents": "solvent", "name": "solvent",
+            "dd": "dD", "dp": "dP", "dh": "dH", "note": "note", "notes": "note",
+            "price": "price", "priceperlitre": "price", "priceperliter": "price", "cost": "price",
+            "flashpoint": "flash_point", "boilingpoint": "boiling_point", "bp": "boiling_point",
+            "density": "density", "vapourpressure": "vapour_pressure",
+            "vaporpressure": "vapour_pressure", "twa": "twa_ppm", "twappm": "twa_ppm"}
+
+
+def _key(cell: str) -> str | None:
+    low = re.sub(r"[\(\[].*?[\)\]]", "", cell.replace("\ufeff", "").strip().lower())
+    low = low.replace("δ", "d")
+    return _ALIASES.get(re.sub(r"[\s_\-./]", "", low))
+
+
+def read_shelf(path, library) -> list:
+    """Read a shelf file into a list of :class:`~solsphere.library.Solvent`.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The shelf file; messages name it as given.
+    library : Library
+        Resolves names (and gives the properties not in the file).
+
+    Returns
+    -------
+    list of Solvent
+        One per usable row, in file order (a repeated solvent is kept once).
+
+    Raises
+    ------
+    InputError
+        Empty file, no ``solvent`` column, a bad cell, or no usable solvent.
+    """
+    file = str(path)
+    text = read_text(path).lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
+    lines = [(i + 1, s) for i, s in enumerate(text.split("\n"))
+             if s.strip() and not s.lstrip().startswith("#")]
+    if not lines:
+        raise InputError("the shelf file is empty.", file=file,
+                         hint="write a header 'solvent' and one solvent per line")
+    header_line = lines[0][0]
+    sep = "," if "," not in lines[0][1] and ";" not in lines[0][1] and "\t" not in lines[0][1] \
+        else _sniff(lines[0][1], file, header_line)
+    rows = list(csv.reader((s for _, s in lines), delimiter=sep, skipinitialspace=True))
+    columns = [_key(c) for c in rows[0]]
+    if "solvent" not in columns:
+        raise InputError(f"no 'solvent' column (found {', '.join(map(repr, rows[0]))}).",
+                         file=file, line=header_line,
+                         hint="name the first column 'solvent'")
+    ctx = _Context(file=file, library=library, decimal_comma=sep != ",", unit="line")
+    out, seen = [], set()
+    for (line, _), row in zip(lines[1:], rows[1:]):
+        cells = {k: v.strip() for k, v in zip(columns, row) if k}
+        for k, v in cells.items():
+            if len(v) > MAX_FIELD:
+                raise InputError(f"the cell has {len(v)} characters; the limit is {MAX_FIELD}.",
+                                 file=file, line=line, column=k)
+        name = " ".join(cells.get("solvent", "").split())
+        if not name:
+            continue
+        coords = {}
+        for c in _COORDS:
+            if cells.get(c):
+                try:
+                    coords[c] = _coordinate(cells[c], c, ctx.decimal_comma)
+                except _CellProblem as p:
+                    raise InputError(p.message, file=file, line=line, column=c, hint=p.hint) from None
+        if 0 < len(coords) < 3:
+            raise InputError("own coordinates need all three of dD, dP, dH.", file=file,
+                             line=line, column=next(c for c in _COORDS if c not in coords),
+                             hint="fill in the missing ones or clear them all")
+        point = tuple(coords[c] for c in _COORDS) if coords else None
+        label, p, source, _, cas, sol = _resolve(name, point, ctx, line, None)
+        props = {}
+        for col, (fld, lo, hi) in PROPERTY_COLUMNS.items():
+            raw = cells.get(col)
+            if not raw:
+                continue
+            try:
+                v = _parse_number(raw, ctx.decimal_comma)
+            except _CellProblem as prob:
+                raise InputError(prob.message.replace("MPa½", "the column's unit"), file=file,
+                                 line=line, column=col, hint=f"write a number for {col}") from None
+            if not (math.isfinite(v) and lo <= v <= hi):
+                raise InputError(f"{col} is {v:g}, outside {lo:g}…{hi:g}.", file=file,
+                                 line=line, column=col, hint="check the value and its unit")
+            props[fld] = v
+        if sol is None:
+            from .library import Solvent
+            sol = Solvent(name=label, dD=p[0], dP=p[1], dH=p[2], liquid=True)
+        sol = dataclasses.replace(sol, dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), **props)
+        ident = sol.cas or sol.name.casefold()
+        if ident in seen:
+            continue
+        seen.add(ident)
+        out.append(sol)
+    if not out:
+        raise InputError("the shelf lists no usable solvent.", file=file, line=header_line + 1,
+                         hint="add one solvent per line under the 'solvent' header")
+    return out
