@@ -63,7 +63,7 @@ ESTIMATES = {"JOBACK"}
 
 COLUMNS = (
     "cas", "name", "synonyms", "dD", "dP", "dH", "spread", "compilations",
-    "mw", "molar_volume", "density", "boiling_point", "melting_point", "flash_point",
+    "mw", "molar_volume", "density", "alpha", "boiling_point", "melting_point", "flash_point",
     "vapour_pressure", "dielectric", "log_p", "twa_ppm", "twa_mg_m3", "carcinogen",
     "liquid", "sources",
 )
@@ -278,7 +278,7 @@ class Tables:
             r = r.iloc[0]
         return r
 
-    def molar_volume(self, cas, mw):
+    def molar_volume(self, cas, mw, T=T25):
         """Liquid molar volume at 25 °C [m³/mol] and the method used.
 
         Order: DIPPR EQ105 fit (Perry's 8th ed. Table 2-32, within its range), VDI PPDS
@@ -290,25 +290,25 @@ class Tables:
         from chemicals.dippr import EQ105
         V, crit = self.V, self.critical
         r = self.row(self.perry_rho, cas)
-        if r is not None and in_range(T25, r.Tmin, r.Tmax):
-            rho = EQ105(T25, r.C1, r.C2, r.C3, r.C4)  # mol/m³
+        if r is not None and in_range(T, r.Tmin, r.Tmax):
+            rho = EQ105(T, r.C1, r.C2, r.C3, r.C4)  # mol/m³
             if rho > 0:
                 return 1.0 / rho, "DIPPR_PERRY_8E"
         r = self.row(self.vdi_rho, cas)
-        if r is not None and T25 < r.Tc and mw:
-            return V.volume_VDI_PPDS(T25, r.Tc, r.rhoc, r.A, r.B, r.C, r.D, mw), "VDI_PPDS"
+        if r is not None and T < r.Tc and mw:
+            return V.volume_VDI_PPDS(T, r.Tc, r.rhoc, r.A, r.B, r.C, r.D, mw), "VDI_PPDS"
         Tc = crit.Tc(cas)
-        if Tc is None or not T25 < Tc:
+        if Tc is None or not T < Tc:
             return None, None
         r = self.row(self.costald, cas)
         if r is not None and _num(r.Vchar) and _num(r.omega_SRK) is not None:
-            return V.COSTALD(T25, Tc, r.Vchar, r.omega_SRK), "COSTALD (tabulated parameters)"
+            return V.COSTALD(T, Tc, r.Vchar, r.omega_SRK), "COSTALD (tabulated parameters)"
         Vc, w = crit.Vc(cas), omega(cas)
         if Vc and w is not None:
-            return V.COSTALD(T25, Tc, Vc, w), "COSTALD (Vc, omega)"
+            return V.COSTALD(T, Tc, Vc, w), "COSTALD (Vc, omega)"
         Pc, Zc = crit.Pc(cas), crit.Zc(cas)
         if Pc and Zc:
-            return V.Rackett(T25, Tc, Pc, Zc), "RACKETT"
+            return V.Rackett(T, Tc, Pc, Zc), "RACKETT"
         return None, None
 
     def vapour_pressure(self, cas):
@@ -410,6 +410,16 @@ def properties(cas, mw, tables):
     else:
         put("molar_volume", None, None)
         put("density", None, None)
+
+    # thermal expansion coefficient [1/K]: constant-alpha secant of the same method's
+    # molar volume at 25 and 50 °C, alpha = ln(Vm(50 °C)/Vm(25 °C)) / 25 K
+    alpha = None
+    if Vm is not None and Vm > 0:
+        Vm50, m50 = tables.molar_volume(cas, mw, T=T25 + 25.0)
+        if Vm50 is not None and Vm50 > 0 and m50 == m:
+            a = math.log(Vm50 / Vm) / 25.0
+            alpha = sig(a) if 0.0 < a < 5e-3 else None
+    put("alpha", alpha, f"{m} (secant 25-50 °C)" if alpha is not None else None)
 
     Ps, m = tables.vapour_pressure(cas)
     put("vapour_pressure", sig(Ps / 1000.0) if Ps else None, m)  # kPa

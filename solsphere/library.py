@@ -107,6 +107,8 @@ class Solvent:
     method (every other field) it came from; treat it as read-only.
     ``compilations`` names every compilation that lists the compound (the winner first
     is not implied; see ``sources["dD"]``).
+    ``alpha`` is the liquid's thermal expansion coefficient [1/K] (25–50 °C secant of the
+    molar volume); ``price`` a price per litre from a user's shelf (any currency).
     """
 
     name: str
@@ -131,6 +133,8 @@ class Solvent:
     liquid: bool | None = None
     sources: dict = field(default_factory=dict, compare=False, hash=False)
     compilations: tuple[str, ...] = ()
+    alpha: float | None = None
+    price: float | None = None
 
     @property
     def point(self) -> tuple[float, float, float]:
@@ -380,7 +384,7 @@ class Library:
 # ----------------------------------------------------------------------------- loading
 _FLOATS = ("dD", "dP", "dH", "spread", "mw", "molar_volume", "density", "boiling_point",
            "melting_point", "flash_point", "vapour_pressure", "dielectric", "log_p",
-           "twa_ppm", "twa_mg_m3")
+           "twa_ppm", "twa_mg_m3", "alpha")
 _REQUIRED = ("cas", "name", "dD", "dP", "dH")
 
 

@@ -301,7 +301,7 @@ def test_table_columns_and_units(lib):
     with open(DATA / "solvents.csv", newline="", encoding="utf-8") as fh:
         header = next(csv.reader(fh))
     assert header == ["cas", "name", "synonyms", "dD", "dP", "dH", "spread", "compilations",
-                      "mw", "molar_volume", "density", "boiling_point", "melting_point",
+                      "mw", "molar_volume", "density", "alpha", "boiling_point", "melting_point",
                       "flash_point", "vapour_pressure", "dielectric", "log_p", "twa_ppm",
                       "twa_mg_m3", "carcinogen", "liquid", "sources"]
     cas = [r.cas for r in lib]
@@ -310,6 +310,8 @@ def test_table_columns_and_units(lib):
     for r in lib:
         assert 0 <= r.dP < 40 and 0 <= r.dH < 45 and 7 < r.dD < 30, r.name
         assert r.sources["dD"] in r.compilations
+        if r.alpha is not None:  # liquids expand by ~1e-4 to 2e-3 per K; molten metals less (common practice, no source)
+            assert 1e-5 < r.alpha < 5e-3, r.name
         for f in ("boiling_point", "flash_point", "molar_volume", "vapour_pressure",
                   "dielectric", "log_p", "twa_ppm"):
             if getattr(r, f) is not None:
