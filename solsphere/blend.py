@@ -433,6 +433,7 @@ class Blend:
     twa_ppm: list[float | None]
     flags: list[str] = field(default_factory=list)
     best_is_single: bool = False
+    component_points: list[tuple[float, float, float]] = field(default_factory=list)
 
     @property
     def lowest_flash_point(self) -> float | None:
@@ -472,6 +473,7 @@ class Blend:
             "twa_ppm": [_f(x) for x in self.twa_ppm],
             "flags": list(self.flags),
             "best_is_single": bool(self.best_is_single),
+            "component_points": [[float(v) for v in p] for p in self.component_points],
         }
 
     def __str__(self) -> str:
@@ -744,4 +746,5 @@ def _make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi:
         twa_ppm=[_f(sa.twa_ppm), _f(sb.twa_ppm)],
         flags=_component_flags([sa, sb]),
         best_is_single=single,
+        component_points=[sa.point, sb.point],
     )
