@@ -54,6 +54,28 @@ def _key(cell: str) -> str | None:
     return _ALIASES.get(re.sub(r"[\s_\-./]", "", low))
 
 
+def _split_rows(lines: list[tuple[int, str]], sep: str, file: str) -> list[tuple[int, list]]:
+    """(physical line where the row starts, cells) for each row; csv problems (an
+    unclosed quote, an over-long cell) become an InputError naming the line."""
+    reader = csv.reader((s for _, s in lines), delimiter=sep, skipinitialspace=True,
+                        strict=True)
+    out = []
+    while True:
+        start = reader.line_num
+        try:
+            row = next(reader)
+        except StopIteration:
+            return out
+        except csv.Error as exc:
+            line = lines[min(start, len(lines) - 1)][0]
+            if "field larger" in str(exc):
+                raise InputError(f"a cell is longer than {MAX_FIELD} characters.", file=file,
+                                 line=line, hint="check for a missing closing quote") from None
+            raise InputError(f"cannot split the line into cells ({exc}).", file=file,
+                             line=line, hint="check the quotes on this line") from None
+        out.append((lines[start][0], row))
+
+
 def read_shelf(path, library) -> list:
     """Read a shelf file into a list of :class:`~solsphere.library.Solvent`.
 
@@ -82,17 +104,26 @@ def read_shelf(path, library) -> list:
         raise InputError("the shelf file is empty.", file=file,
                          hint="write a header 'solvent' and one solvent per line")
     header_line = lines[0][0]
-    sep = "," if "," not in lines[0][1] and ";" not in lines[0][1] and "\t" not in lines[0][1] \
-        else _sniff(lines[0][1], file, header_line)
-    rows = list(csv.reader((s for _, s in lines), delimiter=sep, skipinitialspace=True))
-    columns = [_key(c) for c in rows[0]]
+    single = not any(ch in lines[0][1] for ch in ",;\t")
+    # one column: each line is one name, so '1,4-dioxane' and 'N,N-dimethylformamide'
+    # stay whole (the unit separator never occurs in text)
+    sep = "\x1f" if single else _sniff(lines[0][1], file, header_line)
+    rows = _split_rows(lines, sep, file)
+    columns = [_key(c) for c in rows[0][1]]
     if "solvent" not in columns:
-        raise InputError(f"no 'solvent' column (found {', '.join(map(repr, rows[0]))}).",
+        raise InputError(f"no 'solvent' column (found {', '.join(map(repr, rows[0][1]))}).",
                          file=file, line=header_line,
                          hint="name the first column 'solvent'")
     ctx = _Context(file=file, library=library, decimal_comma=sep != ",", unit="line")
     out, seen = [], set()
-    for (line, _), row in zip(lines[1:], rows[1:]):
+    for line, row in rows[1:]:
+        extra = [c for c in row[len(columns):] if c.strip()]
+        if extra:
+            hint = "put a value that contains the separator in double quotes"
+            if sep == ",":
+                hint += "; write decimals with a point (17.5), not a comma"
+            raise InputError(f"{len(row)} cells but the header names {len(columns)} columns "
+                             f"(extra: {extra[0][:40]!r}).", file=file, line=line, hint=hint)
         cells = {k: v.strip() for k, v in zip(columns, row) if k}
         for k, v in cells.items():
             if len(v) > MAX_FIELD:
