@@ -67,6 +67,9 @@ def _add_pool(p):
                    help="only solvents boiling at or below this")
     p.add_argument("--no-carcinogens", action="store_true",
                    help="leave out solvents with a carcinogen classification")
+    p.add_argument("--temperature", type=_number, metavar="°C",
+                   help="shift the candidates' coordinates to this process temperature "
+                        "(Hansen–Beerbower relations); the sphere stays as fitted")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -90,6 +93,29 @@ def build_parser() -> argparse.ArgumentParser:
     _add_pool(p)
     p.add_argument("--with-single", action="store_true",
                    help="also list pairs whose best mix is one solvent alone")
+    p.add_argument("--components", type=int, choices=(2, 3), default=2,
+                   help="two- or three-solvent blends (default 2)")
+    p.add_argument("--max-fraction", action="append", default=[], metavar="NAME=F",
+                   help="upper volume-fraction limit for a solvent in 3-component blends, "
+                        "e.g. toluene=0.3 (repeatable)")
+    p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
+                   help="lower volume-fraction limit (repeatable)")
+    p.add_argument("--drying", action="store_true",
+                   help="simulate evaporation (Raoult's law) and report when the drying "
+                        "liquid leaves the sphere")
+    p.add_argument("--rank-by-drying", action="store_true",
+                   help="with --drying: list first the blends that stay inside longest")
+
+    p = sub.add_parser("replace", help="solvents and pairs that can replace a given solvent",
+                       epilog=EPILOG)
+    p.add_argument("name", metavar="NAME", help="the solvent to replace (name, CAS or abbreviation)")
+    p.add_argument("--for-material", metavar="FILE",
+                   help="results or project file: rank by behaviour towards that material")
+    p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
+                   help="with --for-material: how to count 'partly' results")
+    p.add_argument("--pairs", type=int, default=5, metavar="N", help="pairs to list (default 5)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    _add_pool(p)
 
     p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
     _add_input(p)
@@ -121,11 +147,44 @@ def load_session(args):
     return project, fit, lib
 
 
-def candidate_pool(args, lib, project):
+def candidate_pool(args, lib, project, *, limits: bool = True):
+    """The pool per the options; ``limits=False`` leaves the flash/boiling point filters
+    to the caller (the blend screen applies them itself and counts what they remove)."""
+    from .errors import UnknownSolventError
     from .session import candidate_pool as pool
-    return pool(lib, shelf=args.candidates, exclude=_split(args.exclude),
-                min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
-                exclude_carcinogens=args.no_carcinogens)
+    from .session import at_temperature
+    try:
+        solvents, filters = pool(lib, shelf=args.candidates, exclude=_split(args.exclude),
+                                 min_flash_point=args.min_flash_point if limits else None,
+                                 max_boiling_point=args.max_boiling_point if limits else None,
+                                 exclude_carcinogens=args.no_carcinogens)
+    except UnknownSolventError as exc:
+        if exc.file is None:  # a name given to --exclude
+            exc.file, exc.column = "<command line>", "--exclude"
+            exc.args = (str(exc),)
+        raise
+    solvents, notes = at_temperature(solvents, args.temperature)
+    if notes:
+        filters["temperature"] = args.temperature
+        filters["temperature_notes"] = notes
+    return solvents, filters
+
+
+def _limits(values, lib, option: str) -> dict[str, float]:
+    """Parse NAME=F fraction limits (names resolved through the library)."""
+    out = {}
+    for v in values or []:
+        name, sep, frac = v.rpartition("=")
+        try:
+            f = float(frac.replace(",", "."))
+        except ValueError:
+            f = None
+        if not sep or not name.strip() or f is None or not 0.0 <= f <= 1.0:
+            raise InputError(f"{option} {v!r} is not NAME=F with F between 0 and 1.",
+                             file="<command line>", column=option,
+                             hint=f"write e.g. {option} toluene=0.3")
+        out[lib.lookup(name.strip()).name] = f
+    return out
 
 
 def _split(values) -> list[str]:
@@ -164,19 +223,90 @@ def cmd_rank(args) -> int:
     pool, filters = candidate_pool(args, lib, project)
     tested = set(project.trials.names) | {t.cas for t in project.trials if t.cas}
     ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
-                            include_tested=args.include_tested, filters=filters)
+                            include_tested=args.include_tested, filters=filters,
+                            temperature_C=_temperature(args))
     _emit(args, ranking.to_dict(), str(ranking))
     return 0
 
 
+def _temperature(args) -> float:
+    return 25.0 if args.temperature is None else args.temperature
+
+
 def cmd_blend(args) -> int:
-    from .blend import screen_blends
+    from .session import add_safety_and_drying
     project, fit, lib = load_session(args)
-    pool, filters = candidate_pool(args, lib, project)
-    screen = screen_blends(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top,
-                           only_blends=not args.with_single)
+    pool, filters = candidate_pool(args, lib, project)  # says so when nothing is left
+    if args.min_flash_point is not None or args.max_boiling_point is not None:
+        # the screen applies the same limits (known and within) and records what each
+        # one removed, so its report counts them truthfully
+        pool, _ = candidate_pool(args, lib, project, limits=False)
+    centre = (fit.dD, fit.dP, fit.dH)
+    limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
+                  top=args.top, only_blends=not args.with_single)
+    if args.components == 3:
+        from .triples import screen_triples
+        screen = screen_triples(pool, centre, fit.R0,
+                                max_fraction=_limits(args.max_fraction, lib, "--max-fraction"),
+                                min_fraction=_limits(args.min_fraction, lib, "--min-fraction"),
+                                **limits)
+    else:
+        if args.max_fraction or args.min_fraction:
+            raise InputError("--max-fraction / --min-fraction apply to 3-component blends.",
+                             file="<command line>", hint="add --components 3")
+        from .blend import screen_blends
+        screen = screen_blends(pool, centre, fit.R0, **limits)
     screen.filters.update(filters)
-    _emit(args, screen.to_dict(), str(screen))
+    blends = add_safety_and_drying(screen, pool, centre, fit.R0, drying=args.drying,
+                                   temperature_C=_temperature(args),
+                                   rank_by_drying=args.rank_by_drying)
+    _emit(args, dict(screen.to_dict(), blends=blends),
+          str(screen) + _blend_notes(blends, args.drying))
+    return 0
+
+
+def _blend_notes(blends: list[dict], drying: bool) -> str:
+    """Flash-point estimates and drying outcomes, one line per blend."""
+    lines = []
+    for k, b in enumerate(blends, 1):
+        label = " + ".join(f"{100 * f:.0f}% {n}" for n, f in zip(b["solvents"], b["volume_fractions"]))
+        parts = []
+        fpe = b.get("flash_point_estimate") or {}
+        if fpe.get("estimate") is not None:
+            low = fpe.get("conservative")
+            parts.append(f"flash point ≈ {fpe['estimate']:.0f} °C (ideal-mixture estimate"
+                         + (f"; lowest component {low:.0f} °C)" if low is not None else ")"))
+        if drying:
+            d = b.get("drying")
+            if d is None:
+                parts.append("drying: no vapour-pressure data")
+            elif d.get("leaves_at") is None:
+                parts.append(f"drying: stays inside to dryness ({d.get('last_component')} left last)")
+            else:
+                parts.append(f"drying: leaves the sphere at {100 * d['leaves_at']:.0f}% evaporated")
+        if parts:
+            lines.append(f"  {k}. {label}: " + "; ".join(parts))
+    if not lines:
+        return ""
+    return "\n\nFlash point and drying (estimates, not measurements):\n" + "\n".join(lines)
+
+
+def cmd_replace(args) -> int:
+    from .library import load_library
+    from .substitute import find_substitutes
+    lib = load_library()
+    target = lib.lookup(args.name)
+    material = None
+    if args.for_material:
+        from .project import load_any
+        from .session import fit_project
+        fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
+                          library=lib)
+        material = ((fit.dD, fit.dP, fit.dH), fit.R0)
+    pool, filters = candidate_pool(args, lib, None)
+    result = find_substitutes(target, pool, top=args.top, n_pairs=max(args.pairs, 0),
+                              material=material)
+    _emit(args, dict(result.to_dict(), filters=filters), str(result))
     return 0
 
 
@@ -184,11 +314,29 @@ def cmd_share(args) -> int:
     from .fileio import atomic_write_text
     from .session import share_page
     project, fit, lib = load_session(args)
+    _check_share_target(args.output)
     page = share_page(project, fit, lib, title=args.title)
     atomic_write_text(args.output, page)
     _emit(args, {"output": args.output, "bytes": len(page.encode())},
           f"Wrote {args.output} ({len(page.encode()) / 1e6:.1f} MB, self-contained, opens offline)")
     return 0
+
+
+def _check_share_target(path: str) -> None:
+    """Refuse to replace an existing file that is not an HTML page (a results file or a
+    project given to -o by mistake must never be lost)."""
+    from pathlib import Path
+    p = Path(path)
+    if not p.is_file():
+        return  # new file; a folder or a missing folder is reported by the writer
+    try:
+        with open(p, "rb") as fh:
+            head = fh.read(512).lstrip(b"\xef\xbb\xbf").lstrip().lower()
+    except OSError:
+        return
+    if not (head.startswith(b"<!doctype html") or head.startswith(b"<html")):
+        raise InputError("this file exists and is not an HTML page; not overwriting it.",
+                         file=path, hint="choose another name, e.g. one ending in .html")
 
 
 def cmd_app(args) -> int:
@@ -198,7 +346,7 @@ def cmd_app(args) -> int:
 
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "app": cmd_app}
+            "replace": cmd_replace, "app": cmd_app}
 
 
 def main(argv: list[str] | None = None) -> int:

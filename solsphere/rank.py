@@ -29,6 +29,7 @@ class RankedSolvent:
     red: float
     flags: list[str] = field(default_factory=list)
     tested: bool = False
+    chi: float | None = None
 
     def to_dict(self) -> dict:
         s = self.solvent
@@ -36,7 +37,8 @@ class RankedSolvent:
                 "Ra": self.Ra, "red": self.red, "inside": self.red <= 1.0,
                 "boiling_point": s.boiling_point, "flash_point": s.flash_point,
                 "twa_ppm": s.twa_ppm, "twa_mg_m3": s.twa_mg_m3, "carcinogen": s.carcinogen,
-                "spread": s.spread, "flags": list(self.flags), "tested": self.tested}
+                "spread": s.spread, "chi": self.chi, "flags": list(self.flags),
+                "tested": self.tested}
 
 
 @dataclass
@@ -58,13 +60,19 @@ class Ranking:
         head = (f"Untried solvents nearest the sphere (centre {self.centre[0]:.1f}, "
                 f"{self.centre[1]:.1f}, {self.centre[2]:.1f}; R0 {self.R0:.1f} MPa½), "
                 f"{len(self.solvents)} of {self.n_candidates} candidates")
-        rows = [("solvent", "dD", "dP", "dH", "RED", "bp °C", "flash °C", "TWA ppm", "flags")]
+        rows = [("solvent", "dD", "dP", "dH", "RED", "χ", "bp °C", "flash °C", "TWA ppm", "flags")]
         for r in self.solvents:
             s = r.solvent
             rows.append((s.name[:32], f"{s.dD:.1f}", f"{s.dP:.1f}", f"{s.dH:.1f}",
-                         f"{r.red:.2f}", _num(s.boiling_point, 0), _num(s.flash_point, 0),
+                         f"{r.red:.2f}", _num(r.chi, 2), _num(s.boiling_point, 0),
+                         _num(s.flash_point, 0),
                          _num(s.twa_ppm, 3, g=True), "; ".join(r.flags)))
-        return "\n".join([head, format_table(rows), CAUTION])
+        out = [head, format_table(rows)]
+        if not self.solvents:
+            out.append("No untried candidate to list: every candidate was tested (keep them "
+                       "with --include-tested) or none is left after the filters."
+                       if self.n_candidates == 0 else "No candidate to list (top is 0).")
+        return "\n".join(out + [CAUTION])
 
 
 def _num(x, digits: int, g: bool = False) -> str:
@@ -86,7 +94,7 @@ def format_table(rows: list[tuple]) -> str:
 
 def rank_solvents(candidates, centre, R0: float, top: int | None = None,
                   tested: set[str] | frozenset = frozenset(), include_tested: bool = False,
-                  filters: dict | None = None) -> Ranking:
+                  filters: dict | None = None, temperature_C: float = 25.0) -> Ranking:
     """Rank candidate solvents by RED to a sphere.
 
     Parameters
@@ -105,11 +113,16 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
         Keep tested solvents in the table (marked ``tested``).
     filters : dict or None, default=None
         The filters the caller applied, recorded in the result.
+    temperature_C : float, default=25.0
+        Temperature of the Flory–Huggins χ estimate (:func:`solsphere.hsp.flory_huggins_chi`,
+        from Ra and the solvent's molar volume).
 
     Returns
     -------
     Ranking
     """
+    if top is not None and (isinstance(top, bool) or int(top) != top or top < 0):
+        raise ValueError(f"top must be a non-negative whole number or None; found {top!r}")
     pool = []
     for s in candidates:
         is_tested = s.name in tested or (s.cas is not None and s.cas in tested)
@@ -124,6 +137,11 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
     order = np.argsort(dist, kind="stable")
     if top is not None:
         order = order[:top]
-    rows = [RankedSolvent(pool[i][0], float(dist[i]), float(dist[i] / R0),
-                          hazard_flags(pool[i][0]), pool[i][1]) for i in order]
+    rows = []
+    for i in order:
+        s = pool[i][0]
+        chi = (float(np.ravel(hsp.flory_huggins_chi(dist[i], s.molar_volume, temperature_C))[0])
+               if s.molar_volume else None)
+        rows.append(RankedSolvent(s, float(dist[i]), float(dist[i] / R0), hazard_flags(s),
+                                  pool[i][1], chi))
     return Ranking(rows, centre, float(R0), len(pool), dict(filters or {}))

@@ -8,8 +8,9 @@ Two questions, two rankings:
   solvent as the "centre") lands nearest it.
 - *Closest for this material* (a fitted sphere given): what matters is behaving the same
   way towards the material: the same side of the sphere boundary and a similar RED.
-  Singles are sorted by (other side of the boundary last, |ΔRED|, Ra to the old solvent);
-  pairs by Ra to the old solvent among blends on the same side.
+  Singles on the same side come first, each side sorted by Ra to the old solvent (a
+  near neighbour also has a similar RED; the RED is shown beside each); pairs are
+  sorted by Ra to the old solvent among blends on the same side.
 
 Filters for safety (flash point, boiling point, carcinogens, exclusions) are applied by
 the caller to the candidate pool. A close substitute on paper is a prediction: confirm
@@ -124,7 +125,7 @@ def find_substitutes(target: Solvent, candidates, top: int = 10, n_pairs: int = 
             side = (reds <= 1.0) == (red_t <= 1.0)
             mat = {"dD": float(centre[0]), "dP": float(centre[1]), "dH": float(centre[2]),
                    "R0": float(R0), "red_target": red_t}
-            order = np.lexsort((dist, np.abs(reds - red_t), ~side))
+            order = np.lexsort((np.abs(reds - red_t), dist, ~side))
         for k in order[:top]:
             singles.append(Substitute(pool[k], float(dist[k]),
                                       None if reds is None else float(reds[k]),
