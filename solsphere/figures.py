@@ -133,13 +133,27 @@ def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | Non
     for outcome, rows in _trial_groups(fit):
         st = STYLE[outcome]
         misfit = [r.get("agrees") is False for r in rows]
+        xyz = {"x": [r["dD"] for r in rows], "y": [r["dP"] for r in rows],
+               "z": [r["dH"] for r in rows]}
+        hover = [_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r.get("red"), outcome,
+                        "misfit" if m else None) for r, m in zip(rows, misfit)]
+        if st["symbol"] == "x":
+            # plotly draws the 3D "x" marker as an emoji glyph (U+274C), which is missing
+            # from many fonts (an empty box) or comes out in the emoji's own colour; the
+            # multiplication sign is in every font and takes our colour. The legend entry
+            # keeps the usual x symbol (drawn as SVG there).
+            fig.add_trace(go.Scatter3d(x=[None], y=[None], z=[None], mode="markers",
+                                       name=st["label"], legendgroup=outcome, hoverinfo="skip",
+                                       marker={"size": 5, "color": st["color"], "symbol": "x"}))
+            fig.add_trace(go.Scatter3d(**xyz, mode="text", text=["\u00d7"] * len(rows),
+                                       name=st["label"], legendgroup=outcome, showlegend=False,
+                                       textfont={"color": st["color"], "size": 20},
+                                       hovertext=hover, hoverinfo="text"))
+            continue
         fig.add_trace(go.Scatter3d(
-            x=[r["dD"] for r in rows], y=[r["dP"] for r in rows], z=[r["dH"] for r in rows],
-            mode="markers", name=st["label"],
+            **xyz, mode="markers", name=st["label"], legendgroup=outcome,
             marker={"size": 5, "color": st["color"], "symbol": st["symbol"]},
-            hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r.get("red"), outcome,
-                              "misfit" if m else None) for r, m in zip(rows, misfit)],
-            hoverinfo="text"))
+            hovertext=hover, hoverinfo="text"))
     # scatter3d takes one marker line width per trace, so misfits get their own ring trace
     wrong = [r for r in fit.get("table", []) if r.get("agrees") is False]
     if wrong:
@@ -153,12 +167,12 @@ def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | Non
     if blends:
         xs, ys, zs, pts, texts = _blend_segments(blends)
         fig.add_trace(go.Scatter3d(x=xs, y=ys, z=zs, mode="lines", name="blend segments",
-                                   line={"color": BLEND, "width": 4}, hoverinfo="skip"))
+                                   line={"color": BLEND, "width": 6}, hoverinfo="skip"))
         fig.add_trace(go.Scatter3d(
             x=[p[0] for p in pts], y=[p[1] for p in pts], z=[p[2] for p in pts],
             mode="markers", name="blends", hovertext=texts, hoverinfo="text",
-            marker={"size": 6, "color": "rgba(0,0,0,0)", "symbol": "circle-open",
-                    "line": {"color": BLEND, "width": 3}}))
+            # 3D open symbols are glyphs coloured by marker.color (marker.line is ignored)
+            marker={"size": 9, "color": BLEND, "symbol": "circle-open"}))
     for path in paths or []:
         p = np.asarray(path["points"], dtype=float)
         fig.add_trace(go.Scatter3d(x=p[:, 0], y=p[:, 1], z=p[:, 2], mode="lines",
@@ -170,13 +184,12 @@ def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | Non
             x=[h["dD"] for h in highlight], y=[h["dP"] for h in highlight],
             z=[h["dH"] for h in highlight], mode="markers+text", name="picked",
             text=[html.escape(h["name"]) for h in highlight], textposition="top center",
-            marker={"size": 7, "color": "rgba(0,0,0,0)", "symbol": "square-open",
-                    "line": {"color": "#333333", "width": 2}},
+            marker={"size": 9, "color": "#333333", "symbol": "square-open"},
             hovertext=[_hover(h["name"], (h["dD"], h["dP"], h["dH"]), h.get("red")) for h in highlight],
             hoverinfo="text"))
     fig.update_layout(scene=_scene(fit, untried if show_untried else None), height=height,
                       margin={"l": 0, "r": 0, "t": 30, "b": 0}, legend={"itemsizing": "constant"},
-                      uirevision="map")
+                      scene_camera={"eye": {"x": 1.6, "y": 1.3, "z": 0.9}}, uirevision="map")
     return fig
 
 
@@ -196,9 +209,9 @@ def _scene(fit: dict, untried):
     span = hi - lo
     ratio = np.array([2 * span[0], span[1], span[2]])
     ratio = ratio / ratio.max()
-    return {"xaxis": {"title": {"text": AXIS["dD"]}, "range": [lo[0], hi[0]]},
-            "yaxis": {"title": {"text": AXIS["dP"]}, "range": [lo[1], hi[1]]},
-            "zaxis": {"title": {"text": AXIS["dH"]}, "range": [lo[2], hi[2]]},
+    return {"xaxis": {"title": {"text": AXIS["dD"]}, "range": [lo[0], hi[0]], "nticks": 5},
+            "yaxis": {"title": {"text": AXIS["dP"]}, "range": [lo[1], hi[1]], "nticks": 6},
+            "zaxis": {"title": {"text": AXIS["dH"]}, "range": [lo[2], hi[2]], "nticks": 6},
             "aspectmode": "manual",
             "aspectratio": {"x": float(ratio[0]), "y": float(ratio[1]), "z": float(ratio[2])}}
 
@@ -221,6 +234,7 @@ def projections(fit: dict, blends: list[dict] | None = None, height: int = 340):
     R0 = fit["R0"]
     t = np.linspace(0, 2 * np.pi, 121)
     semi = np.array([R0 / 2, R0, R0])
+    lo, hi = _ranges(fit, None)
     for k, (a, b) in enumerate(PLANES, start=1):
         ia, ib = _IDX[a], _IDX[b]
         fig.add_trace(go.Scatter(x=c[ia] + semi[ia] * np.cos(t), y=c[ib] + semi[ib] * np.sin(t),
@@ -251,10 +265,11 @@ def projections(fit: dict, blends: list[dict] | None = None, height: int = 340):
                                          marker={"symbol": "circle-open", "color": BLEND, "size": 10,
                                                  "line": {"width": 2}}, hoverinfo="skip"),
                               row=1, col=k)
-        fig.update_xaxes(title_text=AXIS[a], row=1, col=k)
-        fig.update_yaxes(title_text=AXIS[b], row=1, col=k,
-                         scaleanchor=f"x{k if k > 1 else ''}",
-                         scaleratio=(2.0 if a == "dD" else 1.0) * (0.5 if b == "dD" else 1.0))
+        fig.update_xaxes(title_text=AXIS[a], row=1, col=k, range=[lo[ia], hi[ia]],
+                         constrain="domain")
+        fig.update_yaxes(title_text=AXIS[b], row=1, col=k, range=[lo[ib], hi[ib]],
+                         constrain="domain", scaleanchor=f"x{k if k > 1 else ''}",
+                         scaleratio=0.5 if a == "dD" else 1.0)
     fig.update_layout(height=height, margin={"l": 40, "r": 10, "t": 40, "b": 40},
                       legend={"orientation": "h", "y": -0.25}, uirevision="proj")
     return fig

@@ -1,0 +1,24 @@
+"""Register every screen's callbacks on an app.
+
+One callback (``bench.refit``) turns the table and the 'partly' setting into the fit
+result in the ``fit-store``; every other screen reads that store and does nothing
+(``PreventUpdate``) while it is empty. Callbacks only read their inputs and return new
+values: no module-level state, so two browser tabs never see each other's data.
+"""
+
+from __future__ import annotations
+
+from . import bench, blends, share, sphere, trynext
+
+
+def register_callbacks(app, get_library) -> None:
+    """Attach the callbacks of all screens to ``app``.
+
+    Parameters
+    ----------
+    app : dash.Dash
+    get_library : callable
+        Returns the (immutable, cached) solvent library.
+    """
+    for screen in (bench, sphere, trynext, blends, share):
+        screen.register(app, get_library)

@@ -1,0 +1,14 @@
+"""Component ids shared between screens (one place, so a typo is an import error)."""
+
+TABS = "tabs"
+TABLE = "results-table"
+PARTIAL = "partial-choice"
+NOTICE = "notice"
+
+FIT = "fit-store"            # the one fit result every screen draws from
+SAVED_FIT = "saved-fit-store"  # the fit saved in an opened project file
+SOURCE = "source-store"      # name of the file the table came from
+PICKED = "picked-store"      # solvents clicked in the shortlist
+BLEND = "blend-store"        # the blend clicked in the blend designer
+OPEN_PAYLOAD = "open-payload"    # checked upload of a results/project file
+SHELF_PAYLOAD = "shelf-payload"  # checked upload of a shelf file

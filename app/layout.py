@@ -1,0 +1,64 @@
+"""The page: a header, the screens in tabs on the left, the 'Sphere' panel on the right,
+and the stores that hold each user's state (in the browser, never on the server)."""
+
+from __future__ import annotations
+
+from dash import dcc, html
+
+from . import bench, blends, ids, logic, share, sphere, trynext
+from .share import caution_line
+
+
+def build_layout(initial: dict | None, library, has_demo: bool):
+    """The whole page.
+
+    Parameters
+    ----------
+    initial : dict or None
+        The opened file's state (``logic.project_state``): rows, partial, saved_fit,
+        source, message. None starts with an empty table.
+    library : Library
+    has_demo : bool
+        Whether the invented demo file is installed (enables its button).
+    """
+    initial = initial or {}
+    rows = initial.get("rows") or [logic.blank_row() for _ in range(3)]
+    partial = initial.get("partial") or "good"
+    message = initial.get("message") or ("Start by adding results below, opening a results "
+                                         "file, or loading the invented demo.")
+    return html.Div(className="page", children=[
+        html.Header(className="top", children=[
+            html.Div(className="brand", children=[
+                html.Span("solsphere", className="name"),
+                html.Span("Hansen solubility sphere from your bench results", className="sub"),
+            ]),
+            html.Div(id=ids.NOTICE, className="notice-box",
+                     children=html.Div(message, className="notice notice-ok")),
+        ]),
+        html.Main(className="columns", children=[
+            html.Section(className="left", children=[
+                dcc.Tabs(id=ids.TABS, value="bench", className="tabs", children=[
+                    dcc.Tab(label="Bench results", value="bench",
+                            children=bench.panel(rows, library, has_demo)),
+                    dcc.Tab(label="Try next", value="next", children=trynext.panel()),
+                    dcc.Tab(label="Blends", value="blends", children=blends.panel(library)),
+                    dcc.Tab(label="Share", value="share", children=share.panel()),
+                ]),
+            ]),
+            html.Section(className="right", children=[sphere.panel(partial)]),
+        ]),
+        html.Footer(className="foot", children=[
+            caution_line(),
+            html.P("Hansen parameters from published compilations (see the solvent "
+                   "library's notes). The demo is an invented scenario, not measured data.",
+                   className="muted"),
+        ]),
+        dcc.Store(id=ids.FIT),
+        dcc.Store(id=ids.SAVED_FIT, data=initial.get("saved_fit")),
+        dcc.Store(id=ids.SOURCE, data=initial.get("source")),
+        dcc.Store(id=ids.PICKED, data=[]),
+        dcc.Store(id=ids.BLEND, data=[]),
+        dcc.Store(id=ids.OPEN_PAYLOAD),
+        dcc.Store(id="share-open-payload"),
+        dcc.Store(id=ids.SHELF_PAYLOAD),
+    ])

@@ -1,0 +1,708 @@
+"""The pure functions behind the app's callbacks (no Dash, no browser).
+
+Each function takes plain JSON-safe values (the table's rows, the stored fit, the
+controls' values) and returns plain values, so it can be tested without a browser.
+Every computation is a library call: validation (:func:`solsphere.trials.validate_rows`),
+the fit (:func:`solsphere.session.fit_project`), the pool
+(:func:`solsphere.session.candidate_pool`), the ranking
+(:func:`solsphere.rank.rank_solvents`), the blends
+(:func:`solsphere.blend.screen_blends`), the figures (:mod:`solsphere.figures`), the share
+page (:func:`solsphere.session.share_page`) and the project file
+(:mod:`solsphere.project`). What is added here is only lookup and formatting.
+"""
+
+from __future__ import annotations
+
+import base64
+import binascii
+import os
+import re
+import tempfile
+from functools import lru_cache
+from pathlib import Path
+
+from solsphere.errors import FitError, InputError, SolsphereError
+
+#: Largest upload the app accepts [bytes]; bigger files are refused with a message.
+UPLOAD_LIMIT = 5_000_000
+#: Table columns, in display order (the results-file columns of CONVENTIONS.md).
+COLUMNS = ("solvent", "outcome", "dD", "dP", "dH", "note")
+#: The words the table shows for each outcome (CONVENTIONS.md).
+WORDS = {"good": "dissolves", "partial": "partly", "bad": "does not"}
+PARTIAL_CHOICES = {"good": "as dissolves", "bad": "as does not", "skip": "left out"}
+DEMO_FILE = "varnish_binder.csv"
+DEMO_LABEL = "invented demo"
+
+
+# ----------------------------------------------------------------------------- rows
+
+def blank_row() -> dict:
+    """One empty table row."""
+    return {c: None for c in COLUMNS}
+
+
+def rows_from_trials(trials) -> list[dict]:
+    """Table rows for a Trials object (outcomes in the display words)."""
+    rows = []
+    for r in trials.to_rows():
+        row = {c: r.get(c) for c in COLUMNS}
+        row["outcome"] = WORDS.get(row["outcome"], row["outcome"])
+        row["note"] = row["note"] or None
+        rows.append(row)
+    return rows
+
+
+def clean_rows(rows) -> list[dict]:
+    """The table's rows with only the results-file columns (None for missing cells)."""
+    out = []
+    for r in rows or []:
+        if isinstance(r, dict):
+            out.append({c: (None if r.get(c) == "" else r.get(c)) for c in COLUMNS})
+    return out
+
+
+def normalise_outcomes(rows) -> list[dict] | None:
+    """The rows with every recognised outcome written in the display words ('yes' ->
+    'dissolves', 'bad' -> 'does not' …, as :func:`solsphere.trials.parse_outcome`
+    reads them), or None when nothing changes. Pasted and typed words then show in
+    the table's outcome menus; unrecognised words are left for the error marks."""
+    from solsphere.trials import parse_outcome
+    out, changed = [], False
+    for r in rows or []:
+        v = r.get("outcome") if isinstance(r, dict) else None
+        if v not in (None, "") and v not in WORDS.values():
+            canon = parse_outcome(v)
+            if canon is not None:
+                r = dict(r, outcome=WORDS[canon])
+                changed = True
+        out.append(r)
+    return out if changed else None
+
+
+# ----------------------------------------------------------------------------- the fit
+
+def compute_fit(rows, partial: str, library) -> dict:
+    """Validate the table and fit the sphere: the one result every screen draws from.
+
+    Parameters
+    ----------
+    rows : list of dict
+        The table (keys solvent, outcome, dD, dP, dH, note).
+    partial : {"good", "bad", "skip"}
+        How 'partly' results count.
+    library : Library
+
+    Returns
+    -------
+    dict
+        ``fit``: ``SphereFit.to_dict()`` or None; ``fit_error``: why there is no fit (or
+        None); ``problems``: one dict per bad cell (``row`` index, ``column``,
+        ``message``, ``suggestions``); ``trial_rows``: the table row of each fitted
+        trial (same order as ``fit["table"]``); ``tested``: names and CAS numbers of
+        the tested solvents; ``warnings``: reading warnings; ``partial``.
+    """
+    from solsphere import trials as T
+    from solsphere.project import Project
+    from solsphere.session import fit_project
+
+    trials, errors = T.validate_rows(clean_rows(rows), library=library)
+    problems = [problem_dict(e) for e in errors]
+    out = {"fit": None, "fit_error": None, "problems": problems,
+           "trial_rows": [t.line - 1 for t in trials],
+           "tested": sorted({t.name for t in trials} | {t.cas for t in trials if t.cas}),
+           "warnings": list(trials.warnings), "partial": partial,
+           "n_rows": sum(1 for r in clean_rows(rows) if any(v not in (None, "") for v in r.values()))}
+    if not len(trials):
+        out["fit_error"] = ("No bench results yet: add a solvent and its outcome for each "
+                            "trial (or open a results file, or the demo).")
+        return out
+    try:
+        fit = fit_project(Project(trials, {"partial": partial}), partial=partial,
+                          library=library)
+    except FitError as exc:
+        out["fit_error"] = str(exc)
+        return out
+    out["fit"] = fit.to_dict()
+    return out
+
+
+def problem_dict(err: InputError) -> dict:
+    """One bad cell for the table: row index, column name, message, suggestions."""
+    line = getattr(err, "line", None)
+    suggestions = list(getattr(err, "suggestions", []) or [])
+    message = " ".join(str(err.message).split())
+    if suggestions:  # the app offers them as buttons instead
+        message = re.sub(r"\s*Did you mean .*\?$", "", message)
+    return {"row": None if line is None else int(line) - 1,
+            "column": err.column if isinstance(err.column, str) else None,
+            "message": message,
+            "hint": err.hint, "suggestions": suggestions}
+
+
+def centre_text(fit: dict) -> str:
+    """'δD 17.9  δP 7.0  δH 6.6 MPa½' (one decimal, as in the tables)."""
+    return f"δD {fit['dD']:.1f}   δP {fit['dP']:.1f}   δH {fit['dH']:.1f} MPa½"
+
+
+def summary(result: dict | None) -> dict:
+    """What the 'Sphere' panel prints: headline numbers, misfits, warnings."""
+    if not result:
+        return {"ok": False, "message": "Waiting for results…", "warnings": []}
+    warnings = list(result.get("warnings") or [])
+    if result.get("problems"):
+        n = len(result["problems"])
+        warnings.insert(0, f"{n} cell{'s' if n > 1 else ''} in the table need{'' if n > 1 else 's'} "
+                           f"fixing (marked in red); those rows are left out of the fit.")
+    fit = result.get("fit")
+    if not fit:
+        return {"ok": False, "message": result.get("fit_error") or "No fit.",
+                "warnings": warnings}
+    partial = PARTIAL_CHOICES.get(fit["partial"], fit["partial"])
+    misfits = [f"{r['name']}: {WORDS[r['outcome']]} but {r['predicted']} (RED {_red(r['red'])})"
+               for r in fit["table"] if r.get("agrees") is False]
+    return {"ok": True, "centre": centre_text(fit), "R0": f"{fit['R0']:.1f} MPa½",
+            "desirability": f"{fit['desirability']:.3f}",
+            "counts": (f"{fit['n_trials']} trials: {fit['n_good']} dissolve, "
+                       f"{fit['n_partial']} partly, {fit['n_bad']} do not; 'partly' counted "
+                       f"{partial} ({fit['n_counted_good']} used as dissolving, "
+                       f"{fit['n_counted_bad']} as not)"),
+            "misfits": misfits, "warnings": warnings + list(fit.get("warnings") or [])}
+
+
+def table_marks(result: dict | None, n_rows: int) -> tuple[list, list, list[dict]]:
+    """Styles, tooltips and the problem list for the results table.
+
+    Returns
+    -------
+    styles : list
+        ``style_data_conditional``: bad cells in red, misfit rows shaded.
+    tooltips : list of dict
+        ``tooltip_data``: per row, the reason for a bad cell or the row's RED.
+    problems : list of dict
+        The bad cells, for the list under the table.
+    """
+    styles: list = []
+    tips: list[dict] = [{} for _ in range(n_rows)]
+    if not result:
+        return styles, tips, []
+    fit = result.get("fit")
+    if fit:
+        for k, r in enumerate(fit["table"]):
+            i = result["trial_rows"][k] if k < len(result["trial_rows"]) else None
+            if i is None or i >= n_rows:
+                continue
+            verdict = {True: "fits", False: "MISFIT", None: "left out"}[r.get("agrees")]
+            text = f"RED {_red(r['red'])} ({r['predicted']} the sphere): {verdict}"
+            tips[i].update({c: {"value": text, "type": "text"} for c in ("solvent", "outcome")})
+            if r.get("agrees") is False:
+                styles.append({"if": {"row_index": i}, "backgroundColor": "#fbe3d3",
+                               "fontWeight": "600"})
+    problems = [p for p in result.get("problems", []) if p.get("row") is not None]
+    for p in problems:
+        i, col = p["row"], p["column"] or "solvent"
+        if i >= n_rows:
+            continue
+        styles.append({"if": {"row_index": i, "column_id": col},
+                       "backgroundColor": "#f6c6c6", "border": "1px solid #b22222"})
+        text = p["message"] + (f" Fix: {p['hint']}" if p.get("hint") else "")
+        tips[i][col] = {"value": text, "type": "text"}
+    return styles, tips, problems
+
+
+def _red(x: float) -> str:
+    """RED with 2 decimals, 3 near 1 (so '1.00 outside' never puzzles anyone)."""
+    return f"{x:.3f}" if 0.995 <= x < 1.005 else f"{x:.2f}"
+
+
+def apply_suggestion(rows, row: int, column: str, value: str) -> list[dict]:
+    """The table with one cell replaced (a 'Did you mean …?' click)."""
+    rows = [dict(r) for r in rows or []]
+    if 0 <= row < len(rows) and column in COLUMNS:
+        rows[row][column] = value
+    return rows
+
+
+def add_row(rows, solvent: str | None, outcome: str | None, note: str | None = None) -> list[dict]:
+    """The table with one result appended (empty rows at the end are reused)."""
+    rows = [dict(r) for r in rows or []]
+    new = blank_row()
+    new.update({"solvent": (solvent or "").strip() or None, "outcome": outcome,
+                "note": (note or "").strip() or None})
+    for i in range(len(rows) - 1, -1, -1):  # fill the first of the trailing empty rows
+        if all(rows[i].get(c) in (None, "") for c in COLUMNS):
+            if i == 0 or any(rows[i - 1].get(c) not in (None, "") for c in COLUMNS):
+                rows[i] = new
+                return rows
+        else:
+            break
+    rows.append(new)
+    return rows
+
+
+def type_ahead_options(library) -> list[tuple[str, str]]:
+    """(value, label) pairs for the solvent type-ahead: names, abbreviations, CAS
+    numbers and synonyms of every library compound (label = the library name)."""
+    seen: set[str] = set()
+    out: list[tuple[str, str]] = []
+
+    def put(value, label):
+        key = value.casefold()
+        if value and key not in seen:
+            seen.add(key)
+            out.append((value, label))
+
+    for r in library:
+        put(r.name, "")
+    for alias, target in library.aliases.items():
+        s = library.find(alias)
+        put(alias, s.name if s else "")
+    for r in library:
+        if r.cas:
+            put(r.cas, r.name)
+        for syn in r.synonyms:
+            put(syn, r.name)
+    return out
+
+
+# ----------------------------------------------------------------------------- uploads
+
+def decode_upload(contents: str, filename: str | None, limit: int = UPLOAD_LIMIT) -> bytes:
+    """The bytes of a ``dcc.Upload`` data URL, refusing anything over ``limit``.
+
+    Raises
+    ------
+    InputError
+        Not a data URL, not base64, or too big.
+    """
+    name = os.path.basename(filename or "upload")
+    if not isinstance(contents, str) or "," not in contents:
+        raise InputError("the upload arrived empty or damaged.", file=name,
+                         hint="choose the file again")
+    head, b64 = contents.split(",", 1)
+    if len(b64) * 3 // 4 > limit + 3:
+        raise InputError(f"the file is {len(b64) * 3 / 4 / 1e6:.1f} MB; the limit is "
+                         f"{limit / 1e6:g} MB.", file=name,
+                         hint="check that this is the right file (a results table is "
+                              "usually a few kB)")
+    try:
+        data = base64.b64decode(b64, validate=True) if ";base64" in head else \
+            b64.encode("utf-8")
+    except (binascii.Error, ValueError):
+        raise InputError("the upload is not valid base64 data.", file=name,
+                         hint="choose the file again") from None
+    if len(data) > limit:
+        raise InputError(f"the file is {len(data) / 1e6:.1f} MB; the limit is "
+                         f"{limit / 1e6:g} MB.", file=name,
+                         hint="check that this is the right file")
+    return data
+
+
+def too_big_message(filename: str | None, size: float, limit: int = UPLOAD_LIMIT) -> str:
+    """The message for an upload refused in the browser before it was sent."""
+    return str(InputError(f"the file is {size / 1e6:.1f} MB; the limit is {limit / 1e6:g} MB.",
+                          file=os.path.basename(filename or "upload"),
+                          hint="check that this is the right file (a results table is "
+                               "usually a few kB)"))
+
+
+def _safe_name(filename: str | None, default: str) -> str:
+    base = os.path.basename(filename or "") or default
+    base = re.sub(r"[^\w.+-]+", "_", base)[:100].lstrip(".")
+    return base or default
+
+
+def _with_temp_file(data: bytes, filename: str | None, default: str, fn):
+    """Run ``fn(path)`` on the uploaded bytes written to a private temporary file, so
+    the library reads it exactly as it reads a file given on the command line. Error
+    messages name the uploaded file, not the temporary one."""
+    name = _safe_name(filename, default)
+    shown = os.path.basename(filename or "") or name
+    with tempfile.TemporaryDirectory(prefix="solsphere-upload-") as tmp:
+        path = Path(tmp) / name
+        path.write_bytes(data)
+        try:
+            return fn(str(path))
+        except InputError as exc:
+            raise _relabel(exc, str(path), shown) from None
+
+
+def _relabel(exc: InputError, path: str, shown: str) -> InputError:
+    def fix(x):
+        return x.replace(path, shown) if isinstance(x, str) else x
+    new = InputError(fix(exc.message), file=fix(exc.file), line=exc.line, column=exc.column,
+                     hint=fix(exc.hint))
+    if hasattr(exc, "suggestions"):
+        new.suggestions = exc.suggestions
+    return new
+
+
+def open_upload(contents: str, filename: str | None, library) -> dict:
+    """Open an uploaded results file (CSV/TSV) or project file (.json).
+
+    The library decides which it is and reads it (``solsphere.project.load_any``,
+    the same as every CLI subcommand). Nothing uploaded is executed or unpickled.
+
+    Returns
+    -------
+    dict
+        ``rows`` (table rows), ``partial`` (the project's setting or None),
+        ``saved_fit`` (the fit saved in a project, or None), ``kind``
+        ("project"/"results"), ``message``.
+
+    Raises
+    ------
+    InputError
+    """
+    from solsphere.project import load_any
+    data = decode_upload(contents, filename)
+    project = _with_temp_file(data, filename, "results.csv",
+                              lambda p: load_any(p, library=library))
+    return project_state(project, os.path.basename(filename or "upload"))
+
+
+def project_state(project, label: str) -> dict:
+    """Table rows and settings of a Project, for the app's initial or loaded state."""
+    kind = "project" if project.path is not None else "results"
+    rows = rows_from_trials(project.trials)
+    partial = project.settings.get("partial") if kind == "project" else None
+    msg = (f"Opened {label}: {len(rows)} trials"
+           + (" (project file with its saved fit)" if kind == "project" and project.fit else "")
+           + ".")
+    if project.trials.warnings:
+        msg += " " + " ".join(project.trials.warnings[:3])
+    return {"rows": rows, "partial": partial, "saved_fit": project.fit, "kind": kind,
+            "message": msg, "source": label}
+
+
+def demo_state(library) -> dict | None:
+    """The invented demo scenario from the installed package (None if it is missing)."""
+    from importlib.resources import files
+    from solsphere import trials as T
+    from solsphere.project import Project
+    try:
+        folder = files("solsphere.data.demo")
+        entry = folder.joinpath(DEMO_FILE)
+        if not entry.is_file():
+            entry = next((e for e in sorted(folder.iterdir(), key=lambda e: e.name)
+                          if e.name.endswith(".csv")), None)
+        if entry is None:
+            return None
+        text = entry.read_text(encoding="utf-8")
+    except (ModuleNotFoundError, FileNotFoundError, OSError):
+        return None
+    label = f"{entry.name} ({DEMO_LABEL})"
+    trials = T.read_text(text, source=label, library=library)
+    state = project_state(Project(trials=trials), label)
+    state["message"] = (f"Loaded the {DEMO_LABEL} ({entry.name}): {len(state['rows'])} trials "
+                        f"of an invented scenario, not measured data.")
+    return state
+
+
+def fit_matches(saved: dict | None, fit: dict | None, tol: float = 1e-6) -> bool | None:
+    """Whether a freshly computed fit equals the one saved in a project (None if either
+    is missing): same centre, R0 and desirability to ``tol``."""
+    if not saved or not fit:
+        return None
+    try:
+        return all(abs(float(saved[k]) - float(fit[k])) <= tol
+                   for k in ("dD", "dP", "dH", "R0", "desirability"))
+    except (KeyError, TypeError, ValueError):
+        return False
+
+
+# ----------------------------------------------------------------------------- shortlist
+
+def split_names(text: str | None) -> list[str]:
+    """'toluene, MEK; benzene' -> ['toluene', 'MEK', 'benzene'] (commas, semicolons, new lines)."""
+    return [x.strip() for x in re.split(r"[,;\n]", text or "") if x.strip()]
+
+
+def shortlist(result: dict | None, library, liquids_only: bool = True,
+              min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
+              exclude: str | None = None, top: int = 30) -> dict:
+    """Untried solvents nearest the sphere, with their safety facts.
+
+    Returns
+    -------
+    dict
+        ``rows`` (``Ranking.to_dict()["solvents"]`` entries plus display strings),
+        ``message`` and ``caution``.
+    """
+    from solsphere.rank import CAUTION, rank_solvents
+    from solsphere.session import candidate_pool
+    fit = (result or {}).get("fit")
+    if not fit:
+        return {"rows": [], "message": "No sphere yet: the shortlist appears once the fit "
+                                       "works.", "caution": CAUTION}
+    names = split_names(exclude)
+    try:
+        if liquids_only:
+            pool, filters = candidate_pool(library, exclude=names,
+                                           min_flash_point=_num(min_flash_point),
+                                           max_boiling_point=_num(max_boiling_point),
+                                           exclude_carcinogens=bool(no_carcinogens))
+        else:
+            sel = library.select(min_flash_point=_num(min_flash_point),
+                                 max_boiling_point=_num(max_boiling_point),
+                                 exclude_carcinogens=bool(no_carcinogens), exclude=names)
+            pool = list(sel)
+            filters = {"pool": "all library solvents", "exclude": names}
+            if not pool:
+                raise InputError("no candidate solvent is left after the filters.",
+                                 hint="relax the filters")
+    except SolsphereError as exc:
+        return {"rows": [], "message": str(exc), "caution": CAUTION}
+    ranking = rank_solvents(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"], top=int(top),
+                            tested=set(result.get("tested") or ()), filters=filters)
+    d = ranking.to_dict()
+    rows = []
+    for s in d["solvents"]:
+        rows.append(dict(s, for_fit=fit_key(fit), red_text=f"{s['red']:.2f}", dD_text=f"{s['dD']:.1f}",
+                         dP_text=f"{s['dP']:.1f}", dH_text=f"{s['dH']:.1f}",
+                         bp_text=_fmt(s.get("boiling_point"), "{:.0f}"),
+                         fp_text=_fmt(s.get("flash_point"), "{:.0f}"),
+                         twa_text=_fmt(s.get("twa_ppm"), "{:.3g}"),
+                         spread_text=_fmt(s.get("spread"), "{:.1f}"),
+                         flags_text="; ".join(s.get("flags") or [])))
+    msg = (f"{len(rows)} nearest of {d['n_candidates']} untried candidates "
+           f"({'library liquids' if liquids_only else 'all library solvents'}).")
+    return {"rows": rows, "message": msg, "caution": CAUTION}
+
+
+def _num(x):
+    if x in (None, ""):
+        return None
+    try:
+        v = float(str(x).replace(",", "."))
+    except ValueError:
+        raise InputError(f"expected a number, found {x!r}.", file="<filters>") from None
+    return v if v == v else None
+
+
+def _fmt(x, fmt: str) -> str:
+    return "—" if x is None else fmt.format(x)
+
+
+# ----------------------------------------------------------------------------- blends
+
+def blend_designer(result: dict | None, library, pool_choice: str = "library",
+                   shelf: dict | None = None, ticked=None, exclude: str | None = None,
+                   min_flash_point=None, max_boiling_point=None,
+                   no_carcinogens: bool = False, top: int = 15) -> dict:
+    """Top two-solvent blends for the fitted sphere (the CLI's ``blend`` with its
+    constraints).
+
+    Parameters
+    ----------
+    pool_choice : {"library", "shelf", "ticked"}
+        All library liquids, the uploaded shelf file (``shelf`` = {"filename",
+        "contents"}), or the ticked library solvents (``ticked`` = names).
+
+    Returns
+    -------
+    dict
+        ``blends`` (``BlendScreen.to_dict()["blends"]`` entries plus display strings
+        and the fit they belong to), ``message``, ``caution``.
+    """
+    from solsphere.blend import screen_blends
+    from solsphere.rank import CAUTION  # the one caution line shown everywhere
+    from solsphere.session import candidate_pool
+    fit = (result or {}).get("fit")
+    if not fit:
+        return {"blends": [], "message": "No sphere yet: blends appear once the fit works.",
+                "caution": CAUTION}
+    names = split_names(exclude)
+    try:
+        kw = dict(exclude=names, min_flash_point=_num(min_flash_point),
+                  max_boiling_point=_num(max_boiling_point),
+                  exclude_carcinogens=bool(no_carcinogens))
+        if pool_choice == "shelf":
+            if not shelf or not shelf.get("contents"):
+                raise InputError("no shelf file yet.", file="<shelf>",
+                                 hint="upload a CSV with a 'solvent' column listing what you have")
+            data = decode_upload(shelf["contents"], shelf.get("filename"))
+            pool, filters = _with_temp_file(data, shelf.get("filename"), "shelf.csv",
+                                            lambda p: candidate_pool(library, shelf=p, **kw))
+            where = f"the shelf {os.path.basename(shelf.get('filename') or '')}"
+        elif pool_choice == "ticked":
+            picked = [library.lookup(n) for n in (ticked or [])]
+            if len(picked) < 2:
+                raise InputError("tick at least two solvents to pair.", file="<blends>",
+                                 hint="type names into the box, or choose another pool")
+            from solsphere.library import Library
+            sub = Library.from_records(picked)
+            drop = {library.lookup(n).name for n in names}
+            sel = sub.select(min_flash_point=kw["min_flash_point"],
+                             max_boiling_point=kw["max_boiling_point"],
+                             exclude_carcinogens=kw["exclude_carcinogens"])
+            pool = [s for s in sel if s.name not in drop]
+            if len(pool) < 2:
+                raise InputError("fewer than two ticked solvents pass the constraints.",
+                                 file="<blends>", hint="relax the constraints or tick more")
+            where = f"{len(picked)} ticked solvents"
+        else:
+            pool, filters = candidate_pool(library, **kw)
+            where = "library liquids"
+        screen = screen_blends(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"],
+                               top=int(top))
+    except SolsphereError as exc:
+        return {"blends": [], "message": str(exc), "caution": CAUTION}
+    points = {s.name: [s.dD, s.dP, s.dH] for s in pool}
+    d = screen.to_dict()
+    out = []
+    for k, b in enumerate(d["blends"]):
+        if not b.get("component_points"):  # older blend results carry no points
+            b["component_points"] = [points[n] for n in b["solvents"] if n in points]
+        b = dict(b, rank=k + 1, for_fit=fit_key(fit))
+        fa, fb = b["volume_fractions"]
+        b["label"] = f"{100 * fa:.0f}% {b['solvents'][0]} + {100 * fb:.0f}% {b['solvents'][1]}"
+        b["red_text"] = f"{b['red']:.2f}"
+        w = b.get("inside_window")
+        b["window_text"] = ("none" if w is None else
+                            f"{100 * w[0]:.0f}–{100 * w[1]:.0f}% {b['solvents'][0]}")
+        m = b.get("mass_fractions")
+        b["mass_text"] = "—" if m is None else f"{100 * m[0]:.0f} : {100 * m[1]:.0f}"
+        b["nonsolvents_text"] = "yes" if b.get("both_non_solvents") else ""
+        b["fp_text"] = " / ".join(_fmt(x, "{:.0f}") for x in b.get("flash_points") or [])
+        b["twa_text"] = " / ".join(_fmt(x, "{:.3g}") for x in b.get("twa_ppm") or [])
+        b["flags_text"] = "; ".join(b.get("flags") or [])
+        out.append(b)
+    msg = (f"Top {len(out)} of {d['n_pairs_screened']} pairs from {d['n_candidates']} "
+           f"candidates ({where}).")
+    return {"blends": out, "message": msg, "caution": CAUTION}
+
+
+# ----------------------------------------------------------------------------- figures
+
+def figures_for(result: dict | None, library, show_untried: bool = True,
+                picked: list | None = None, blends: list | None = None):
+    """The 3D map and the three projections for the stored fit (plotly figures)."""
+    return (map_figure(result, library, show_untried, picked, blends),
+            planes_figure(result, blends))
+
+
+def _current(fit: dict, blends, picked=None):
+    """Keep what belongs to this fit: a blend's best mix and a solvent's RED were
+    computed for the fit of the moment they were clicked."""
+    key = fit_key(fit)
+    blends = [b for b in blends or [] if b.get("for_fit") == key]
+    picked = [p if p.get("for_fit") == key else {k: v for k, v in p.items() if k != "red"}
+              for p in picked or []]
+    return blends, picked
+
+
+def map_figure(result: dict | None, library, show_untried: bool = True,
+               picked: list | None = None, blends: list | None = None):
+    """The 3D map of the stored fit (``solsphere.figures.map3d``)."""
+    from solsphere import figures
+    from solsphere.rank import rank_solvents
+    fit = (result or {}).get("fit")
+    if not fit:
+        return empty_figure((result or {}).get("fit_error") or "No sphere yet.")
+    blends, picked = _current(fit, blends, picked)
+    untried = None
+    if show_untried:
+        ranking = rank_solvents(_liquids(library), (fit["dD"], fit["dP"], fit["dH"]), fit["R0"],
+                                tested=set(result.get("tested") or ()))
+        untried = ranking.to_dict()["solvents"]
+    return figures.map3d(fit, untried=untried, blends=blends or None,
+                         highlight=picked or None, show_untried=show_untried, height=560)
+
+
+def planes_figure(result: dict | None, blends: list | None = None):
+    """The three 2D projections of the stored fit (``solsphere.figures.projections``)."""
+    from solsphere import figures
+    fit = (result or {}).get("fit")
+    if not fit:
+        return empty_figure("", height=300)
+    blends, _ = _current(fit, blends)
+    return figures.projections(fit, blends=blends or None, height=300)
+
+
+def fit_key(fit: dict | None) -> list | None:
+    """What identifies a fit for results computed from it (centre and R0)."""
+    if not fit:
+        return None
+    return [round(float(fit[k]), 9) for k in ("dD", "dP", "dH", "R0")]
+
+
+@lru_cache(maxsize=2)
+def _liquids(library):
+    """The library's liquids (a constant of the immutable library; cached because
+    ``Library.liquids()`` rebuilds its name index on every call)."""
+    return tuple(library.liquids())
+
+
+def empty_figure(message: str, height: int = 560):
+    """A blank figure carrying a message (while there is no fit)."""
+    import plotly.graph_objects as go
+    fig = go.Figure()
+    fig.update_layout(height=height, xaxis={"visible": False}, yaxis={"visible": False},
+                      plot_bgcolor="white", margin={"l": 10, "r": 10, "t": 10, "b": 10},
+                      annotations=[{"text": _wrap(message), "showarrow": False,
+                                    "xref": "paper", "yref": "paper", "x": 0.5, "y": 0.5,
+                                    "font": {"size": 14, "color": "#555"}}] if message else [])
+    return fig
+
+
+def _wrap(text: str, width: int = 70) -> str:
+    import html
+    import textwrap
+    return "<br>".join(html.escape(x) for x in textwrap.wrap(text, width)) or ""
+
+
+# ----------------------------------------------------------------------------- share
+
+def _project(rows, partial: str, library, fit_dict: dict | None):
+    from solsphere import trials as T
+    from solsphere.project import Project
+    trials = T.from_rows(clean_rows(rows), library=library)
+    return Project(trials=trials, settings={"partial": partial}, fit=fit_dict)
+
+
+def project_file_text(rows, partial: str, library) -> str:
+    """The project file for the table (written by ``solsphere.project.save``).
+
+    Raises
+    ------
+    InputError
+        A bad cell (fix it first: a project with rows silently dropped would lose data).
+    """
+    from solsphere.project import save
+    from solsphere.session import fit_project
+    project = _project(rows, partial, library, None)
+    try:
+        fit = fit_project(project, partial=partial, library=library)
+        project.fit = fit.to_dict()
+    except FitError:
+        project.fit = None
+    with tempfile.TemporaryDirectory(prefix="solsphere-save-") as tmp:
+        path = Path(tmp) / "project.json"
+        save(project, path)
+        return path.read_text(encoding="utf-8")
+
+
+def share_page_text(rows, partial: str, library, title: str | None = None) -> str:
+    """The standalone HTML page, the same as ``solsphere share`` writes.
+
+    Raises
+    ------
+    InputError, FitError
+    """
+    from solsphere.session import fit_project, share_page
+    project = _project(rows, partial, library, None)
+    fit = fit_project(project, partial=partial, library=library)
+    return share_page(project, fit, library, title=title or None)
+
+
+def download_name(source: str | None, suffix: str) -> str:
+    """A file name for a download, from the opened file's name."""
+    stem = Path(os.path.basename(source or "")).stem if source else ""
+    stem = re.sub(r"[^\w.-]+", "-", stem.split(" (")[0]).strip("-.") or "solsphere"
+    return f"{stem}{suffix}"
+
+
+def caution_text() -> str:
+    """The caution shown near every recommendation (``solsphere.rank.CAUTION``)."""
+    from solsphere.rank import CAUTION
+    return CAUTION
