@@ -59,7 +59,7 @@ from typing import Any, Iterable, Sequence
 import numpy as np
 
 from solsphere.hsp import SCALE, mix, ra
-from solsphere.library import Solvent
+from solsphere.library import Solvent, hazard_flags
 
 __all__ = ["pair_screen", "best_fraction", "inside_window", "mass_fractions",
            "Blend", "BlendScreen", "screen_blends", "CAUTION"]
@@ -75,12 +75,6 @@ _SINGLE_TOL = 1e-9
 #: Default number of pairs handled at once by :func:`pair_screen` (bounds memory).
 _CHUNK = 1 << 16
 
-# Flash-point thresholds of the GHS flammable-liquid categories [2] (from memory).
-_FP_HIGHLY_FLAMMABLE = 23.0
-_FP_FLAMMABLE = 60.0
-# An 8-hour TWA at or below this is flagged as a low exposure limit
-# (common practice, no source).
-_LOW_TWA_PPM = 10.0
 
 
 # --------------------------------------------------------------------------------------
@@ -321,39 +315,11 @@ def mass_fractions(phi: float, density_a: float | None,
 # safety flags
 # --------------------------------------------------------------------------------------
 
-def _fallback_hazard_flags(s: Solvent) -> list[str]:
-    """Minimal hazard texts for one solvent (used when the library offers none)."""
-    out = []
-    fp = s.flash_point
-    if fp is None:
-        out.append("flash point unknown")
-    elif fp < _FP_HIGHLY_FLAMMABLE:
-        out.append(f"flash point {fp:.0f} °C (below {_FP_HIGHLY_FLAMMABLE:.0f} °C: "
-                   "highly flammable)")
-    elif fp <= _FP_FLAMMABLE:
-        out.append(f"flash point {fp:.0f} °C (flammable, at or below "
-                   f"{_FP_FLAMMABLE:.0f} °C)")
-    if s.twa_ppm is not None and s.twa_ppm <= _LOW_TWA_PPM:
-        out.append(f"low exposure limit (8-h TWA {s.twa_ppm:g} ppm)")
-    if s.carcinogen:
-        out.append(f"carcinogen listed: {s.carcinogen}")
-    return out
-
-
-def _hazard_source():
-    """The library's ``hazard_flags(solvent)`` if it exists, else the local fallback."""
-    try:
-        from solsphere.library import hazard_flags  # written by the data helper
-    except ImportError:
-        return _fallback_hazard_flags
-    return hazard_flags
-
-
 def _component_flags(solvents: Sequence[Solvent]) -> list[str]:
-    flags_of = _hazard_source()
+    """The library's hazard flags of each component, prefixed with its name."""
     out: list[str] = []
     for s in solvents:
-        for text in flags_of(s) or ():
+        for text in hazard_flags(s) or ():
             text = str(text)
             line = text if text.casefold().startswith(s.name.casefold()) else f"{s.name}: {text}"
             if line not in out:

@@ -324,15 +324,13 @@ def test_to_dict_contract_and_json():
     assert "flash pt" in text and "two non-solvents" in text
 
 
-def test_fallback_hazard_flags():
-    flags = blend_mod._fallback_hazard_flags
-    assert any("highly flammable" in t for t in flags(_solv("x", A, flash_point=-18.0)))
-    assert any("flammable" in t for t in flags(_solv("x", A, flash_point=40.0)))
-    assert flags(_solv("x", A, flash_point=95.0, twa_ppm=100.0)) == []
-    assert flags(_solv("x", A)) == ["flash point unknown"]
-    assert any("exposure" in t for t in flags(_solv("x", A, flash_point=95, twa_ppm=1)))
-    assert any("carcinogen" in t for t in flags(_solv("x", A, flash_point=95,
-                                                      carcinogen="IARC 1")))
+def test_component_flags_are_the_librarys_with_names():
+    from solsphere.library import hazard_flags
+    hot = _solv("hot", A, flash_point=-18.0)
+    safe = _solv("safe", B, flash_point=95.0, twa_ppm=100.0)
+    flags = blend_mod._component_flags([hot, safe])
+    assert flags == [f"hot: {t}" for t in hazard_flags(hot)] + [f"safe: {t}" for t in hazard_flags(safe)]
+    assert any("highly flammable" in t for t in flags)
 
 
 def test_bad_arguments():
