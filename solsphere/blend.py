@@ -315,8 +315,46 @@ def mass_fractions(phi: float, density_a: float | None,
 # safety flags
 # --------------------------------------------------------------------------------------
 
+#: Two components further apart than this [MPa½] may not mix at all (e.g. methanol and
+#: hexane, 25.5; ethylene glycol and hexane, 28); our rule of thumb, no source.
+MISCIBILITY_RA = 25.0
+#: Water and a solvent with log P above this rarely mix in all proportions
+#: (common practice, no source).
+WATER_LOG_P = 1.0
+_WATER_CAS = "7732-18-5"
+
+
+def miscibility_warning(a: Solvent, b: Solvent) -> str | None:
+    """A caution when two components may not form one liquid phase.
+
+    The volume-fraction mixing rule assumes a single miscible phase; a blend of
+    immiscible liquids separates, whatever its average parameters say. Two signs are
+    checked: water with a solvent of log P > :data:`WATER_LOG_P` (for water only this one,
+    since water is far from every organic solvent, miscible or not), and other
+    components more than :data:`MISCIBILITY_RA` MPa½ apart.
+    """
+    for w, o in ((a, b), (b, a)):
+        if w.cas == _WATER_CAS:  # water sits far from everything; only log P tells
+            if o.log_p is not None and o.log_p > WATER_LOG_P:
+                return (f"{o.name} and water may not mix (log P {o.log_p:.1f}): check that "
+                        f"the blend is one clear phase")
+            return None
+    d = float(ra(np.array([a.point]), b.point)[0])
+    if d > MISCIBILITY_RA:
+        return (f"{a.name} and {b.name} are {d:.0f} MPa½ apart and may not mix: check that "
+                f"the blend is one clear phase")
+    return None
+
+
+def may_not_mix(solvents: Sequence[Solvent]) -> bool:
+    """True when any two of the components may not form one liquid phase."""
+    return any(miscibility_warning(a, b) for k, a in enumerate(solvents)
+               for b in solvents[k + 1:])
+
+
 def _component_flags(solvents: Sequence[Solvent]) -> list[str]:
-    """The library's hazard flags of each component, prefixed with its name."""
+    """The library's hazard flags of each component, prefixed with its name, then
+    any miscibility cautions for pairs of components."""
     out: list[str] = []
     for s in solvents:
         for text in hazard_flags(s) or ():
@@ -324,6 +362,11 @@ def _component_flags(solvents: Sequence[Solvent]) -> list[str]:
             line = text if text.casefold().startswith(s.name.casefold()) else f"{s.name}: {text}"
             if line not in out:
                 out.append(line)
+    for k, a in enumerate(solvents):
+        for b in solvents[k + 1:]:
+            warning = miscibility_warning(a, b)
+            if warning:
+                out.append(warning)
     return out
 
 

@@ -67,6 +67,13 @@ def _add_pool(p):
                    help="only solvents boiling at or below this")
     p.add_argument("--no-carcinogens", action="store_true",
                    help="leave out solvents with a carcinogen classification")
+    p.add_argument("--min-boiling-point", type=_number, metavar="°C",
+                   help="only solvents boiling at or above this (slow-drying limit)")
+    p.add_argument("--min-exposure-limit", type=_number, metavar="PPM",
+                   help="leave out solvents whose 8-h exposure limit (TWA) is below this")
+    p.add_argument("--restricted", metavar="FILE",
+                   help="CSV listing restricted solvents (column 'solvent'), all left out; "
+                        "see data/restricted_example.csv")
     p.add_argument("--temperature", type=_number, metavar="°C",
                    help="shift the candidates' coordinates to this process temperature "
                         "(Hansen–Beerbower relations); the sphere stays as fitted")
@@ -103,8 +110,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--drying", action="store_true",
                    help="simulate evaporation (Raoult's law) and report when the drying "
                         "liquid leaves the sphere")
-    p.add_argument("--rank-by-drying", action="store_true",
-                   help="with --drying: list first the blends that stay inside longest")
+    p.add_argument("--rank-by", choices=("red", "drying", "cost"), default="red",
+                   help="order: RED (default); drying (with --drying: longest inside "
+                        "first); cost (inside blends, cheapest first; needs shelf prices)")
 
     p = sub.add_parser("replace", help="solvents and pairs that can replace a given solvent",
                        epilog=EPILOG)
@@ -157,7 +165,10 @@ def candidate_pool(args, lib, project, *, limits: bool = True):
         solvents, filters = pool(lib, shelf=args.candidates, exclude=_split(args.exclude),
                                  min_flash_point=args.min_flash_point if limits else None,
                                  max_boiling_point=args.max_boiling_point if limits else None,
-                                 exclude_carcinogens=args.no_carcinogens)
+                                 exclude_carcinogens=args.no_carcinogens,
+                                 min_boiling_point=args.min_boiling_point,
+                                 min_exposure_limit=args.min_exposure_limit,
+                                 restricted=args.restricted)
     except UnknownSolventError as exc:
         if exc.file is None:  # a name given to --exclude
             exc.file, exc.column = "<command line>", "--exclude"
@@ -242,8 +253,10 @@ def cmd_blend(args) -> int:
         # one removed, so its report counts them truthfully
         pool, _ = candidate_pool(args, lib, project, limits=False)
     centre = (fit.dD, fit.dP, fit.dH)
+    # ranking by cost or drying looks at every inside blend, not only the nearest
+    top = None if args.rank_by != "red" else args.top
     limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
-                  top=args.top, only_blends=not args.with_single)
+                  top=top, only_blends=not args.with_single)
     if args.components == 3:
         from .triples import screen_triples
         screen = screen_triples(pool, centre, fit.R0,
@@ -257,9 +270,12 @@ def cmd_blend(args) -> int:
         from .blend import screen_blends
         screen = screen_blends(pool, centre, fit.R0, **limits)
     screen.filters.update(filters)
+    if top is None:  # keep the work bounded: the inside blends (or the nearest 500)
+        inside = [b for b in screen.blends if b.red <= 1.0]
+        screen.blends = (inside or screen.blends)[:max(500, args.top)]
     blends = add_safety_and_drying(screen, pool, centre, fit.R0, drying=args.drying,
                                    temperature_C=_temperature(args),
-                                   rank_by_drying=args.rank_by_drying)
+                                   rank_by=args.rank_by, top=args.top)
     _emit(args, dict(screen.to_dict(), blends=blends),
           str(screen) + _blend_notes(blends, args.drying))
     return 0
@@ -271,6 +287,8 @@ def _blend_notes(blends: list[dict], drying: bool) -> str:
     for k, b in enumerate(blends, 1):
         label = " + ".join(f"{100 * f:.0f}% {n}" for n, f in zip(b["solvents"], b["volume_fractions"]))
         parts = []
+        if b.get("price_per_litre") is not None:
+            parts.append(f"price ≈ {b['price_per_litre']:.2f} per litre")
         fpe = b.get("flash_point_estimate") or {}
         if fpe.get("estimate") is not None:
             low = fpe.get("conservative")

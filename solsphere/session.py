@@ -40,8 +40,32 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
 
 
 def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_point=None,
-                   max_boiling_point=None, exclude_carcinogens: bool = False):
+                   max_boiling_point=None, exclude_carcinogens: bool = False,
+                   min_boiling_point=None, min_exposure_limit=None, restricted: str | None = None,
+                   liquid_only: bool | None = None):
     """The solvents to rank or blend: the library's liquids or a user's shelf, filtered.
+
+    Parameters
+    ----------
+    library : Library
+    shelf : str or None
+        A shelf file (the user's solvents); None means every library liquid.
+    exclude : iterable of str
+        Names, CAS numbers or abbreviations to leave out.
+    min_flash_point, max_boiling_point, min_boiling_point : float or None
+        Limits [°C]; a solvent whose value is unknown does not pass an active limit.
+        For blends a minimum flash point on every component is the conservative rule:
+        the lowest component flash point bounds the blend's from above for ideal
+        mixtures, so requiring each component to pass keeps the bound at the limit.
+    exclude_carcinogens : bool
+        Leave out solvents with any carcinogen classification.
+    min_exposure_limit : float or None
+        Leave out solvents whose 8-hour exposure limit (TWA) is below this [ppm]; a
+        solvent with no exposure-limit data is kept (most of the library has none).
+    restricted : str or None
+        A file listing restricted solvents (column ``solvent``), all left out.
+    liquid_only : bool or None
+        Keep only liquids at 25 °C; None means yes for the library, no for a shelf.
 
     Returns
     -------
@@ -50,27 +74,38 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         What was applied, for the record.
     """
     from .library import Library
+    from .shelf import read_shelf
     filters = {"pool": shelf or "library liquids", "exclude": list(exclude),
                "min_flash_point": min_flash_point, "max_boiling_point": max_boiling_point,
-               "exclude_carcinogens": exclude_carcinogens}
+               "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
+               "exclude_carcinogens": exclude_carcinogens, "restricted": restricted}
     if shelf:
-        from .shelf import read_shelf
         base = Library.from_records(read_shelf(shelf, library))
-        liquid_only = False
     else:
-        base, liquid_only = library, True
+        base = library
+    if liquid_only is None:
+        liquid_only = not shelf
     # a shelf's own solvents by their shelf names; everything else through the full
     # library, so abbreviations (MEK) work on shelves too
     names = {((base.find(n) if shelf else None) or library.lookup(n)).name for n in exclude}
+    if restricted:
+        banned = {s.name for s in read_shelf(restricted, library)}
+        filters["restricted_names"] = sorted(banned)
+        names |= banned
     pool = base.select(liquid_only=liquid_only, min_flash_point=min_flash_point,
                        max_boiling_point=max_boiling_point,
                        exclude_carcinogens=exclude_carcinogens, exclude=())
     pool = [s for s in pool if s.name not in names]
+    if min_boiling_point is not None:
+        pool = [s for s in pool if s.boiling_point is not None and s.boiling_point >= min_boiling_point]
+    if min_exposure_limit is not None:
+        pool = [s for s in pool if s.twa_ppm is None or s.twa_ppm >= min_exposure_limit]
     if not pool:
         raise InputError("no candidate solvent is left after the filters "
                          f"({_describe(filters)}).", file=shelf,
-                         hint="relax --min-flash-point / --max-boiling-point / --exclude, "
-                              "or add solvents to the shelf")
+                         hint="relax --min-flash-point / --max-boiling-point / "
+                              "--min-boiling-point / --min-exposure-limit / --exclude / "
+                              "--restricted, or add solvents to the shelf")
     return list(pool), filters
 
 
@@ -138,18 +173,24 @@ def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0)
 
 
 def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
-                          temperature_C: float = 25.0, rank_by_drying: bool = False):
+                          temperature_C: float = 25.0, rank_by: str = "red",
+                          top: int | None = None):
     """Attach the blend flash-point estimate (and, asked for, the drying path) to each blend.
 
-    Each blend's dict (``screen.to_dict()``) then carries ``flash_point_estimate`` and,
-    with ``drying``, ``drying`` (the :class:`~solsphere.drying.DryingPath` dict). With
-    ``rank_by_drying`` the blends are re-sorted so those that stay inside longest come first.
+    Each blend's dict (``screen.to_dict()``) then carries ``flash_point_estimate``,
+    ``price_per_litre`` (Σ volume fraction × price, when the shelf gives every price) and,
+    with ``drying``, ``drying`` (the :class:`~solsphere.drying.DryingPath` dict).
+    ``rank_by`` re-sorts: "red" (as screened), "drying" (those that stay inside longest
+    first) or "cost" (blends inside the sphere, cheapest first, those whose components may
+    not mix after the others; then the rest by RED).
+    ``screen.blends`` is put in the same order and cut to ``top``.
 
     Returns
     -------
     list of dict
         The blends as dicts, in the final order.
     """
+    from .blend import may_not_mix
     from .drying import drying_path, volume_to_mole_fractions
     from .flash import blend_flash_point, vapour_pressure
     by_name = {s.name: s for s in pool}
@@ -165,6 +206,10 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
              if all(v is not None for v in vm) else None)
         d["flash_point_estimate"] = (blend_flash_point(x, fp, vp, bp, names=b.solvents)
                                      if x is not None else None)
+        d["may_not_mix"] = may_not_mix(comps)
+        prices = [s.price for s in comps]
+        d["price_per_litre"] = (float(sum(f * p for f, p in zip(b.volume_fractions, prices)))
+                                if all(p is not None for p in prices) else None)
         if drying:
             if all(v is not None for v in vm + vp + bp):
                 vpt = [float(vapour_pressure(temperature_C, p, t)[0]) if temperature_C != 25.0
@@ -176,7 +221,23 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
             else:
                 d["drying"] = None
                 d["drying_inside_until"] = None
-        out.append(d)
-    if drying and rank_by_drying:
-        out.sort(key=lambda d: -(d["drying_inside_until"] if d["drying_inside_until"] is not None else -1))
-    return out
+        out.append((b, d))
+    if rank_by == "drying":
+        if not drying:
+            raise InputError("ranking by drying needs the drying simulation.",
+                             file="<command line>", hint="add --drying")
+        out.sort(key=lambda bd: -(bd[1]["drying_inside_until"]
+                                  if bd[1]["drying_inside_until"] is not None else -1.0))
+    elif rank_by == "cost":
+        if not any(d["price_per_litre"] is not None for _, d in out):
+            raise InputError("no blend has a price: ranking by cost needs a shelf file with "
+                             "a price column.", file="<command line>",
+                             hint="give --candidates SHELF with columns solvent,price")
+        out.sort(key=lambda bd: (bd[1]["red"] > 1.0, bd[1]["may_not_mix"],
+                                 bd[1]["price_per_litre"] is None,
+                                 bd[1]["price_per_litre"] or 0.0, bd[1]["red"]))
+    elif rank_by != "red":
+        raise ValueError(f"rank_by must be 'red', 'drying' or 'cost'; found {rank_by!r}")
+    out = out[:top] if top is not None else out
+    screen.blends = [b for b, _ in out]
+    return [d for _, d in out]

@@ -365,3 +365,18 @@ def test_packaged_library_smoke():
     json.dumps(res.to_dict())
     assert res.n_pairs_screened == res.n_candidates * (res.n_candidates - 1) // 2
     assert [x.red for x in res.blends] == sorted(x.red for x in res.blends)
+
+
+def test_miscibility_warning():
+    from solsphere.blend import may_not_mix, miscibility_warning
+    # Library-like points (Hansen handbook values, from memory); log P from common practice.
+    water = _solv("water", (15.5, 16.0, 42.3), cas="7732-18-5")
+    heptane = _solv("heptane", (15.3, 0.0, 0.0), log_p=4.66)
+    acetone = _solv("acetone", (15.5, 10.4, 7.0), log_p=-0.24)
+    methanol = _solv("methanol", (15.1, 12.3, 22.3))
+    hexane = _solv("hexane", (14.9, 0.0, 0.0))
+    assert "may not mix" in miscibility_warning(water, heptane)
+    assert miscibility_warning(water, acetone) is None            # miscible in practice
+    assert "may not mix" in miscibility_warning(methanol, hexane)  # Ra 25.5 > 25
+    assert miscibility_warning(acetone, hexane) is None
+    assert may_not_mix([acetone, water, heptane]) and not may_not_mix([acetone, hexane])

@@ -95,3 +95,52 @@ def test_replace_for_material_marks_side(capsys):
 def test_replace_unknown_name(capsys):
     code, _, err = run(capsys, "replace", "tolune")
     assert code == 2 and "toluene" in err
+
+
+SHELF = "tests/data/shelf_common.csv"  # invented prices
+
+
+def test_cost_ranking_puts_cheapest_inside_first(capsys):
+    code, out, _ = run(capsys, "blend", DEMO, "--candidates", SHELF, "--rank-by", "cost",
+                       "--top", "6", "--json")
+    assert code == 0
+    blends = json.loads(out)["blends"]
+    inside = [b for b in blends if b["red"] <= 1.0]
+    assert inside
+    # price per litre is the volume-fraction weighted mean of the shelf prices
+    prices = {"acetone": 3.1, "MEK": 3.5, "ethyl acetate": 2.8, "butyl acetate": 3.0,
+              "toluene": 2.2, "p-xylene": 2.4, "ethanol": 2.0, "isopropanol": 2.3,
+              "1-butanol": 2.9, "heptane": 2.1, "cyclohexanone": 4.2, "water": 0.1}
+    for b in inside:
+        if all(n in prices for n in b["solvents"]):
+            assert b["price_per_litre"] == pytest.approx(
+                sum(f * prices[n] for n, f in zip(b["solvents"], b["volume_fractions"])))
+    mixable = [b for b in inside if not b["may_not_mix"]]
+    ps = [b["price_per_litre"] for b in mixable]
+    assert ps == sorted(ps)
+    first_unmixable = next((k for k, b in enumerate(inside) if b["may_not_mix"]), len(inside))
+    assert all(not b["may_not_mix"] for b in inside[:first_unmixable])
+
+
+def test_cost_ranking_needs_prices(capsys):
+    code, _, err = run(capsys, "blend", DEMO, "--rank-by", "cost")
+    assert code == 2 and "price" in err
+
+
+def test_drying_ranking_needs_drying(capsys):
+    code, _, err = run(capsys, "blend", DEMO, "--candidates", SHELF, "--rank-by", "drying")
+    assert code == 2 and "--drying" in err
+
+
+def test_restricted_list_and_limits(capsys):
+    code, out, _ = run(capsys, "rank", DEMO, "--restricted", "data/restricted_example.csv",
+                       "--min-exposure-limit", "20", "--min-boiling-point", "100",
+                       "--top", "40", "--json", "--include-tested")
+    assert code == 0
+    d = json.loads(out)
+    banned = set(d["filters"]["restricted_names"])
+    assert {"benzene", "n,n-dimethylformamide", "1,2-dichloroethane"} <= banned
+    for s in d["solvents"]:
+        assert s["name"] not in banned
+        assert s["twa_ppm"] is None or s["twa_ppm"] >= 20
+        assert s["boiling_point"] is not None and s["boiling_point"] >= 100
