@@ -245,7 +245,7 @@ def _temperature(args) -> float:
 
 
 def cmd_blend(args) -> int:
-    from .session import add_safety_and_drying
+    from .session import add_safety_and_drying, blend_notes
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(args, lib, project)  # says so when nothing is left
     if args.min_flash_point is not None or args.max_boiling_point is not None:
@@ -277,36 +277,8 @@ def cmd_blend(args) -> int:
                                    temperature_C=_temperature(args),
                                    rank_by=args.rank_by, top=args.top)
     _emit(args, dict(screen.to_dict(), blends=blends),
-          str(screen) + _blend_notes(blends, args.drying))
+          str(screen) + blend_notes(blends, args.drying))
     return 0
-
-
-def _blend_notes(blends: list[dict], drying: bool) -> str:
-    """Flash-point estimates and drying outcomes, one line per blend."""
-    lines = []
-    for k, b in enumerate(blends, 1):
-        label = " + ".join(f"{100 * f:.0f}% {n}" for n, f in zip(b["solvents"], b["volume_fractions"]))
-        parts = []
-        if b.get("price_per_litre") is not None:
-            parts.append(f"price ≈ {b['price_per_litre']:.2f} per litre")
-        fpe = b.get("flash_point_estimate") or {}
-        if fpe.get("estimate") is not None:
-            low = fpe.get("conservative")
-            parts.append(f"flash point ≈ {fpe['estimate']:.0f} °C (ideal-mixture estimate"
-                         + (f"; lowest component {low:.0f} °C)" if low is not None else ")"))
-        if drying:
-            d = b.get("drying")
-            if d is None:
-                parts.append("drying: no vapour-pressure data")
-            elif d.get("leaves_at") is None:
-                parts.append(f"drying: stays inside to dryness ({d.get('last_component')} left last)")
-            else:
-                parts.append(f"drying: leaves the sphere at {100 * d['leaves_at']:.0f}% evaporated")
-        if parts:
-            lines.append(f"  {k}. {label}: " + "; ".join(parts))
-    if not lines:
-        return ""
-    return "\n\nFlash point and drying (estimates, not measurements):\n" + "\n".join(lines)
 
 
 def cmd_replace(args) -> int:

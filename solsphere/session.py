@@ -115,7 +115,8 @@ def _describe(filters: dict) -> str:
 
 
 def share_page(project, fit, library, title: str | None = None, n_blends: int = 5) -> str:
-    """The standalone HTML page for a fitted project (3D map, projections, reports)."""
+    """The standalone HTML page for a fitted project: 3D map (with the best blends and
+    their drying paths), the projections, and the reports."""
     from . import figures
     from .blend import screen_blends
     from .rank import CAUTION, rank_solvents
@@ -124,15 +125,18 @@ def share_page(project, fit, library, title: str | None = None, n_blends: int = 
     centre = (fit.dD, fit.dP, fit.dH)
     ranking = rank_solvents(pool, centre, fit.R0, tested=tested)
     blends = screen_blends(pool, centre, fit.R0, top=n_blends)
+    bl = add_safety_and_drying(blends, pool, centre, fit.R0, drying=True)
+    paths = [{"points": b["drying"]["points"],
+              "label": "drying: " + " + ".join(b["solvents"])}
+             for b in bl if b.get("drying")]
     fd = fit.to_dict()
-    bl = blends.to_dict()["blends"]
-    fig3 = figures.map3d(fd, untried=ranking.to_dict()["solvents"], blends=bl)
+    fig3 = figures.map3d(fd, untried=ranking.to_dict()["solvents"], blends=bl, paths=paths)
     fig2 = figures.projections(fd, blends=bl)
     top = rank_solvents(pool, centre, fit.R0, top=15, tested=tested)
     title = title or f"Hansen solubility sphere — {project.trials.source}"
     return figures.share_html(fig3, fig2, str(fit), title=title, caution=CAUTION,
                               extra_sections=[("Untried solvents nearest the sphere", str(top)),
-                                              ("Blends", str(blends))])
+                                              ("Blends", str(blends) + blend_notes(bl, True))])
 
 
 def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0):
@@ -241,3 +245,31 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
     out = out[:top] if top is not None else out
     screen.blends = [b for b, _ in out]
     return [d for _, d in out]
+
+
+def blend_notes(blends: list[dict], drying: bool) -> str:
+    """Flash-point estimates and drying outcomes, one line per blend."""
+    lines = []
+    for k, b in enumerate(blends, 1):
+        label = " + ".join(f"{100 * f:.0f}% {n}" for n, f in zip(b["solvents"], b["volume_fractions"]))
+        parts = []
+        if b.get("price_per_litre") is not None:
+            parts.append(f"price ≈ {b['price_per_litre']:.2f} per litre")
+        fpe = b.get("flash_point_estimate") or {}
+        if fpe.get("estimate") is not None:
+            low = fpe.get("conservative")
+            parts.append(f"flash point ≈ {fpe['estimate']:.0f} °C (ideal-mixture estimate"
+                         + (f"; lowest component {low:.0f} °C)" if low is not None else ")"))
+        if drying:
+            d = b.get("drying")
+            if d is None:
+                parts.append("drying: no vapour-pressure data")
+            elif d.get("leaves_at") is None:
+                parts.append(f"drying: stays inside to dryness ({d.get('last_component')} left last)")
+            else:
+                parts.append(f"drying: leaves the sphere at {100 * d['leaves_at']:.0f}% evaporated")
+        if parts:
+            lines.append(f"  {k}. {label}: " + "; ".join(parts))
+    if not lines:
+        return ""
+    return "\n\nFlash point and drying (estimates, not measurements):\n" + "\n".join(lines)
