@@ -179,8 +179,13 @@ def _lexmin(l: np.ndarray, R0: np.ndarray):
     return np.argmin(best, axis=-1)
 
 
-def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=400):
-    """Global Sobol stage, then a batched pattern search from the best distinct starts."""
+def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=400,
+            start=None):
+    """Global Sobol stage, then a batched pattern search from the best distinct starts.
+
+    ``start`` (array of shape (k, 3), optional) adds centres to the global stage's
+    candidates (clipped to the box), e.g. a previous fit's centre for a warm start.
+    """
     rng = np.random.default_rng(seed)
     keep = w > 0
     X, g, w = X[keep], g[keep], w[keep]
@@ -195,7 +200,8 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
 
     sob = qmc.Sobol(3, scramble=True, seed=rng).random(n_global)
     centroid = (w[g] @ X[g]) / w[g].sum()
-    C0 = np.clip(np.vstack([centroid, X[g], lo + sob * width]), lo, hi)
+    extra = np.empty((0, 3)) if start is None else as_points(start)
+    C0 = np.clip(np.vstack([extra, centroid, X[g], lo + sob * width]), lo, hi)
     R0, l = evaluate(C0)
     order = np.lexsort((R0, l))
     far = np.ones(len(C0), dtype=bool)  # far from every start taken so far
@@ -227,7 +233,8 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
     return C[b], bool(np.all(s <= s_min)), count
 
 
-def fit_sphere(points, good, weights=None, bounds=None, seed=0):
+def fit_sphere(points, good, weights=None, bounds=None, seed=0, *, start=None,
+               n_global=2048, n_starts=8, xtol=1e-6):
     """Centre and radius of greatest desirability (ties: the smallest R0).
 
     Global stage: the goods' weighted centroid, each good solvent and 2048 scrambled
@@ -248,6 +255,15 @@ def fit_sphere(points, good, weights=None, bounds=None, seed=0):
     bounds : array-like of shape (3, 2), default=None
         Search box [[lo, hi]] per coordinate; default :func:`default_bounds`.
     seed : int or numpy.random.Generator or None, default=0
+    start : array-like of shape (k, 3), default=None
+        Extra candidate centres for the global stage (a warm start, e.g. the centre of
+        a fit to similar data); they compete with the others for the polished starts.
+    n_global : int, default=2048
+        Number of Sobol points of the global stage (a power of 2 keeps them balanced).
+    n_starts : int, default=8
+        Number of distinct starts polished by the pattern search.
+    xtol : float, default=1e-6
+        Final step of the pattern search [MPa½].
 
     Returns
     -------
@@ -260,11 +276,12 @@ def fit_sphere(points, good, weights=None, bounds=None, seed=0):
     >>> c.round(4).tolist(), round(R0, 4), D
     ([18.0, 10.0, 7.0], 2.0, 1.0)
     """
-    c, _, _, R0, D = _fit(points, good, weights, bounds, seed)
+    c, _, _, R0, D = _fit(points, good, weights, bounds, seed, start=start,
+                          n_global=n_global, n_starts=n_starts, xtol=xtol)
     return c, R0, D
 
 
-def _fit(points, good, weights, bounds, seed):
+def _fit(points, good, weights, bounds, seed, **search):
     X = as_points(points)
     g = np.asarray(good, dtype=bool).reshape(-1)
     w = _weights(weights, len(X))
@@ -273,7 +290,7 @@ def _fit(points, good, weights, bounds, seed):
     if not (np.any(g & (w > 0)) and np.any(~g & (w > 0))):
         raise FitError("a sphere needs at least one good and one bad result (with weight > 0)")
     box = _box(bounds, X)
-    c, ok, count = _search(X, g, w, box, seed)
+    c, ok, count = _search(X, g, w, box, seed, **search)
     R0, D = best_radius(ra(X, c), g, w)
     return c, ok, count, R0, D
 
