@@ -173,9 +173,14 @@ def _box(bounds, points) -> np.ndarray:
     return b
 
 
+#: Two values of -ln D closer than this are a tie (rounding: a perfect fit can come out
+#: as 1e-16 instead of 0), decided by the smaller R0.
+_TIE = 1e-12
+
+
 def _lexmin(l: np.ndarray, R0: np.ndarray):
-    """Index per row of the smallest -ln D, ties broken by the smallest R0."""
-    best = np.where(l == l.min(axis=-1, keepdims=True), R0, np.inf)
+    """Index per row of the smallest -ln D, ties (within _TIE) broken by the smallest R0."""
+    best = np.where(l <= l.min(axis=-1, keepdims=True) + _TIE, R0, np.inf)
     return np.argmin(best, axis=-1)
 
 
@@ -203,7 +208,7 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
     extra = np.empty((0, 3)) if start is None else as_points(start)
     C0 = np.clip(np.vstack([extra, centroid, X[g], lo + sob * width]), lo, hi)
     R0, l = evaluate(C0)
-    order = np.lexsort((R0, l))
+    order = np.lexsort((R0, np.where(l <= l.min() + _TIE, l.min(), l)))
     far = np.ones(len(C0), dtype=bool)  # far from every start taken so far
     sep = 0.05 * float(np.linalg.norm(width * (2.0, 1.0, 1.0)))
     starts = []
@@ -225,7 +230,7 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
         j = _lexmin(lc, Rc)
         rows = np.arange(len(act))
         lb, Rb = lc[rows, j], Rc[rows, j]
-        better = (lb < l[act]) | ((lb == l[act]) & (Rb < R0[act]))
+        better = (lb < l[act] - _TIE) | ((lb <= l[act] + _TIE) & (Rb < R0[act]))
         mv = act[better]
         C[mv], l[mv], R0[mv] = cand[rows[better], j[better]], lb[better], Rb[better]
         s[act[~better]] *= 0.5

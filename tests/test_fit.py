@@ -274,3 +274,17 @@ def test_table_agrees_with_desirability(seed):
         assert row["agrees"] == (p <= 1e-5)
     assert res.desirability == pytest.approx(math.exp(-np.mean(pen)), rel=1e-12)
     assert res.misfits == [r["name"] for r in res.table if not r["agrees"]]
+
+
+def test_perfect_fit_plateau_keeps_the_smallest_sphere():
+    # A perfect fit can score -ln D = 1e-16 instead of 0 by rounding; that must still tie
+    # with an exact 0 so the smallest R0 wins. Invented points: the three goods lie on a
+    # sphere of Ra = 2 around (18, 10, 7), the bads far outside.
+    from solsphere.fit import fit_sphere
+    goods = [(17, 10, 7), (19, 10, 7), (18, 10, 9)]
+    bads = [(10, 30, 30), (25, 0, 0), (14, 2, 20), (12, 25, 2)]
+    X = np.array(goods + bads, dtype=float)
+    g = np.array([True] * 3 + [False] * 4)
+    centre, R0, D = fit_sphere(X, g)
+    assert D == pytest.approx(1.0)
+    assert R0 <= 2.0 + 1e-6          # the sphere through the three goods, not a bigger one
