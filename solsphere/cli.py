@@ -11,7 +11,7 @@ import argparse
 import json
 import sys
 
-from .errors import InputError, SolsphereError
+from .errors import FitError, InputError, SolsphereError
 
 EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
           "flammable and toxic: read each safety data sheet and work with ventilation and "
@@ -36,6 +36,24 @@ def _positive_int(text: str) -> int:
     return v
 
 
+def _count(text: str) -> int:
+    """A whole number >= 0 (e.g. --pairs 0 lists no pairs)."""
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, found {text!r}") from None
+    if v < 0:
+        raise argparse.ArgumentTypeError(f"expected a number ≥ 0, found {v}")
+    return v
+
+
+def _port(text: str) -> int:
+    v = _positive_int(text)
+    if v > 65535:
+        raise argparse.ArgumentTypeError(f"expected a port from 1 to 65535, found {v}")
+    return v
+
+
 def _number(text: str) -> float:
     try:
         v = float(text.replace(",", "."))
@@ -51,7 +69,16 @@ def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
                         "(default: good, or the project's setting)")
+    p.add_argument("--method", choices=("classic", "graded"), default="classic",
+                   help="classic desirability fit (default) or a graded, probabilistic "
+                        "boundary with a fitted width")
+    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+
+
+def _add_bootstrap(p, what: str):
+    p.add_argument("--bootstrap", type=_positive_int, metavar="N", default=None,
+                   help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
 def _add_pool(p):
@@ -89,11 +116,25 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("fit", help="fit the sphere to bench results", epilog=EPILOG)
     _add_input(p)
     p.add_argument("--save", metavar="PROJECT.json", help="save trials, settings and fit (atomic)")
+    _add_bootstrap(p, "report 95 %% intervals of the centre and R0")
+    p.add_argument("--spheres", type=int, choices=(1, 2), default=1,
+                   help="2: also try two spheres (good if inside either) and say whether "
+                        "the second earns its keep")
+    p.add_argument("--no-influence", action="store_true",
+                   help="skip the leave-one-out list of results to re-check first")
 
     p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
     _add_input(p)
     _add_pool(p)
     p.add_argument("--include-tested", action="store_true", help="keep tested solvents in the list")
+    _add_bootstrap(p, "give each solvent's probability of dissolving the material (p_good)")
+
+    p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
+                       epilog=EPILOG)
+    _add_input(p)
+    _add_pool(p)
+    p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
+    _add_bootstrap(p, "measure the disagreement among resampled spheres (default 200)")
 
     p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
     _add_input(p)
@@ -121,7 +162,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="results or project file: rank by behaviour towards that material")
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="with --for-material: how to count 'partly' results")
-    p.add_argument("--pairs", type=int, default=5, metavar="N", help="pairs to list (default 5)")
+    p.add_argument("--pairs", type=_count, default=5, metavar="N", help="pairs to list (default 5)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     _add_pool(p)
 
@@ -133,7 +174,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("app", help="serve the interactive app in the browser", epilog=EPILOG)
     p.add_argument("file", metavar="FILE", nargs="?", help="project or results file to open")
     p.add_argument("--host", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
-    p.add_argument("--port", type=_positive_int, default=8050, help="port (default 8050)")
+    p.add_argument("--port", type=_port, default=8050, help="port (default 8050)")
     return parser
 
 
@@ -151,7 +192,11 @@ def load_session(args):
     from .session import fit_project
     lib = load_library()
     project = load_any(args.file, library=lib)
-    fit = fit_project(project, partial=args.partial, library=lib)
+    fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
+                      method=args.method)
+    # problems that did not stop reading (repeated rows, ignored columns, saved
+    # coordinates used ...) are reported with the fit, not dropped
+    fit.warnings[:0] = [w for w in project.trials.warnings if w not in fit.warnings]
     return project, fit, lib
 
 
@@ -214,17 +259,60 @@ def _emit(args, obj, text: str):
 
 # ---------------------------------------------------------------- subcommands
 
+def _progress(args, label: str):
+    """A progress bar on the terminal (none under --json or when not a terminal)."""
+    if args.json or not sys.stderr.isatty():
+        return None
+
+    def show(done: int, total: int) -> None:
+        width = 30
+        k = int(width * done / max(total, 1))
+        sys.stderr.write(f"\r{label} [{'#' * k}{'.' * (width - k)}] {done}/{total}")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+    return show
+
+
+def _bootstrap(args, project, fit, n: int):
+    from .confidence import bootstrap
+    return bootstrap(project.trials, n_bootstrap=n, seed=args.seed, method=args.method,
+                     partial=fit.partial, bounds=fit.bounds,
+                     progress=_progress(args, "resampling"))
+
+
 def cmd_fit(args) -> int:
     project, fit, lib = load_session(args)
+    obj, text = fit.to_dict(), str(fit)
+    if args.bootstrap:
+        boot = _bootstrap(args, project, fit, args.bootstrap)
+        obj["intervals"] = boot.intervals
+        obj["n_bootstrap"] = boot.n_bootstrap
+        obj["bootstrap"] = boot.to_dict()
+        text += "\n" + str(boot)
+    if not args.no_influence:
+        from .confidence import influence
+        inf = influence(project.trials, partial=fit.partial, bounds=fit.bounds)
+        rows = inf.to_dict()["influence"]
+        obj["influence"] = rows
+        text += "\n[[Re-check first]] (results whose removal moves the sphere most)\n" + "\n".join(
+            f"    {r['name']}: centre moves {r['shift']:.1f} MPa½, R0 {r['dR0']:+.1f}"
+            for r in rows[:5])
+    if args.spheres == 2:
+        from .twosphere import fit_two_spheres
+        two = fit_two_spheres(project.trials, partial=fit.partial if fit.partial != "ordinal"
+                              else "good", seed=args.seed)
+        obj["two_spheres"] = two.to_dict()
+        text += "\n" + str(two)
     if args.save:
         from .project import save
         project.fit = fit.to_dict()
         project.settings["partial"] = fit.partial
+        project.settings["method"] = args.method
         save(project, args.save)
-    text = str(fit)
-    if args.save and not args.json:
-        text += f"\nProject saved to {args.save}"
-    _emit(args, fit.to_dict(), text)
+        if not args.json:
+            text += f"\nProject saved to {args.save}"
+    _emit(args, obj, text)
     return 0
 
 
@@ -233,10 +321,24 @@ def cmd_rank(args) -> int:
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(args, lib, project)
     tested = set(project.trials.names) | {t.cas for t in project.trials if t.cas}
+    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
     ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
                             include_tested=args.include_tested, filters=filters,
-                            temperature_C=_temperature(args))
+                            temperature_C=_temperature(args), bootstrap=boot)
     _emit(args, ranking.to_dict(), str(ranking))
+    return 0
+
+
+def cmd_next(args) -> int:
+    from .nexttrial import suggest_next
+    project, fit, lib = load_session(args)
+    pool, filters = candidate_pool(args, lib, project)
+    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
+    sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
+                        seed=args.seed, partial=fit.partial if fit.partial != "ordinal"
+                        else "good", progress=_progress(args, "resampling"))
+    obj = dict(sugg.to_dict(), filters=filters)
+    _emit(args, obj, str(sugg))
     return 0
 
 
@@ -246,6 +348,9 @@ def _temperature(args) -> float:
 
 def cmd_blend(args) -> int:
     from .session import add_safety_and_drying, blend_notes
+    if args.rank_by == "drying" and not args.drying:  # say so before the long screen
+        raise InputError("ranking by drying needs the drying simulation.",
+                         file="<command line>", hint="add --drying")
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(args, lib, project)  # says so when nothing is left
     if args.min_flash_point is not None or args.max_boiling_point is not None:
@@ -336,7 +441,7 @@ def cmd_app(args) -> int:
 
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "app": cmd_app}
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -348,7 +453,11 @@ def main(argv: list[str] | None = None) -> int:
     try:
         return COMMANDS[args.command](args)
     except SolsphereError as exc:
-        print(f"solsphere: error: {exc}", file=sys.stderr)
+        text = str(exc)
+        where = getattr(args, "file", None) or getattr(args, "for_material", None)
+        if isinstance(exc, FitError) and where and where not in text:
+            text = f"{where}: {text}"  # name the file whose results cannot be fitted
+        print(f"solsphere: error: {text}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("solsphere: interrupted", file=sys.stderr)

@@ -30,6 +30,7 @@ class RankedSolvent:
     flags: list[str] = field(default_factory=list)
     tested: bool = False
     chi: float | None = None
+    p_good: float | None = None
 
     def to_dict(self) -> dict:
         s = self.solvent
@@ -37,7 +38,8 @@ class RankedSolvent:
                 "Ra": self.Ra, "red": self.red, "inside": self.red <= 1.0,
                 "boiling_point": s.boiling_point, "flash_point": s.flash_point,
                 "twa_ppm": s.twa_ppm, "twa_mg_m3": s.twa_mg_m3, "carcinogen": s.carcinogen,
-                "spread": s.spread, "chi": self.chi, "flags": list(self.flags),
+                "spread": s.spread, "chi": self.chi, "p_good": self.p_good,
+                "flags": list(self.flags),
                 "tested": self.tested}
 
 
@@ -94,7 +96,8 @@ def format_table(rows: list[tuple]) -> str:
 
 def rank_solvents(candidates, centre, R0: float, top: int | None = None,
                   tested: set[str] | frozenset = frozenset(), include_tested: bool = False,
-                  filters: dict | None = None, temperature_C: float = 25.0) -> Ranking:
+                  filters: dict | None = None, temperature_C: float = 25.0,
+                  bootstrap=None) -> Ranking:
     """Rank candidate solvents by RED to a sphere.
 
     Parameters
@@ -113,6 +116,9 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
         Keep tested solvents in the table (marked ``tested``).
     filters : dict or None, default=None
         The filters the caller applied, recorded in the result.
+    bootstrap : Bootstrap or None, default=None
+        Resampled spheres (:func:`solsphere.confidence.bootstrap`): each solvent then gets
+        ``p_good``, the share of resampled spheres that contain it.
     temperature_C : float, default=25.0
         Temperature of the Flory–Huggins χ estimate (:func:`solsphere.hsp.flory_huggins_chi`,
         from Ra and the solvent's molar volume).
@@ -137,11 +143,13 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
     order = np.argsort(dist, kind="stable")
     if top is not None:
         order = order[:top]
+    p_good = bootstrap.p_good(pts[order]) if bootstrap is not None else None
     rows = []
-    for i in order:
+    for n, i in enumerate(order):
         s = pool[i][0]
         chi = (float(np.ravel(hsp.flory_huggins_chi(dist[i], s.molar_volume, temperature_C))[0])
                if s.molar_volume else None)
         rows.append(RankedSolvent(s, float(dist[i]), float(dist[i] / R0), hazard_flags(s),
-                                  pool[i][1], chi))
+                                  pool[i][1], chi,
+                                  None if p_good is None else float(p_good[n])))
     return Ranking(rows, centre, float(R0), len(pool), dict(filters or {}))

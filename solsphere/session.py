@@ -11,7 +11,8 @@ from .errors import InputError
 SPREAD_WARN = 1.0  # MPa½: compilations disagreeing by more than this earn a warning (common practice, no source)
 
 
-def fit_project(project, partial: str | None = None, library=None, seed: int = 0):
+def fit_project(project, partial: str | None = None, library=None, seed: int = 0,
+                method: str = "classic"):
     """Fit the sphere to a project's trials.
 
     Parameters
@@ -22,12 +23,20 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
         How to count 'partly' results; None takes the project's setting, else "good".
     library : Library or None
         Used to add a warning when compilations disagree for a tested solvent.
+    method : {"classic", "graded"}, default="classic"
+        Hansen's desirability fit, or the graded (probabilistic) boundary of
+        :mod:`solsphere.graded`, where 'partly' results are their own middle class
+        unless ``partial`` says otherwise.
 
     Returns
     -------
-    SphereFit
+    SphereFit or GradedFit
     """
     from .fit import SphereModel
+    if method not in ("classic", "graded"):
+        raise ValueError(f"method must be 'classic' or 'graded'; found {method!r}")
+    if method == "graded":
+        partial = partial or "ordinal"
     partial = partial or project.settings.get("partial") or "good"
     warnings = []
     for t in project.trials:
@@ -35,6 +44,11 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
         if s is not None and s.spread is not None and s.spread > SPREAD_WARN and t.source == "library":
             warnings.append(f"the compilations disagree by {s.spread:.1f} MPa½ for {t.name} "
                             f"(line {t.line}); its coordinates are less certain")
+    if method == "graded":
+        from .graded import GradedModel
+        result = GradedModel(partial=partial, seed=seed).fit(project.trials).result_
+        result.warnings.extend(warnings)
+        return result
     model = SphereModel(partial=partial, seed=seed).fit(project.trials, warnings=warnings)
     return model.result_
 
