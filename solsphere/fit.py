@@ -450,6 +450,27 @@ def _unboundable(n_cg: int, n_cb: int, n_partial: int, partial: str) -> str:
             "toluene, acetone, ethyl acetate, dichloromethane, DMSO), until one dissolves it.")
 
 
+def model_inputs(X, good=None, names=None, weights=None):
+    """Validated (points (n, 3), outcomes, names, weights) for a model's ``fit``.
+
+    ``X`` is an array of points with ``good`` given, or a trials object (``.points``,
+    ``.outcomes``, ``.names``) with ``good`` None.
+    """
+    if good is None:
+        if not hasattr(X, "points"):
+            raise TypeError("good is required when X is an array (or pass a trials object)")
+        X, good, names = X.points, X.outcomes, list(X.names) if names is None else names
+    outcomes = _outcomes(good)
+    n = len(outcomes)
+    P = as_points(X) if n else np.empty((0, 3))
+    names = [f"trial {i + 1}" for i in range(n)] if names is None else [str(s) for s in names]
+    if len(P) != n or len(names) != n or not np.all(np.isfinite(P)):
+        raise ValueError(f"need {n} finite points and names, one per outcome; found "
+                         f"{len(P)} points and {len(names)} names")
+    w = _weights(weights, n) if n else np.ones(0)
+    return P, outcomes, names, w
+
+
 class SphereModel:
     """Hansen sphere estimator (scikit-learn style).
 
@@ -476,18 +497,8 @@ class SphereModel:
         """
         if self.partial not in ("good", "bad", "skip"):
             raise ValueError(f"partial must be 'good', 'bad' or 'skip'; found {self.partial!r}")
-        if good is None:
-            if not hasattr(X, "points"):
-                raise TypeError("good is required when X is an array (or pass a trials object)")
-            X, good, names = X.points, X.outcomes, list(X.names) if names is None else names
-        outcomes = _outcomes(good)
+        P, outcomes, names, w = model_inputs(X, good, names, weights)
         n = len(outcomes)
-        P = as_points(X) if n else np.empty((0, 3))
-        names = [f"trial {i + 1}" for i in range(n)] if names is None else [str(s) for s in names]
-        if len(P) != n or len(names) != n or not np.all(np.isfinite(P)):
-            raise ValueError(f"need {n} finite points and names, one per outcome; found "
-                             f"{len(P)} points and {len(names)} names")
-        w = _weights(weights, n) if n else np.ones(0)
         counted = [("skipped" if self.partial == "skip" else self.partial) if o == "partial"
                    else o for o in outcomes]
         use = np.array([c != "skipped" for c in counted], dtype=bool)

@@ -55,8 +55,8 @@ from scipy.special import expit
 
 from .errors import FitError, NotFittedError
 from .fit import (AXES, MIN_ADVISED, SURFACE, WORDS, _box, _edge_warnings, _outcomes,
-                  _unboundable, _weights, desirability, fit_sphere)
-from .hsp import SCALE, as_points, ra
+                  _unboundable, desirability, fit_sphere, model_inputs)
+from .hsp import SCALE, ra
 
 __all__ = ["GradedModel", "GradedFit", "graded_nll", "fit_theta", "start_thetas", "classes"]
 
@@ -326,18 +326,8 @@ class GradedModel:
         if not 0 < self.min_width < self.max_width:
             raise ValueError(f"need 0 < min_width < max_width; found {self.min_width}, "
                              f"{self.max_width}")
-        if good is None:
-            if not hasattr(X, "points"):
-                raise TypeError("good is required when X is an array (or pass a trials object)")
-            X, good, names = X.points, X.outcomes, list(X.names) if names is None else names
-        outcomes = _outcomes(good)
+        P, outcomes, names, w = model_inputs(X, good, names, weights)
         n = len(outcomes)
-        P = as_points(X) if n else np.empty((0, 3))
-        names = [f"trial {i + 1}" for i in range(n)] if names is None else [str(s) for s in names]
-        if len(P) != n or len(names) != n or not np.all(np.isfinite(P)):
-            raise ValueError(f"need {n} finite points and names, one per outcome; found "
-                             f"{len(P)} points and {len(names)} names")
-        w = _weights(weights, n) if n else np.ones(0)
         n_partial = outcomes.count("partial")
         use, y, ordinal, counted = classes(outcomes, self.partial)
         g_outer = y > 0
