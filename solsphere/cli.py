@@ -72,7 +72,7 @@ def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)
     p.add_argument("--method", choices=("classic", "graded"), default="classic",
                    help="classic desirability fit (default) or a graded, probabilistic "
                         "boundary with a fitted width")
-    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    p.add_argument("--seed", type=_count, default=0, help="random seed (default 0)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
 

@@ -127,6 +127,12 @@ def decode(data: bytes, file: str | None = None) -> str:
             if line == 1:
                 col -= skip
             bad = data[exc.start:exc.start + 1].hex()
+            if exc.reason == "unexpected end of data" and exc.end >= len(data):
+                raise InputError(f"the file ends in the middle of a UTF-8 character "
+                                 f"(byte 0x{bad}): it was cut short, or it is not UTF-8.",
+                                 file=file, line=line, column=col,
+                                 hint="restore the complete file (from a backup or by "
+                                      "saving it again); " + _UTF8_HINT) from None
             raise InputError(f"byte 0x{bad} is not valid UTF-8 text (the file may be "
                              f"in a Windows or Mac code page).", file=file, line=line,
                              column=col, hint=_UTF8_HINT) from None

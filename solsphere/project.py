@@ -147,6 +147,19 @@ def _error(label: str, msg: str, **kw) -> InputError:
     return InputError(msg, file=label, **kw)
 
 
+def _cut_short(text: str, exc: json.JSONDecodeError) -> bool:
+    """Whether a JSON syntax error is the end of a truncated file: the error is at the
+    end, inside a string that runs to the end, or in a last token cut in two
+    (``tru``, ``1.``)."""
+    rest = text[exc.pos:].strip()
+    if not rest or exc.msg.startswith("Unterminated string"):
+        return True
+    if "\n" in rest or len(rest) > 8:
+        return False
+    return (any(w.startswith(rest) for w in ("true", "false", "null"))
+            or all(ch in "0123456789+-.eE" for ch in rest))
+
+
 def load(path, library=None) -> Project:
     """Read a project file strictly.
 
@@ -178,7 +191,7 @@ def load(path, library=None) -> Project:
     except json.JSONDecodeError as exc:
         if not text.strip():
             raise _error(label, "the project file is empty.") from None
-        if exc.pos >= len(text.rstrip()):
+        if _cut_short(text, exc):
             raise _error(label, f"the file ends in the middle of the JSON ({exc.msg}): it "
                                 f"was cut short.", line=exc.lineno, column=exc.colno,
                          hint="restore it from a backup (solsphere saves atomically, so "

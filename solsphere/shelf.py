@@ -128,7 +128,8 @@ def read_shelf(path, library) -> list:
         for k, v in cells.items():
             if len(v) > MAX_FIELD:
                 raise InputError(f"the cell has {len(v)} characters; the limit is {MAX_FIELD}.",
-                                 file=file, line=line, column=k)
+                                 file=file, line=line, column=k,
+                                 hint="check for a missing closing quote or pasted junk")
         name = " ".join(cells.get("solvent", "").split())
         if not name:
             continue

@@ -333,6 +333,9 @@ class Trials:
                     or not all(_is_number(v) and math.isfinite(v) for v in res)):
                 raise bad(f"{where}.resolved must be a list of 3 finite numbers, "
                           f"found {res!r}")
+            if not all(0.0 <= v <= MAX_COORDINATE for v in res):
+                raise bad(f"{where}.resolved must hold coordinates from 0 to "
+                          f"{MAX_COORDINATE:g} MPa½, found {res!r}")
             for c in _COORDS:
                 v = r.get(c)
                 if v is not None and not _is_number(v):

@@ -1,0 +1,266 @@
+"""Security basics for a lab server.
+
+- The app binds the loopback address unless told otherwise, and says so loudly when it
+  is told otherwise.
+- Uploads are size-limited (in the app's logic, in the browser check, and in the HTTP
+  server's request-body limit).
+- Nothing user-supplied is evaluated, executed or unpickled: a token scan of every
+  source file of the package, the app and the data scripts finds no ``eval``, ``exec``,
+  ``compile``, ``__import__``, ``pickle``, ``marshal``, ``shelve``, ``yaml.load``,
+  ``allow_pickle``, ``os.system`` or ``shell=True``.
+- User-provided names, notes and titles are escaped in the share page, in the figures'
+  hover text and in the app (no raw-HTML components).
+"""
+
+from __future__ import annotations
+
+import base64
+import contextlib
+import html
+import inspect
+import io
+import json
+import re
+import tokenize
+from pathlib import Path
+
+import pytest
+
+from solsphere import cli
+from solsphere.library import load_library
+
+ROOT = Path(__file__).resolve().parent.parent
+SOURCES = sorted([*ROOT.glob("solsphere/*.py"), *ROOT.glob("app/*.py"), *ROOT.glob("data/*.py")])
+EVIL_NAME = "<script>alert(1)</script>"
+EVIL_NOTE = "<img src=x onerror=alert(2)>"
+EVIL_TITLE = "<b onmouseover=alert(3)>binder</b>"
+
+
+def run(argv) -> tuple[int, str, str]:
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        try:
+            rc = cli.main([str(a) for a in argv])
+        except SystemExit as exc:
+            rc = exc.code if isinstance(exc.code, int) else 2
+    return rc, out.getvalue(), err.getvalue()
+
+
+# ------------------------------------------------------------------ loopback by default
+
+
+def test_loopback_is_the_default_everywhere():
+    from app import server
+    assert cli.build_parser().parse_args(["app"]).host == "127.0.0.1"
+    assert inspect.signature(server.serve).parameters["host"].default == "127.0.0.1"
+
+
+@pytest.mark.parametrize("host,loopback", [
+    ("127.0.0.1", True), ("127.8.9.10", True), ("::1", True), ("[::1]", True),
+    ("localhost", True), ("LOCALHOST", True),
+    ("0.0.0.0", False), ("::", False), ("192.168.1.20", False), ("10.0.0.1", False),
+    ("lab-server.example", False), ("", False), ("127.0.0.1.nip.io", False),
+])
+def test_loopback_detection(host, loopback):
+    from app.server import is_loopback, network_warning
+    assert is_loopback(host) is loopback
+    warning = network_warning(host, 8050)
+    assert (warning is None) is loopback
+    if warning:
+        assert host in warning and "127.0.0.1" in warning and "\n" not in warning
+
+
+class _FakeApp:
+    def __init__(self, calls):
+        self.calls = calls
+
+    def run(self, **kw):
+        self.calls.append(kw)
+
+
+@pytest.mark.parametrize("argv,warned", [(["app"], False),
+                                         (["app", "--host", "0.0.0.0", "--port", "8123"], True),
+                                         (["app", "--host", "::1"], False)])
+def test_the_command_warns_on_public_binding(argv, warned, monkeypatch):
+    from app import server
+    calls = []
+    monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp(calls))
+    rc, out, err = run(argv)
+    assert rc == 0, err
+    assert calls and calls[0]["host"] == (argv[2] if len(argv) > 2 else "127.0.0.1")
+    assert calls[0].get("debug") is False  # never the debugger on a served app
+    assert ("warning" in err and "anyone who can reach" in err) is warned
+    if not warned:
+        assert err == ""
+
+
+# ------------------------------------------------------------------ upload size limits
+
+
+def test_upload_limit_is_enforced_at_the_boundary():
+    from app import logic
+    from solsphere.errors import InputError
+    limit = logic.UPLOAD_LIMIT
+    assert limit == 5_000_000
+    ok = "data:text/csv;base64," + base64.b64encode(b"a" * limit).decode()
+    assert len(logic.decode_upload(ok, "ok.csv")) == limit
+    big = "data:text/csv;base64," + base64.b64encode(b"a" * (limit + 1)).decode()
+    with pytest.raises(InputError, match="limit is 5 MB"):
+        logic.decode_upload(big, "big.csv")
+
+
+def test_the_browser_check_uses_the_same_limit():
+    from app import bench, logic
+    assert f"size > {logic.UPLOAD_LIMIT}" in bench.CHECK_UPLOAD_JS
+
+
+def test_the_http_server_refuses_huge_request_bodies():
+    from app.server import MAX_REQUEST_BYTES, create_app
+    app = create_app()
+    assert app.server.config["MAX_CONTENT_LENGTH"] == MAX_REQUEST_BYTES
+    client = app.server.test_client()
+    body = b'{"output": "x", "inputs": [], "pad": "' + b"a" * (MAX_REQUEST_BYTES + 10) + b'"}'
+    r = client.post("/_dash-update-component", data=body, content_type="application/json")
+    assert r.status_code == 413
+
+
+# ------------------------------------------------------------------ nothing is executed
+
+#: name tokens that execute or deserialise code/objects
+FORBIDDEN_NAMES = {"eval", "exec", "__import__", "pickle", "cPickle", "_pickle", "marshal",
+                   "shelve", "dill", "cloudpickle", "jsonpickle", "allow_pickle"}
+YAML_LOADERS = {"load", "load_all", "unsafe_load", "full_load", "Loader", "UnsafeLoader"}
+
+
+def dangerous_tokens(source: str) -> list[str]:
+    """Code tokens (strings and comments are skipped) that run or unpickle data."""
+    toks = [t for t in tokenize.generate_tokens(io.StringIO(source).readline)
+            if t.type in (tokenize.NAME, tokenize.OP)]
+    found = []
+    for i, t in enumerate(toks):
+        prev = toks[i - 1].string if i else ""
+        nxt = toks[i + 1].string if i + 1 < len(toks) else ""
+        after = toks[i + 2].string if i + 2 < len(toks) else ""
+        where = f"line {t.start[0]}: "
+        if t.type != tokenize.NAME:
+            continue
+        if t.string in FORBIDDEN_NAMES and prev != ".":
+            found.append(where + t.string)
+        elif t.string == "compile" and prev != "." and nxt == "(":
+            found.append(where + "compile(")  # the builtin, not re.compile
+        elif t.string == "yaml" and nxt == "." and after in YAML_LOADERS:
+            found.append(where + f"yaml.{after}")
+        elif t.string == "os" and nxt == "." and after in ("system", "popen"):
+            found.append(where + f"os.{after}")
+        elif t.string == "shell" and nxt == "=" and after == "True":
+            found.append(where + "shell=True")
+    return found
+
+
+def test_the_scanner_bites():
+    snippet = ("import pickle, yaml, os\nx = eval(s)\nexec(code)\ny = pickle.loads(b)\n"
+               "z = yaml.load(t)\nc = compile(s, 'f', 'exec')\nos.system(cmd)\n"
+               "subprocess.run(c, shell=True)\nnp.load(p, allow_pickle=True)\n"
+               "ok = re.compile('x')  # eval( in a comment\ns = 'exec(' \nast.literal_eval(s)\n")
+    got = [f.split(": ", 1)[1] for f in dangerous_tokens(snippet)]
+    assert got == ["pickle", "eval", "exec", "pickle", "yaml.load",
+                   "compile(", "os.system", "shell=True", "allow_pickle"]
+
+
+def test_no_eval_exec_pickle_yaml_or_marshal_anywhere():
+    hits = []
+    for path in SOURCES:
+        for h in dangerous_tokens(path.read_text(encoding="utf-8")):
+            hits.append(f"{path.relative_to(ROOT)} {h}")
+    assert hits == [], "code that may run user data:\n" + "\n".join(hits)
+    assert len(SOURCES) > 20  # the scan did look at the package and the app
+
+
+# ------------------------------------------------------------------ escaping
+
+
+@pytest.fixture(scope="module")
+def evil_bench(tmp_path_factory) -> Path:
+    p = tmp_path_factory.mktemp("evil") / "evil.csv"
+    p.write_text("solvent,outcome,dD,dP,dH,note\n"
+                 f'"{EVIL_NAME}",good,17.0,6.0,7.0,"{EVIL_NOTE}"\n'
+                 "toluene,good,,,,\nacetone,good,,,,\nethyl acetate,good,,,,\n"
+                 "water,bad,,,,\nn-hexane,bad,,,,\nmethanol,bad,,,,\nethanol,bad,,,,\n",
+                 encoding="utf-8")
+    return p
+
+
+def test_share_page_escapes_user_names_notes_and_title(evil_bench, tmp_path):
+    out = tmp_path / "page.html"
+    rc, _, err = run(["share", evil_bench, "-o", out, "--title", EVIL_TITLE])
+    assert rc == 0, err
+    page = out.read_text(encoding="utf-8")
+    for raw in (EVIL_NAME, EVIL_NOTE, EVIL_TITLE, "alert(1)</script>", "onerror=alert(2)>"):
+        assert raw not in page, f"raw user text {raw!r} in the share page"
+    assert html.escape(EVIL_TITLE) in page
+    # the name is in the map's hover text: HTML-escaped (plotly renders hover text as
+    # HTML), then script-safe encoded inside the embedded JSON
+    assert "\\u0026lt;script\\u0026gt;alert(1)\\u0026lt;\\u002fscript\\u0026gt;" in page
+    assert "alert(2)" not in page  # notes are not shown on the page at all
+    # the page has as many script elements as the page of a harmless panel
+    plain = tmp_path / "plain.csv"
+    plain.write_text(evil_bench.read_text(encoding="utf-8").replace(EVIL_NAME, "my thinner")
+                     .replace(EVIL_NOTE, "clear"), encoding="utf-8")
+    rc, _, err = run(["share", plain, "-o", tmp_path / "plain.html"])
+    assert rc == 0, err
+    n_plain = len(re.findall(r"<script\b", (tmp_path / "plain.html").read_text(encoding="utf-8"),
+                             flags=re.I))
+    assert len(re.findall(r"<script\b", page, flags=re.I)) == n_plain
+
+
+def test_figure_hover_text_is_escaped(evil_bench):
+    from solsphere import figures, trials as T
+    from solsphere.fit import SphereModel
+    lib = load_library()
+    fit = SphereModel().fit(T.read(evil_bench, library=lib)).result_.to_dict()
+    fig = figures.map3d(fit, highlight=[{"name": EVIL_NAME, "dD": 17, "dP": 6, "dH": 7}])
+    texts = []
+    for tr in list(fig.data) + list(figures.projections(fit).data):
+        for key in ("hovertext", "text"):
+            v = getattr(tr, key, None)
+            if v is not None:
+                texts += list(v) if isinstance(v, (list, tuple)) else [v]
+    joined = " ".join(map(str, texts))
+    assert EVIL_NAME not in joined
+    assert html.escape(EVIL_NAME) in joined
+
+
+def test_share_html_escapes_every_text_argument():
+    import plotly.graph_objects as go
+    from solsphere.figures import share_html
+    page = share_html(go.Figure(), go.Figure(), report=EVIL_NAME, title=EVIL_TITLE,
+                      extra_sections=[(EVIL_NOTE, EVIL_NAME)], caution=EVIL_NOTE)
+    for raw in (EVIL_NAME, EVIL_NOTE, EVIL_TITLE):
+        assert raw not in page
+
+
+def test_the_app_has_no_raw_html_components():
+    """Dash renders strings as text (React escapes them) unless told otherwise; the app
+    never tells it otherwise."""
+    bad = re.compile(r"dangerously_allow_html|dcc\.Markdown|html\.Iframe|srcDoc|"
+                     r"\"presentation\":\s*\"markdown\"|innerHTML|outerHTML|insertAdjacentHTML|"
+                     r"document\.write")
+    hits = [f"{p.name}:{i}" for p in sorted((ROOT / "app").rglob("*.py"))
+            for i, line in enumerate(p.read_text(encoding="utf-8").splitlines(), 1)
+            if bad.search(line)]
+    assert hits == []
+
+
+def test_app_messages_carry_user_text_as_plain_strings(evil_bench):
+    """The summary and the problem list get the name as a string child (text), and the
+    download name made from a hostile file name is harmless."""
+    from app import logic, sphere
+    lib = load_library()
+    st = logic.open_upload("data:text/csv;base64," + base64.b64encode(evil_bench.read_bytes())
+                           .decode(), f"{EVIL_NOTE}.csv", lib)
+    assert any(r["solvent"] == EVIL_NAME and r["note"] == EVIL_NOTE for r in st["rows"])
+    result = logic.compute_fit(st["rows"], "good", lib)
+    children = sphere.summary_children(result, None)
+    assert json.dumps([c.to_plotly_json() for c in children], default=str)  # serialisable
+    name = logic.download_name(f"../{EVIL_NOTE}.csv", "-project.json")
+    assert re.fullmatch(r"[\w.+-]+", name) and "/" not in name and "<" not in name
