@@ -363,11 +363,15 @@ def cmd_blend(args) -> int:
     limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
                   top=top, only_blends=not args.with_single)
     if args.components == 3:
-        from .triples import screen_triples
-        screen = screen_triples(pool, centre, fit.R0,
-                                max_fraction=_limits(args.max_fraction, lib, "--max-fraction"),
-                                min_fraction=_limits(args.min_fraction, lib, "--min-fraction"),
-                                **limits)
+        from .triples import screen_triples, triple_shortlist
+        upper = _limits(args.max_fraction, lib, "--max-fraction")
+        lower = _limits(args.min_fraction, lib, "--min-fraction")
+        short = triple_shortlist(pool, centre, fit.R0, keep=set(upper) | set(lower))
+        if len(short) < len(pool):
+            filters["shortlist"] = (f"{len(short)} of {len(pool)} candidates: the nearest "
+                                    f"and the partners of the best pairs")
+        screen = screen_triples(short, centre, fit.R0, max_fraction=upper,
+                                min_fraction=lower, **limits)
     else:
         if args.max_fraction or args.min_fraction:
             raise InputError("--max-fraction / --min-fraction apply to 3-component blends.",

@@ -88,7 +88,7 @@ import numpy as np
 
 from solsphere.blend import (CAUTION, Blend, BlendScreen, _apply_filters, _as_xyz,
                              _centred, _check_radius, _component_flags, _f, _num, _pct,
-                             _plain, _top_order)
+                             _plain, _top_order, pair_screen)
 from solsphere.hsp import mix, ra
 from solsphere.library import Solvent
 
@@ -867,3 +867,47 @@ def _make_blend3(solvents: list[Solvent], w: np.ndarray, red: float, area: float
         lower_limits=[lower[q] for q in order],
         upper_limits=[upper[q] for q in order],
     )
+
+
+#: Candidates kept for a three-solvent screen of a large pool (C(60, 3) = 34,220 triples).
+SHORTLIST_SIZE = 60
+
+
+def triple_shortlist(candidates: Sequence[Solvent], centre, R0: float,
+                     size: int = SHORTLIST_SIZE, keep: Iterable[str] = ()) -> list[Solvent]:
+    """A shortlist of a large pool for the three-solvent screen.
+
+    All triples of the whole library liquids (~700) would be about 5×10⁷; the
+    shortlist takes half its places from the solvents nearest the centre and the rest
+    from the components of the best two-solvent blends (exact pair screen), which brings
+    in the far-apart partners (often non-solvents alone) that good blends are made of.
+    Solvents named in ``keep`` (e.g. those with a fraction limit) are always included.
+
+    Returns
+    -------
+    list of Solvent
+        ``candidates`` itself when it has at most ``size`` solvents.
+    """
+    pool = list(candidates)
+    if len(pool) <= size:
+        return pool
+    keep = set(keep)
+    pts = np.array([s.point for s in pool], dtype=float)
+    chosen: list[int] = [k for k, s in enumerate(pool) if s.name in keep]
+    seen = set(chosen)
+    for k in np.argsort(ra(pts, centre), kind="stable"):
+        if len(chosen) >= size // 2 + len(keep):
+            break
+        if int(k) not in seen:
+            chosen.append(int(k))
+            seen.add(int(k))
+    out = pair_screen(pts, centre, R0)
+    order = np.argsort(np.where(out["single"], np.inf, out["red"]), kind="stable")
+    for k in order:
+        if len(chosen) >= size + len(keep):
+            break
+        for idx in (int(out["i"][k]), int(out["j"][k])):
+            if idx not in seen and len(chosen) < size + len(keep):
+                chosen.append(idx)
+                seen.add(idx)
+    return [pool[k] for k in chosen]

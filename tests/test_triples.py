@@ -579,3 +579,17 @@ def test_packaged_library_smoke():
     assert res.n_triples_screened == math.comb(len(liquids), 3)
     json.dumps(res.to_dict())
     assert all(len(b.solvents) == 3 for b in res.blends)
+
+
+def test_triple_shortlist_keeps_nearest_partners_and_named():
+    from solsphere.triples import triple_shortlist
+    rng = np.random.default_rng(7)
+    pts = rng.uniform([14, 0, 0], [21, 20, 30], size=(200, 3))  # invented points
+    pool = [Solvent(name=f"s{k}", dD=p[0], dP=p[1], dH=p[2]) for k, p in enumerate(pts)]
+    centre, R0 = np.array([17.5, 8.0, 9.0]), 4.0
+    short = triple_shortlist(pool, centre, R0, size=40, keep={"s199"})
+    names = [s.name for s in short]
+    assert len(names) == len(set(names)) == 41 and "s199" in names
+    nearest = np.argsort(ra(pts, centre))[:20]
+    assert {f"s{k}" for k in nearest} <= set(names)
+    assert triple_shortlist(pool[:30], centre, R0, size=40) == pool[:30]
