@@ -358,6 +358,10 @@ def cmd_blend(args) -> int:
         # one removed, so its report counts them truthfully
         pool, _ = candidate_pool(args, lib, project, limits=False)
     centre = (fit.dD, fit.dP, fit.dH)
+    if args.rank_by == "cost" and not any(s.price is not None for s in pool):
+        raise InputError("no candidate has a price: ranking by cost needs a shelf file with "
+                         "a price column.", file="<command line>", column="--rank-by",
+                         hint="give --candidates SHELF with columns solvent,price")
     # ranking by cost or drying looks at every inside blend, not only the nearest
     top = None if args.rank_by != "red" else args.top
     limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
