@@ -78,9 +78,16 @@ def results_table(rows):
         )
 
 
+def type_ahead(library):
+    """The page-wide type-ahead list (every library name, abbreviation, CAS number and
+    synonym) and its data; outside the tabs, so every screen's inputs can use it."""
+    opts = [list(p) for p in logic.type_ahead_options(library)]
+    return [html.Datalist(id="solvent-names"),  # filled in the browser from the store
+            dcc.Store(id="solvent-names-data", data=opts)]
+
+
 def panel(rows, library, has_demo: bool):
     """Layout of the 'Bench results' screen."""
-    opts = [list(p) for p in logic.type_ahead_options(library)]
     return html.Div(className="panel", children=[
         html.Div(className="toolbar", children=[
             dcc.Upload(id="open-upload", multiple=False, max_size=-1,
@@ -98,8 +105,6 @@ def panel(rows, library, has_demo: bool):
                 dcc.Input(id="add-solvent", type="text", list="solvent-names", debounce=False,
                           placeholder="type a solvent: name, CAS number or abbreviation",
                           autoComplete="off", className="add-solvent"),
-                html.Datalist(id="solvent-names"),  # filled in the browser from the store
-                dcc.Store(id="solvent-names-data", data=opts),
             ]),
             html.Div(className="add-row", children=[
                 dcc.RadioItems(id="add-outcome", options=OUTCOME_OPTIONS, value="dissolves",
@@ -125,6 +130,12 @@ def panel(rows, library, has_demo: bool):
 def _problem_items(problems):
     items = []
     for p in problems:
+        if p.get("pending"):
+            items.append(html.Li([html.Strong(f"row {p['row'] + 1} ({p.get('solvent')}): "),
+                                  "waiting for its outcome; choose dissolves, partly or does "
+                                  "not once tested."],
+                                 className="pending"))
+            continue
         where = f"row {p['row'] + 1}, {p['column'] or 'solvent'}"
         fixes = [html.Button(s, id={"type": "fix", "row": p["row"], "col": p["column"] or "solvent",
                                     "value": s}, className="btn btn-fix", n_clicks=0)
@@ -171,13 +182,27 @@ def register(app, get_library):
                   Input("add-button", "n_clicks"), Input("add-solvent", "n_submit"),
                   Input("add-empty", "n_clicks"), Input("clear-table", "n_clicks"),
                   Input({"type": "fix", "row": ALL, "col": ALL, "value": ALL}, "n_clicks"),
+                  Input({"type": "add-next", "name": ALL}, "n_clicks"),
+                  Input("add-all-next", "n_clicks"),
                   State(ids.TABLE, "data"), State("add-solvent", "value"),
                   State("add-outcome", "value"), State("add-note", "value"),
+                  State(ids.NEXT, "data"),
                   prevent_initial_call=True)
     def edit_table(payload, share_payload, _demo, _add, _submit, _empty, _clear, _fix,
-                   rows, solvent, outcome, note):
+                   _next, _all_next, rows, solvent, outcome, note, suggested):
         trig = ctx.triggered_id
         keep = (no_update,) * 4
+        if trig == "add-all-next" or (isinstance(trig, dict) and trig.get("type") == "add-next"):
+            if not ctx.triggered or not ctx.triggered[0].get("value"):
+                raise PreventUpdate  # buttons just drawn, not clicked
+            names = ([trig["name"]] if isinstance(trig, dict) else
+                     [s["name"] for s in (suggested or {}).get("suggestions") or []])
+            rows, added = logic.add_pending(rows, names, "suggested next trial")
+            if not added:
+                return *keep, _notice("Already in the table.", "ok"), no_update
+            return (rows, no_update, no_update, no_update,
+                    _notice(f"Added {', '.join(added)} to the table with an empty outcome: "
+                            f"fill it in after the test.", "ok"), no_update)
         if trig in (ids.OPEN_PAYLOAD, "share-open-payload"):
             payload = payload if trig == ids.OPEN_PAYLOAD else share_payload
             if not payload:

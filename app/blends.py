@@ -1,31 +1,99 @@
-"""'Blends' screen: two-solvent blends that land inside the sphere, from a chosen pool
-under the same constraints as ``solsphere blend``; a click draws the blend's segment
-and point on the map."""
+"""'Blends' screen: blends of two or three solvents that land inside the sphere, from a
+chosen pool under the constraints of ``solsphere blend`` (safety limits, restricted
+list, share limits, process temperature), ranked by RED, cost or drying. A click draws
+the blend's segment (or triangle), its best mix and its drying path on the map."""
 
 from __future__ import annotations
 
 from dash import Input, Output, State, ctx, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import ids, logic
+from . import blendlogic, ids, logic
 from .bench import CHECK_UPLOAD_JS
 from .share import caution_line
-from .trynext import filters, table
+from .trynext import table
 
 COLUMNS = [("rank", "#"), ("label", "blend (volume %)"), ("red_text", "RED"),
-           ("window_text", "inside for"), ("fp_text", "flash pts °C"),
-           ("twa_text", "TWA ppm"), ("mass_text", "mass %"),
-           ("nonsolvents_text", "two non-solvents")]
+           ("window_text", "inside for"), ("fp_text", "flash pt °C"),
+           ("drying_text", "drying"), ("mix_text", "mixing"), ("twa_text", "TWA ppm"),
+           ("mass_text", "mass %"), ("nonsolvents_text", "non-solvents alone")]
+PRICE_COLUMN = ("price_text", "price / L")
+
+
+def columns(has_price: bool) -> list[dict]:
+    """The blend table's columns (a price column when the shelf gives prices)."""
+    cols = list(COLUMNS)
+    if has_price:
+        cols.insert(5, PRICE_COLUMN)
+    return [{"id": c, "name": n} for c, n in cols]
+
+
+def _num_input(label: str, element_id: str, **kw):
+    return html.Label([label + " ", dcc.Input(id=element_id, type="number", debounce=True,
+                                              className="num", **kw)])
+
+
+def constraints():
+    """The constraint controls (a foldable block, open)."""
+    return html.Details(open=True, className="constraints", children=[
+        html.Summary("Constraints"),
+        html.Div(className="filters", children=[
+            _num_input("min flash point °C", "blend-min-fp"),
+            _num_input("min boiling point °C", "blend-min-bp"),
+            _num_input("max boiling point °C", "blend-max-bp"),
+            _num_input("min exposure limit ppm", "blend-min-twa", min=0),
+            dcc.Checklist(id="blend-no-carc", value=[], inline=True, className="radio",
+                          options=[{"label": "no carcinogens", "value": "on"}]),
+            html.Label(["leave out ", dcc.Input(id="blend-exclude", type="text", debounce=True,
+                                                placeholder="e.g. benzene, DMF",
+                                                className="exclude")]),
+            _num_input("process temperature °C", "blend-temperature", min=-50, max=250),
+            _num_input("how many", "blend-top", min=1, max=200, step=1, value=15),
+        ]),
+        html.Div(className="filters", children=[
+            dcc.Upload(id="restricted-upload", max_size=-1, accept=".csv,.tsv,.txt",
+                       children=html.Button("Restricted list…", className="btn"),
+                       className="upload-inline"),
+            html.Span(id="restricted-name", className="muted",
+                      children=" a CSV with a 'solvent' column; all left out."),
+            html.Button("Example list (invented)", id="restricted-example-button",
+                        className="btn btn-quiet"),
+            html.Button("Forget the list", id="restricted-clear", className="btn btn-quiet"),
+            dcc.Download(id="restricted-example"),
+            dcc.Store(id="restricted-raw"),
+        ]),
+        html.Div(id="share-limits", className="filters", children=[
+            html.Label(["at most ", dcc.Input(id="blend-max-frac", type="text", debounce=True,
+                                              placeholder="e.g. toluene=30%",
+                                              className="exclude")]),
+            html.Label(["at least ", dcc.Input(id="blend-min-frac", type="text", debounce=True,
+                                               placeholder="e.g. ethanol=10%",
+                                               className="exclude")]),
+            html.Span("share limits per solvent (volume %), three-solvent blends",
+                      className="muted"),
+        ]),
+    ])
 
 
 def panel(library):
     """Layout of the 'Blends' screen."""
     names = [{"label": n, "value": n} for n in sorted(library.liquids().names, key=str.casefold)]
     return html.Div(className="panel", children=[
-        html.P("Pairs whose best mix (volume fractions) sits closest to the sphere centre. "
-               "'Inside for' is the range of the first solvent's share that stays inside. "
-               "'Two non-solvents': neither alone is inside, the mix is. Click a row to "
-               "draw it on the map and see its safety facts.", className="tip"),
+        html.P("Blends whose best mix (volume fractions) sits closest to the sphere centre. "
+               "'Inside for': the range of the first solvent's share that stays inside "
+               "(pairs) or the share of all mixes of the three that is inside (triples). "
+               "Drying: when the evaporating liquid would leave the sphere (ideal solution, "
+               "Raoult's law). Click a row to draw it, with its drying path, on the map.",
+               className="tip"),
+        html.Div(className="pool", children=[
+            html.Span("Components", className="ctl-label"),
+            dcc.RadioItems(id="blend-components", value=2, inline=True, className="radio",
+                           options=[{"label": "2", "value": 2}, {"label": "3", "value": 3}]),
+            html.Span("Rank by", className="ctl-label"),
+            dcc.RadioItems(id="blend-rank", value="red", inline=True, className="radio",
+                           options=[{"label": v, "value": k}
+                                    for k, v in blendlogic.RANK_CHOICES.items()]),
+        ]),
         html.Div(className="pool", children=[
             html.Span("Pool", className="ctl-label"),
             dcc.RadioItems(id="blend-pool", value="library", inline=True, className="radio",
@@ -38,15 +106,16 @@ def panel(library):
                        children=html.Button("Upload a shelf file…", className="btn"),
                        className="upload-inline"),
             html.Span(id="shelf-name", className="muted",
-                      children=" CSV with a 'solvent' column (optional dD, dP, dH)."),
+                      children=" CSV with a 'solvent' column (optional dD, dP, dH, price)."),
         ]),
         html.Div(id="ticked-box", className="pool-box", children=[
             dcc.Dropdown(id="blend-ticked", options=names, multi=True, value=[],
                          placeholder="type to find solvents you have…"),
         ]),
-        filters("blend", with_liquids=False),
+        constraints(),
         caution_line("blend-caution"),
         html.Div(id="blend-message", className="message"),
+        html.Ul(id="blend-notes", className="notes"),
         table("blend-table", COLUMNS, page_size=10),
         html.Div(id="blend-detail", className="detail"),
         html.Button("Clear the blend from the map", id="clear-blend", className="btn btn-quiet"),
@@ -54,16 +123,22 @@ def panel(library):
 
 
 def register(app, get_library):
-    """Callbacks: the screen, the shelf upload, the click-to-map."""
+    """Callbacks: the screen, the uploads, the click-to-map."""
     app.clientside_callback(CHECK_UPLOAD_JS, Output(ids.SHELF_PAYLOAD, "data"),
                             Output("shelf-upload", "contents"),
                             Input("shelf-upload", "contents"), State("shelf-upload", "filename"))
+    app.clientside_callback(CHECK_UPLOAD_JS, Output("restricted-raw", "data"),
+                            Output("restricted-upload", "contents"),
+                            Input("restricted-upload", "contents"),
+                            State("restricted-upload", "filename"))
 
     @app.callback(Output("shelf-box", "style"), Output("ticked-box", "style"),
-                  Input("blend-pool", "value"))
-    def show_pool(pool):
+                  Output("share-limits", "style"),
+                  Input("blend-pool", "value"), Input("blend-components", "value"))
+    def show_pool(pool, components):
         hide, show = {"display": "none"}, {}
-        return (show if pool == "shelf" else hide), (show if pool == "ticked" else hide)
+        return ((show if pool == "shelf" else hide), (show if pool == "ticked" else hide),
+                (show if components == 3 else hide))
 
     @app.callback(Output("shelf-name", "children"), Input(ids.SHELF_PAYLOAD, "data"),
                   prevent_initial_call=True)
@@ -74,25 +149,56 @@ def register(app, get_library):
             return " " + logic.too_big_message(payload.get("filename"), payload["too_big"])
         return f" Shelf: {payload.get('filename')}"
 
+    @app.callback(Output("restricted-name", "children"), Output(ids.RESTRICTED_PAYLOAD, "data"),
+                  Input("restricted-raw", "data"), Input("restricted-clear", "n_clicks"),
+                  prevent_initial_call=True)
+    def restricted_name(payload, _clear):
+        if ctx.triggered_id == "restricted-clear":
+            return " no restricted list.", None
+        if not payload:
+            raise PreventUpdate
+        if payload.get("too_big"):
+            return " " + logic.too_big_message(payload.get("filename"), payload["too_big"]), None
+        return f" Restricted list: {payload.get('filename')} (left out).", payload
+
+    @app.callback(Output("restricted-example", "data"),
+                  Input("restricted-example-button", "n_clicks"), prevent_initial_call=True)
+    def example(n):
+        from importlib.resources import files
+        if not n:
+            raise PreventUpdate
+        text = files("solsphere.data").joinpath("restricted_example.csv").read_text("utf-8")
+        return dict(content=text, filename="restricted_example.csv", type="text/csv")
+
     @app.callback(Output("blend-table", "data"), Output("blend-message", "children"),
                   Output("blend-caution", "children"), Output("blend-table", "active_cell"),
                   Output("blend-detail", "children", allow_duplicate=True),
+                  Output("blend-table", "columns"), Output("blend-notes", "children"),
                   Input(ids.FIT, "data"), Input(ids.TABS, "value"), Input("blend-pool", "value"),
                   Input(ids.SHELF_PAYLOAD, "data"), Input("blend-ticked", "value"),
                   Input("blend-min-fp", "value"), Input("blend-max-bp", "value"),
+                  Input("blend-min-bp", "value"), Input("blend-min-twa", "value"),
                   Input("blend-no-carc", "value"), Input("blend-exclude", "value"),
+                  Input(ids.RESTRICTED_PAYLOAD, "data"), Input("blend-components", "value"),
+                  Input("blend-max-frac", "value"), Input("blend-min-frac", "value"),
+                  Input("blend-temperature", "value"), Input("blend-rank", "value"),
                   Input("blend-top", "value"), prevent_initial_call="initial_duplicate")
-    def update(result, tab, pool, shelf, ticked, min_fp, max_bp, no_carc, exclude, top):
+    def update(result, tab, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
+               exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top):
         if result is None or tab != "blends":
             raise PreventUpdate  # computed only while the screen is shown
-        if shelf and shelf.get("too_big") and pool == "shelf":
-            return [], logic.too_big_message(shelf.get("filename"), shelf["too_big"]), \
-                logic.caution_text(), None, None
-        out = logic.blend_designer(result, get_library(), pool_choice=pool, shelf=shelf,
-                                   ticked=ticked, exclude=exclude, min_flash_point=min_fp,
-                                   max_boiling_point=max_bp, no_carcinogens=bool(no_carc),
-                                   top=int(top or 15))
-        return out["blends"], out["message"], out["caution"], None, None
+        if pool == "shelf" and shelf and shelf.get("too_big"):
+            return ([], logic.too_big_message(shelf.get("filename"), shelf["too_big"]),
+                    logic.caution_text(), None, None, columns(False), [])
+        out = blendlogic.blend_designer(
+            result, get_library(), pool_choice=pool, shelf=shelf, ticked=ticked,
+            exclude=exclude, min_flash_point=min_fp, max_boiling_point=max_bp,
+            min_boiling_point=min_bp, min_exposure_limit=min_twa,
+            no_carcinogens=bool(no_carc), restricted=restricted,
+            components=int(components or 2), max_fraction=max_frac, min_fraction=min_frac,
+            temperature=temperature, rank_by=rank_by or "red", top=int(top or 15))
+        return (out["blends"], out["message"], out["caution"], None, None,
+                columns(out["has_price"]), [html.Li(n) for n in out["notes"]])
 
     @app.callback(Output(ids.BLEND, "data"), Output("blend-detail", "children"),
                   Input("blend-table", "active_cell"), Input("clear-blend", "n_clicks"),
@@ -103,28 +209,47 @@ def register(app, get_library):
         if not cell or not rows or cell["row"] >= len(rows):
             raise PreventUpdate
         b = rows[cell["row"]]
-        keep = ("solvents", "volume_fractions", "dD", "dP", "dH", "red", "component_points",
-                "for_fit")
-        return [{k: b[k] for k in keep}], detail(b)
+        return [blendlogic.map_entry(b)], detail(b)
 
 
 def detail(b: dict):
-    """The clicked blend in full, with its safety facts."""
+    """The clicked blend in full, with its safety facts and its drying."""
     def fmt(x, f="{:.0f}"):
         return "—" if x is None else f.format(x)
-    a, c = b["solvents"]
+
+    def each(key, f="{:.0f}"):
+        return " / ".join(fmt(x, f) for x in b.get(key) or [])
+
+    names = b["solvents"]
+    alone = ", ".join(f"{n} {r:.2f}" for n, r in zip(names, b["red_components"]))
+    if len(names) == 3:
+        inside = (f"{b['window_text']} (all mixes of the three) is inside the sphere."
+                  if b.get("inside_area") else "No mix of the three is inside the sphere.")
+    else:
+        inside = (f"Inside the sphere for {b['window_text']}." if b.get("inside_window") else
+                  "No mix of the two is inside the sphere.")
+    fpe = b.get("flash_point_estimate") or {}
     facts = [
         f"At its best mix the blend sits at δD {b['dD']:.1f}, δP {b['dP']:.1f}, δH {b['dH']:.1f} "
-        f"MPa½ (RED {b['red']:.2f}); {a} alone has RED {b['red_components'][0]:.2f}, {c} "
-        f"alone {b['red_components'][1]:.2f}.",
-        f"Inside the sphere for {b['window_text']}." if b.get("inside_window") else
-        "No mix of the two is inside the sphere.",
-        f"Mass ratio {b['mass_text']} ({a} : {c})." if b.get("mass_fractions") else
+        f"MPa½ (RED {b['red']:.2f}); alone: {alone}.",
+        inside,
+        f"Mass ratio {b['mass_text']} ({' : '.join(names)})." if b.get("mass_fractions") else
         "Mass ratio unknown (a density is missing).",
-        f"Flash points {fmt(b['flash_points'][0])} / {fmt(b['flash_points'][1])} °C; boiling "
-        f"points {fmt(b['boiling_points'][0])} / {fmt(b['boiling_points'][1])} °C; exposure "
-        f"limits {fmt(b['twa_ppm'][0], '{:.3g}')} / {fmt(b['twa_ppm'][1], '{:.3g}')} ppm "
+        f"Flash point of the blend: {b['fp_text']} °C (≈ the ideal-solution estimate, "
+        f"lowest = the lowest component's); {fpe.get('caveat') or 'not a guarantee'}."
+        + (f" {'; '.join(fpe['notes'])}." if fpe.get("notes") else ""),
+        f"Components: flash points {each('flash_points')} °C; boiling points "
+        f"{each('boiling_points')} °C; exposure limits {each('twa_ppm', '{:.3g}')} ppm "
         f"(— = not in the data).",
+        f"Drying: {b['drying_text']}"
+        + (f"; {b['drying_last']} is left last" if b.get("drying_last") else "")
+        + (" (the dotted line on the map)" if b.get("drying_points") else
+           " (vapour pressure, molar volume or boiling point missing)")
+        + ". Model: ideal solution, Raoult's law, same temperature throughout.",
     ]
-    return [html.Strong(b["label"]), html.Ul([html.Li(t) for t in facts] +
-                                             [html.Li(f, className="flag") for f in b.get("flags") or []])]
+    if b.get("price_per_litre") is not None:
+        facts.append(f"Price about {b['price_per_litre']:.2f} per litre (shelf prices).")
+    facts += list(b.get("drying_notes") or [])
+    return [html.Strong(b["label"]), " (on the map now)",
+            html.Ul([html.Li(t) for t in facts] +
+                    [html.Li(f, className="flag") for f in b.get("flags") or []])]

@@ -8,7 +8,7 @@ values: no module-level state, so two browser tabs never see each other's data.
 
 from __future__ import annotations
 
-from . import bench, blends, share, sphere, trynext
+from . import bench, blends, nexttrials, replace, share, sphere, trynext
 
 
 def register_callbacks(app, get_library) -> None:
@@ -20,5 +20,5 @@ def register_callbacks(app, get_library) -> None:
     get_library : callable
         Returns the (immutable, cached) solvent library.
     """
-    for screen in (bench, sphere, trynext, blends, share):
+    for screen in (bench, sphere, trynext, nexttrials, blends, replace, share):
         screen.register(app, get_library)

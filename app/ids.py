@@ -12,3 +12,6 @@ PICKED = "picked-store"      # solvents clicked in the shortlist
 BLEND = "blend-store"        # the blend clicked in the blend designer
 OPEN_PAYLOAD = "open-payload"    # checked upload of a results/project file
 SHELF_PAYLOAD = "shelf-payload"  # checked upload of a shelf file
+BOOT = "boot-store"          # a bootstrap of the fit (intervals, resampled spheres)
+NEXT = "next-store"          # the suggested next trials and the results to re-check
+RESTRICTED_PAYLOAD = "restricted-payload"  # checked upload of a restricted-solvents list

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from dash import dcc, html
 
-from . import bench, blends, ids, logic, share, sphere, trynext
+from . import bench, blends, ids, logic, nexttrials, replace, share, sphere, trynext
 from .share import caution_line
 
 
@@ -41,7 +41,11 @@ def build_layout(initial: dict | None, library, has_demo: bool):
                     dcc.Tab(label="Bench results", value="bench",
                             children=bench.panel(rows, library, has_demo)),
                     dcc.Tab(label="Try next", value="next", children=trynext.panel()),
+                    dcc.Tab(label="Next trials", value="next-trials",
+                            children=nexttrials.panel()),
                     dcc.Tab(label="Blends", value="blends", children=blends.panel(library)),
+                    dcc.Tab(label="Replace a solvent", value="replace",
+                            children=replace.panel()),
                     dcc.Tab(label="Share", value="share", children=share.panel()),
                 ]),
             ]),
@@ -61,4 +65,8 @@ def build_layout(initial: dict | None, library, has_demo: bool):
         dcc.Store(id=ids.OPEN_PAYLOAD),
         dcc.Store(id="share-open-payload"),
         dcc.Store(id=ids.SHELF_PAYLOAD),
+        dcc.Store(id=ids.RESTRICTED_PAYLOAD),
+        dcc.Store(id=ids.BOOT),
+        dcc.Store(id=ids.NEXT),
+        *bench.type_ahead(library),
     ])

@@ -8,7 +8,9 @@ the fit (:func:`solsphere.session.fit_project`), the pool
 (:func:`solsphere.rank.rank_solvents`), the blends
 (:func:`solsphere.blend.screen_blends`), the figures (:mod:`solsphere.figures`), the share
 page (:func:`solsphere.session.share_page`) and the project file
-(:mod:`solsphere.project`). What is added here is only lookup and formatting.
+(:mod:`solsphere.project`). What is added here is only lookup and formatting. The blend
+designer and the replacement search are in :mod:`app.blendlogic`, the uncertainty and
+next-trial screens in :mod:`app.uncertainty`.
 """
 
 from __future__ import annotations
@@ -105,8 +107,15 @@ def compute_fit(rows, partial: str, library) -> dict:
     from solsphere.project import Project
     from solsphere.session import fit_project
 
-    trials, errors = T.validate_rows(clean_rows(rows), library=library)
+    cleaned = clean_rows(rows)
+    trials, errors = T.validate_rows(cleaned, library=library)
     problems = [problem_dict(e) for e in errors]
+    for p in problems:  # a solvent waiting for its result (e.g. a suggested next trial)
+        i = p["row"]
+        if (p["column"] == "outcome" and i is not None and 0 <= i < len(cleaned)
+                and cleaned[i].get("outcome") in (None, "") and cleaned[i].get("solvent")):
+            p["pending"] = True
+            p["solvent"] = str(cleaned[i]["solvent"])
     out = {"fit": None, "fit_error": None, "problems": problems,
            "trial_rows": [t.line - 1 for t in trials],
            "tested": sorted({t.name for t in trials} | {t.cas for t in trials if t.cas}),
@@ -149,8 +158,15 @@ def summary(result: dict | None) -> dict:
     if not result:
         return {"ok": False, "message": "Waiting for results…", "warnings": []}
     warnings = list(result.get("warnings") or [])
-    if result.get("problems"):
-        n = len(result["problems"])
+    bad = [p for p in result.get("problems") or [] if not p.get("pending")]
+    waiting = [p for p in result.get("problems") or [] if p.get("pending")]
+    if waiting:
+        n = len(waiting)
+        warnings.insert(0, f"{n} trial{'s wait' if n > 1 else ' waits'} for its outcome "
+                           f"(marked in yellow): choose dissolves, partly or does not once "
+                           f"tested; until then {'they are' if n > 1 else 'it is'} not counted.")
+    if bad:
+        n = len(bad)
         warnings.insert(0, f"{n} cell{'s' if n > 1 else ''} in the table need{'' if n > 1 else 's'} "
                            f"fixing (marked in red); those rows are left out of the fit.")
     fit = result.get("fit")
@@ -202,6 +218,12 @@ def table_marks(result: dict | None, n_rows: int) -> tuple[list, list, list[dict
         i, col = p["row"], p["column"] or "solvent"
         if i >= n_rows:
             continue
+        if p.get("pending"):
+            styles.append({"if": {"row_index": i, "column_id": col},
+                           "backgroundColor": "#fff3c4", "border": "1px solid #e6ab02"})
+            tips[i][col] = {"value": "Waiting for the result: choose dissolves, partly or "
+                                     "does not once tested.", "type": "text"}
+            continue
         styles.append({"if": {"row_index": i, "column_id": col},
                        "backgroundColor": "#f6c6c6", "border": "1px solid #b22222"})
         text = p["message"] + (f" Fix: {p['hint']}" if p.get("hint") else "")
@@ -237,6 +259,26 @@ def add_row(rows, solvent: str | None, outcome: str | None, note: str | None = N
             break
     rows.append(new)
     return rows
+
+
+def add_pending(rows, names, note: str | None = None) -> tuple[list[dict], list[str]]:
+    """The table with a row per solvent in ``names`` that is not in it yet, each with an
+    empty outcome for the chemist to fill in after the test.
+
+    Returns
+    -------
+    rows : list of dict
+    added : list of str
+        The names appended (in order).
+    """
+    have = {str(r.get("solvent") or "").strip().casefold() for r in rows or []}
+    added = []
+    for name in names or []:
+        if name and name.casefold() not in have:
+            rows = add_row(rows, name, None, note)
+            have.add(name.casefold())
+            added.append(name)
+    return (rows if added else [dict(r) for r in rows or []]), added
 
 
 def type_ahead_options(library) -> list[tuple[str, str]]:
@@ -419,8 +461,11 @@ def split_names(text: str | None) -> list[str]:
 
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
-              exclude: str | None = None, top: int = 30) -> dict:
+              exclude: str | None = None, top: int = 30, bootstrap=None) -> dict:
     """Untried solvents nearest the sphere, with their safety facts.
+
+    ``bootstrap`` (a :class:`solsphere.confidence.Bootstrap` of the same results) adds
+    each solvent's ``p_good`` (and ``p_text``).
 
     Returns
     -------
@@ -453,7 +498,8 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
     except SolsphereError as exc:
         return {"rows": [], "message": str(exc), "caution": CAUTION}
     ranking = rank_solvents(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"], top=int(top),
-                            tested=set(result.get("tested") or ()), filters=filters)
+                            tested=set(result.get("tested") or ()), filters=filters,
+                            bootstrap=bootstrap)
     d = ranking.to_dict()
     rows = []
     for s in d["solvents"]:
@@ -463,6 +509,7 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                          fp_text=_fmt(s.get("flash_point"), "{:.0f}"),
                          twa_text=_fmt(s.get("twa_ppm"), "{:.3g}"),
                          spread_text=_fmt(s.get("spread"), "{:.1f}"),
+                         p_text=_fmt(s.get("p_good"), "{:.2f}"),
                          flags_text="; ".join(s.get("flags") or [])))
     msg = (f"{len(rows)} nearest of {d['n_candidates']} untried candidates "
            f"({'library liquids' if liquids_only else 'all library solvents'}).")
@@ -483,101 +530,16 @@ def _fmt(x, fmt: str) -> str:
     return "—" if x is None else fmt.format(x)
 
 
-# ----------------------------------------------------------------------------- blends
-
-def blend_designer(result: dict | None, library, pool_choice: str = "library",
-                   shelf: dict | None = None, ticked=None, exclude: str | None = None,
-                   min_flash_point=None, max_boiling_point=None,
-                   no_carcinogens: bool = False, top: int = 15) -> dict:
-    """Top two-solvent blends for the fitted sphere (the CLI's ``blend`` with its
-    constraints).
-
-    Parameters
-    ----------
-    pool_choice : {"library", "shelf", "ticked"}
-        All library liquids, the uploaded shelf file (``shelf`` = {"filename",
-        "contents"}), or the ticked library solvents (``ticked`` = names).
-
-    Returns
-    -------
-    dict
-        ``blends`` (``BlendScreen.to_dict()["blends"]`` entries plus display strings
-        and the fit they belong to), ``message``, ``caution``.
-    """
-    from solsphere.blend import screen_blends
-    from solsphere.rank import CAUTION  # the one caution line shown everywhere
-    from solsphere.session import candidate_pool
-    fit = (result or {}).get("fit")
-    if not fit:
-        return {"blends": [], "message": "No sphere yet: blends appear once the fit works.",
-                "caution": CAUTION}
-    names = split_names(exclude)
-    try:
-        kw = dict(exclude=names, min_flash_point=_num(min_flash_point),
-                  max_boiling_point=_num(max_boiling_point),
-                  exclude_carcinogens=bool(no_carcinogens))
-        if pool_choice == "shelf":
-            if not shelf or not shelf.get("contents"):
-                raise InputError("no shelf file yet.", file="<shelf>",
-                                 hint="upload a CSV with a 'solvent' column listing what you have")
-            data = decode_upload(shelf["contents"], shelf.get("filename"))
-            pool, filters = _with_temp_file(data, shelf.get("filename"), "shelf.csv",
-                                            lambda p: candidate_pool(library, shelf=p, **kw))
-            where = f"the shelf {os.path.basename(shelf.get('filename') or '')}"
-        elif pool_choice == "ticked":
-            picked = [library.lookup(n) for n in (ticked or [])]
-            if len(picked) < 2:
-                raise InputError("tick at least two solvents to pair.", file="<blends>",
-                                 hint="type names into the box, or choose another pool")
-            from solsphere.library import Library
-            sub = Library.from_records(picked)
-            drop = {library.lookup(n).name for n in names}
-            sel = sub.select(min_flash_point=kw["min_flash_point"],
-                             max_boiling_point=kw["max_boiling_point"],
-                             exclude_carcinogens=kw["exclude_carcinogens"])
-            pool = [s for s in sel if s.name not in drop]
-            if len(pool) < 2:
-                raise InputError("fewer than two ticked solvents pass the constraints.",
-                                 file="<blends>", hint="relax the constraints or tick more")
-            where = f"{len(picked)} ticked solvents"
-        else:
-            pool, filters = candidate_pool(library, **kw)
-            where = "library liquids"
-        screen = screen_blends(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"],
-                               top=int(top))
-    except SolsphereError as exc:
-        return {"blends": [], "message": str(exc), "caution": CAUTION}
-    points = {s.name: [s.dD, s.dP, s.dH] for s in pool}
-    d = screen.to_dict()
-    out = []
-    for k, b in enumerate(d["blends"]):
-        if not b.get("component_points"):  # older blend results carry no points
-            b["component_points"] = [points[n] for n in b["solvents"] if n in points]
-        b = dict(b, rank=k + 1, for_fit=fit_key(fit))
-        fa, fb = b["volume_fractions"]
-        b["label"] = f"{100 * fa:.0f}% {b['solvents'][0]} + {100 * fb:.0f}% {b['solvents'][1]}"
-        b["red_text"] = f"{b['red']:.2f}"
-        w = b.get("inside_window")
-        b["window_text"] = ("none" if w is None else
-                            f"{100 * w[0]:.0f}–{100 * w[1]:.0f}% {b['solvents'][0]}")
-        m = b.get("mass_fractions")
-        b["mass_text"] = "—" if m is None else f"{100 * m[0]:.0f} : {100 * m[1]:.0f}"
-        b["nonsolvents_text"] = "yes" if b.get("both_non_solvents") else ""
-        b["fp_text"] = " / ".join(_fmt(x, "{:.0f}") for x in b.get("flash_points") or [])
-        b["twa_text"] = " / ".join(_fmt(x, "{:.3g}") for x in b.get("twa_ppm") or [])
-        b["flags_text"] = "; ".join(b.get("flags") or [])
-        out.append(b)
-    msg = (f"Top {len(out)} of {d['n_pairs_screened']} pairs from {d['n_candidates']} "
-           f"candidates ({where}).")
-    return {"blends": out, "message": msg, "caution": CAUTION}
-
-
 # ----------------------------------------------------------------------------- figures
 
 def figures_for(result: dict | None, library, show_untried: bool = True,
-                picked: list | None = None, blends: list | None = None):
-    """The 3D map and the three projections for the stored fit (plotly figures)."""
-    return (map_figure(result, library, show_untried, picked, blends),
+                picked: list | None = None, blends: list | None = None, cloud=None):
+    """The 3D map and the three projections for the stored fit (plotly figures).
+
+    ``blends`` are the clicked blends (their segment or triangle, and their drying path
+    when they carry ``drying_points``); ``cloud`` the resampled sphere centres of a
+    bootstrap of the same results (shape (n, 3)), drawn faintly."""
+    return (map_figure(result, library, show_untried, picked, blends, cloud),
             planes_figure(result, blends))
 
 
@@ -592,9 +554,10 @@ def _current(fit: dict, blends, picked=None):
 
 
 def map_figure(result: dict | None, library, show_untried: bool = True,
-               picked: list | None = None, blends: list | None = None):
+               picked: list | None = None, blends: list | None = None, cloud=None):
     """The 3D map of the stored fit (``solsphere.figures.map3d``)."""
     from solsphere import figures
+    from .blendlogic import drying_paths
     from solsphere.rank import rank_solvents
     fit = (result or {}).get("fit")
     if not fit:
@@ -606,7 +569,9 @@ def map_figure(result: dict | None, library, show_untried: bool = True,
                                 tested=set(result.get("tested") or ()))
         untried = ranking.to_dict()["solvents"]
     return figures.map3d(fit, untried=untried, blends=blends or None,
-                         highlight=picked or None, show_untried=show_untried, height=560)
+                         highlight=picked or None, show_untried=show_untried, height=560,
+                         paths=drying_paths(blends) or None,
+                         cloud=cloud if cloud else None)
 
 
 def planes_figure(result: dict | None, blends: list | None = None):

@@ -3,10 +3,10 @@
 
 from __future__ import annotations
 
-from dash import Input, Output, dcc, html
+from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import ids, logic
+from . import ids, logic, uncertainty
 
 GRAPH_CONFIG = {"displaylogo": False, "responsive": True,
                 "modeBarButtonsToRemove": ["sendDataToCloud"]}
@@ -29,6 +29,21 @@ def panel(partial: str):
         ]),
         html.Div(id="fit-summary", className="fit-summary",
                  children=html.P("Waiting for results…", className="muted")),
+        html.Div(className="sure-bar", children=[
+            html.Button("How sure? Compute the 95 % intervals", id="boot-button",
+                        className="btn"),
+            html.Label(["resamples ", dcc.Input(id="boot-n", type="number", min=20,
+                                                max=uncertainty.MAX_RESAMPLES, step=10,
+                                                value=uncertainty.DEFAULT_RESAMPLES,
+                                                className="num")]),
+            dcc.RadioItems(id="boot-method", value="classic", inline=True, className="radio",
+                           options=[{"label": v, "value": k}
+                                    for k, v in uncertainty.METHODS.items()]),
+            dcc.Checklist(id="show-cloud", value=["on"], inline=True, className="radio",
+                          options=[{"label": "resampled centres on the map", "value": "on"}]),
+            html.Span(id="boot-running", className="running"),
+        ]),
+        html.Div(id="boot-status", className="boot-status"),
         dcc.Graph(id="map3d", config=GRAPH_CONFIG, className="map3d",
                   figure=logic.empty_figure("Waiting for results…")),
         dcc.Graph(id="planes", config=GRAPH_CONFIG, className="planes",
@@ -36,16 +51,23 @@ def panel(partial: str):
     ])
 
 
-def summary_children(result, saved_fit):
-    """The summary block (centre, R0, desirability, counts, misfits, warnings)."""
+def summary_children(result, saved_fit, boot=None):
+    """The summary block (centre, R0 with their intervals when a bootstrap of the same
+    results is stored, desirability, counts, misfits, warnings)."""
     s = logic.summary(result)
     if not s["ok"]:
         out = [html.P(s["message"], id="centre-text", className="no-fit")]
     else:
+        iv = uncertainty.interval_texts(boot, (result or {}).get("fit")) or {}
+        ok = iv and not iv.get("stale") and not iv.get("error")
         out = [html.Div(className="numbers", children=[
             html.Div([html.Span("centre", className="k"),
-                      html.Span(s["centre"], id="centre-text", className="v")]),
-            html.Div([html.Span("R0", className="k"), html.Span(s["R0"], id="r0-text", className="v")]),
+                      html.Span(s["centre"], id="centre-text", className="v"),
+                      html.Div(iv["centre"], id="centre-interval", className="interval")
+                      if ok else None]),
+            html.Div([html.Span("R0", className="k"), html.Span(s["R0"], id="r0-text", className="v"),
+                      html.Div(iv["R0"], id="r0-interval", className="interval")
+                      if ok else None]),
             html.Div([html.Span("desirability", className="k"),
                       html.Span(s["desirability"], className="v")]),
         ]), html.P(s["counts"], className="counts")]
@@ -72,20 +94,51 @@ def summary_children(result, saved_fit):
 def register(app, get_library):
     """Callbacks: summary and figures from the stored fit."""
 
-    @app.callback(Output("fit-summary", "children"), Input(ids.FIT, "data"),
-                  Input(ids.SAVED_FIT, "data"))
-    def show_summary(result, saved_fit):
+    @app.callback(Output("fit-summary", "children"), Output("boot-status", "children"),
+                  Input(ids.FIT, "data"), Input(ids.SAVED_FIT, "data"), Input(ids.BOOT, "data"))
+    def show_summary(result, saved_fit, boot):
         if result is None:
             raise PreventUpdate
-        return summary_children(result, saved_fit)
+        return summary_children(result, saved_fit, boot), boot_status(result, boot)
+
+    @app.callback(Output(ids.BOOT, "data"), Input("boot-button", "n_clicks"),
+                  State(ids.FIT, "data"), State("boot-n", "value"), State("boot-method", "value"),
+                  prevent_initial_call=True,
+                  running=[(Output("boot-button", "disabled"), True, False),
+                           (Output("boot-running", "children"),
+                            "Resampling the results and refitting… (a few seconds)", "")])
+    def run_bootstrap(n, result, n_resamples, method):
+        """Its own callback, run only on the button: the refit on every edit stays fast."""
+        if not n or not (result or {}).get("fit"):
+            raise PreventUpdate
+        return uncertainty.run_bootstrap(result, n_resamples, method or "classic")
 
     @app.callback(Output("map3d", "figure"), Output("planes", "figure"),
                   Input(ids.FIT, "data"), Input("show-untried", "value"),
-                  Input(ids.PICKED, "data"), Input(ids.BLEND, "data"))
-    def draw(result, untried, picked, blend):
+                  Input(ids.PICKED, "data"), Input(ids.BLEND, "data"),
+                  Input(ids.BOOT, "data"), Input("show-cloud", "value"))
+    def draw(result, untried, picked, blend, boot, show_cloud):
         # one callback for both figures: measured faster than two (they would compete
         # for the server's CPU and double the round trips)
         if result is None:
             raise PreventUpdate
+        cloud = uncertainty.cloud(boot, result.get("fit")) if show_cloud else None
         return logic.figures_for(result, get_library(), show_untried=bool(untried),
-                                 picked=picked, blends=blend)
+                                 picked=picked, blends=blend, cloud=cloud)
+
+
+def boot_status(result, boot):
+    """The line under the summary: what the intervals come from, their warnings, or
+    that they are out of date."""
+    iv = uncertainty.interval_texts(boot, (result or {}).get("fit"))
+    if not iv:
+        return html.P("Intervals: press the button to resample the results (it refits the "
+                      "sphere a few hundred times; the table stays editable meanwhile).",
+                      className="muted small")
+    if iv.get("error"):
+        return html.P(iv["error"], className="warn-line")
+    if iv.get("stale"):
+        return html.P(iv["about"], id="boot-stale", className="warn-line")
+    return [html.P(iv["about"], id="boot-about", className="small"),
+            html.Ul([html.Li(w) for w in iv["warnings"]], className="warnings")
+            if iv["warnings"] else None]

@@ -8,12 +8,24 @@ import warnings
 from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import ids, logic
+from . import ids, logic, uncertainty
 from .share import caution_line
 
 COLUMNS = [("name", "solvent"), ("red_text", "RED"), ("dD_text", "δD"), ("dP_text", "δP"),
            ("dH_text", "δH"), ("bp_text", "bp °C"), ("fp_text", "flash pt °C"),
            ("twa_text", "TWA ppm"), ("spread_text", "spread"), ("flags_text", "flags")]
+
+
+#: The p_good column, shown once a bootstrap of the same results is stored.
+P_COLUMN = ("p_text", "p_good")
+
+
+def columns_with_p(with_p: bool) -> list[dict]:
+    """The shortlist's columns (p_good after RED when there is a current bootstrap)."""
+    cols = list(COLUMNS)
+    if with_p:
+        cols.insert(2, P_COLUMN)
+    return [{"id": c, "name": n} for c, n in cols]
 
 
 def table(table_id: str, columns, page_size: int = 15):
@@ -30,8 +42,11 @@ def table(table_id: str, columns, page_size: int = 15):
                         "cursor": "pointer"},
             style_header={"backgroundColor": "#eef2f0", "fontWeight": "600"},
             style_cell_conditional=[{"if": {"column_id": "flags_text"}, "minWidth": "300px"},
-                                    {"if": {"column_id": "label"}, "minWidth": "200px"},
+                                    {"if": {"column_id": "label"}, "minWidth": "220px"},
                                     {"if": {"column_id": "window_text"}, "minWidth": "120px"},
+                                    {"if": {"column_id": "drying_text"}, "minWidth": "110px"},
+                                    {"if": {"column_id": "twa_text"}, "minWidth": "70px"},
+                                    {"if": {"column_id": "fp_text"}, "minWidth": "80px"},
                                     {"if": {"column_id": "name"}, "minWidth": "150px"}],
             style_data_conditional=[{"if": {"state": "active"},
                                      "backgroundColor": "#fdf3cf", "border": "1px solid #e6ab02"}],
@@ -71,6 +86,7 @@ def panel():
         html.P("Untried solvents sorted by RED (distance to the centre over R0; below 1 "
                "is predicted inside the sphere). Click a row to put it on the map.",
                className="tip"),
+        html.P(id="next-p-note", className="tip"),
         filters("next"),
         caution_line("next-caution"),
         html.Div(id="next-message", className="message"),
@@ -87,20 +103,27 @@ def register(app, get_library):
     @app.callback(Output("shortlist", "data"), Output("next-message", "children"),
                   Output("next-caution", "children"),
                   Output("next-detail", "children", allow_duplicate=True),
-                  Output("shortlist", "active_cell"),
+                  Output("shortlist", "active_cell"), Output("shortlist", "columns"),
+                  Output("next-p-note", "children"),
                   Input(ids.FIT, "data"), Input(ids.TABS, "value"),
                   Input("next-liquids", "value"), Input("next-min-fp", "value"),
                   Input("next-max-bp", "value"), Input("next-no-carc", "value"),
                   Input("next-exclude", "value"), Input("next-top", "value"),
-                  prevent_initial_call="initial_duplicate")
-    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top):
+                  Input(ids.BOOT, "data"), prevent_initial_call="initial_duplicate")
+    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot):
         if result is None or tab != "next":
             raise PreventUpdate  # computed only while the screen is shown
+        b = uncertainty.bootstrap_of(boot, result.get("fit"))
         out = logic.shortlist(result, get_library(), liquids_only=bool(liquids),
                               min_flash_point=min_fp, max_boiling_point=max_bp,
                               no_carcinogens=bool(no_carc), exclude=exclude,
-                              top=int(top or 30))
-        return out["rows"], out["message"], out["caution"], None, None
+                              top=int(top or 30), bootstrap=b)
+        with_p = b is not None
+        note = (p_note(boot) if with_p else
+                "Press 'How sure?' beside the map for a p_good column (the share of "
+                "resampled spheres that contain each solvent).")
+        return (out["rows"], out["message"], out["caution"], None, None,
+                columns_with_p(with_p), note)
 
     @app.callback(Output(ids.PICKED, "data"), Output("next-detail", "children"),
                   Input("shortlist", "active_cell"), Input("clear-picked", "n_clicks"),
@@ -118,10 +141,20 @@ def register(app, get_library):
         return (kept + [item])[-5:], detail(r)
 
 
+def p_note(boot: dict) -> str:
+    """What the p_good column means, for the bootstrap it comes from."""
+    d = boot["boot"]
+    return (f"p_good: the share of {d['n_bootstrap']} resampled spheres ({d['fit_method']} "
+            f"fit) that contain the solvent; a guide to how likely it is to dissolve the "
+            f"material, not a guarantee.")
+
+
 def detail(r: dict):
     """The clicked solvent in full, with its safety facts."""
     facts = [f"δD {r['dD_text']}, δP {r['dP_text']}, δH {r['dH_text']} MPa½; RED {r['red_text']} "
-             f"({'predicted inside' if r['red'] <= 1 else 'predicted outside'} the sphere).",
+             f"({'predicted inside' if r['red'] <= 1 else 'predicted outside'} the sphere)"
+             + (f"; inside {100 * r['p_good']:.0f} % of the resampled spheres."
+                if r.get("p_good") is not None else "."),
              f"Boiling point {r['bp_text']} °C; flash point {r['fp_text']} °C; exposure limit "
              f"{r['twa_text']} ppm; CAS {r.get('cas') or '—'} (— = not in the data)."]
     return [html.Strong(r["name"]), " (on the map now)",

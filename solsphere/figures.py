@@ -3,9 +3,9 @@ standalone share file.
 
 Look (our own, see CONVENTIONS.md): ColorBrewer Dark2 colours; dissolves = teal filled
 circle, does not = burnt-orange x, partly = slate diamond, untried library solvents =
-small light-grey dots, blends = mustard line + open circle, the sphere = translucent grey
-surface with a thin mesh. The δD axis is drawn at twice the scale of δP and δH so the
-Hansen sphere (whose δD semi-axis is R0/2) looks round.
+small light-grey dots, blends = mustard line + open circle, drying paths = brown dotted
+line, the sphere = translucent grey surface with a thin mesh. The δD axis is drawn at
+twice the scale of δP and δH so the Hansen sphere (whose δD semi-axis is R0/2) looks round.
 
 The figures take plain dicts (``SphereFit.to_dict()``, ``Ranking.to_dict()``,
 ``BlendScreen.to_dict()``), so the app can draw straight from its stored JSON.
@@ -25,6 +25,9 @@ STYLE = {
 }
 UNTRIED = "#bbbbbb"
 BLEND = "#e6ab02"
+#: Drying paths: Dark2 brown, so a pair's path (which runs along its mustard segment)
+#: stays visible on it.
+DRYING = "#a6761d"
 SPHERE = "#666666"
 MISFIT_RING = "#222222"
 AXIS = {"dD": "δD (MPa½)", "dP": "δP (MPa½)", "dH": "δH (MPa½)"}
@@ -177,7 +180,7 @@ def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | Non
         p = np.asarray(path["points"], dtype=float)
         fig.add_trace(go.Scatter3d(x=p[:, 0], y=p[:, 1], z=p[:, 2], mode="lines",
                                    name=path.get("label", "drying path"),
-                                   line={"color": BLEND, "width": 3, "dash": "dot"},
+                                   line={"color": DRYING, "width": 5, "dash": "dot"},
                                    hoverinfo="name"))
     if highlight:
         fig.add_trace(go.Scatter3d(

@@ -12,7 +12,7 @@ import json
 
 import pytest
 
-from app import logic
+from app import blendlogic, logic, uncertainty
 from solsphere.errors import InputError
 from solsphere.library import load_library
 
@@ -221,7 +221,7 @@ def test_blend_designer_matches_screen_blends(demo_result, lib):
     from solsphere.blend import screen_blends
     from solsphere.session import candidate_pool
     fit = demo_result["fit"]
-    out = logic.blend_designer(demo_result, lib, no_carcinogens=True, max_boiling_point=150,
+    out = blendlogic.blend_designer(demo_result, lib, no_carcinogens=True, max_boiling_point=150,
                                top=5)
     pool, _ = candidate_pool(lib, max_boiling_point=150.0, exclude_carcinogens=True)
     ref = screen_blends(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"], top=5).to_dict()
@@ -234,24 +234,24 @@ def test_blend_designer_matches_screen_blends(demo_result, lib):
 
 
 def test_blend_designer_ticked_and_shelf_pools(demo_result, lib):
-    out = logic.blend_designer(demo_result, lib, pool_choice="ticked",
+    out = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked",
                                ticked=["toluene", "ethanol", "acetone"], top=10)
     names = {n for b in out["blends"] for n in b["solvents"]}
     assert names and names <= {"toluene", "ethanol", "acetone"}
-    few = logic.blend_designer(demo_result, lib, pool_choice="ticked", ticked=["toluene"])
+    few = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked", ticked=["toluene"])
     assert few["blends"] == [] and "two" in few["message"]
     shelf = {"filename": "shelf.csv",
              "contents": data_url(b"solvent\ntoluene\nethanol\nMEK\nwater\n")}
-    out = logic.blend_designer(demo_result, lib, pool_choice="shelf", shelf=shelf, top=10)
+    out = blendlogic.blend_designer(demo_result, lib, pool_choice="shelf", shelf=shelf, top=10)
     names = {n for b in out["blends"] for n in b["solvents"]}
     assert names and names <= {"toluene", "ethanol", lib.lookup("MEK").name, "water"}
     bad = {"filename": "myshelf.csv", "contents": data_url(b"solvent\nwatr\n")}
-    msg = logic.blend_designer(demo_result, lib, pool_choice="shelf", shelf=bad)["message"]
+    msg = blendlogic.blend_designer(demo_result, lib, pool_choice="shelf", shelf=bad)["message"]
     assert "myshelf.csv" in msg and "solsphere-upload" not in msg
 
 
 def test_figures_draw_the_stored_fit(demo_result, lib):
-    blend = logic.blend_designer(demo_result, lib, top=1)["blends"]
+    blend = blendlogic.blend_designer(demo_result, lib, top=1)["blends"]
     fig3, fig2 = logic.figures_for(demo_result, lib, show_untried=True,
                                    picked=[{"name": "anisole", "dD": 17.8, "dP": 4.1,
                                             "dH": 6.7}], blends=blend)
@@ -289,13 +289,279 @@ def test_server_warns_off_loopback_and_builds_the_app(tmp_path, lib):
         server.initial_state(tmp_path / "missing.csv", lib)
 
 
+def test_bootstrap_and_suggestions_run_only_on_their_buttons():
+    """The refit-on-every-edit path never starts a resampling: the callbacks that write
+    the bootstrap and the suggestions are triggered by their buttons alone (the fit is
+    only read, as State)."""
+    from app import ids
+    from app.server import create_app
+    dash_app = create_app()
+    found = 0
+    for key, cb in dash_app.callback_map.items():
+        if any(f"{name}.data" in key.split("..") or key == f"{name}.data"
+               for name in (ids.BOOT, ids.NEXT)):
+            found += 1
+            triggers = {f"{i['id']}.{i['property']}" for i in cb["inputs"]}
+            assert triggers in ({"boot-button.n_clicks"}, {"next-trials-button.n_clicks"}), key
+            assert f"{ids.FIT}.data" in {f"{s['id']}.{s['property']}" for s in cb["state"]}
+    assert found == 2
+
+
 def test_no_module_level_user_state():
     """Per-user state lives in the browser: the app modules hold no mutable globals."""
     import types
-    import app.bench, app.blends, app.layout, app.logic, app.share, app.sphere, app.trynext  # noqa: E401
-    for mod in (app.bench, app.blends, app.layout, app.logic, app.share, app.sphere,
-                app.trynext):
+    import app.bench, app.blends, app.blendlogic, app.layout, app.logic, app.nexttrials  # noqa: E401
+    import app.replace, app.share, app.sphere, app.trynext, app.uncertainty  # noqa: E401
+    for mod in (app.bench, app.blends, app.blendlogic, app.layout, app.logic, app.nexttrials,
+                app.replace, app.share, app.sphere, app.trynext, app.uncertainty):
         for name, value in vars(mod).items():
             if name.startswith("__") or isinstance(value, (types.ModuleType, types.FunctionType, type)):
                 continue
             assert not isinstance(value, (list, dict, set)) or name.isupper(), (mod.__name__, name)
+
+
+# ----------------------------------------------------------------------------- blends: 3 components, constraints, drying
+
+def test_three_component_designer_is_the_triple_screen_of_the_nearest_pool(demo_result, lib):
+    from solsphere.rank import rank_solvents
+    from solsphere.session import candidate_pool
+    from solsphere.triples import screen_triples
+    fit = demo_result["fit"]
+    centre = (fit["dD"], fit["dP"], fit["dH"])
+    out = blendlogic.blend_designer(demo_result, lib, components=3, top=5)
+    pool, _ = candidate_pool(lib)
+    near = [r.solvent for r in rank_solvents(pool, centre, fit["R0"],
+                                             top=blendlogic.MAX_TRIPLE_POOL).solvents]
+    ref = screen_triples(near, centre, fit["R0"], top=5).to_dict()["blends"]
+    assert [b["solvents"] for b in out["blends"]] == [b["solvents"] for b in ref]
+    assert any("nearest the sphere centre" in n for n in out["notes"])  # the cut is said
+    for b in out["blends"]:
+        assert b["n_components"] == 3 and len(b["component_points"]) == 3
+        assert b["label"].count("%") == 3 and "triangle" in b["window_text"]
+        assert b["drying_text"]  # a verdict for every row ("no data" when data are missing)
+    # the map draws the triangle: three edges, each followed by a gap
+    fig3, _ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(out["blends"][0])])
+    seg = next(t for t in fig3.data if t.name == "blend segments")
+    assert len(seg.x) == 9 and list(seg.x[2::3]) == [None] * 3
+
+
+def test_share_limits_hold_and_bad_limits_say_how_to_write_them(demo_result, lib):
+    names = ["toluene", "ethanol"]
+    assert blendlogic.parse_fraction_limits("toluene=30%, ethanol 0.5", names, lib, "at most") == \
+        {"toluene": 0.3, "ethanol": 0.5}
+    assert blendlogic.parse_fraction_limits("MEK: 20", [], lib, "at least") == \
+        {lib.lookup("MEK").name: 0.2}
+    with pytest.raises(InputError, match="toluene=30%"):
+        blendlogic.parse_fraction_limits("toluene", names, lib, "at most")
+    with pytest.raises(InputError, match="between 0 and 100"):
+        blendlogic.parse_fraction_limits("toluene=130%", names, lib, "at most")
+    out = blendlogic.blend_designer(demo_result, lib, components=3, pool_choice="ticked",
+                                    ticked=["toluene", "ethanol", "acetone", "water", "MEK"],
+                                    max_fraction="toluene=20%", min_fraction="ethanol=10%",
+                                    top=20)
+    assert out["blends"]
+    for b in out["blends"]:
+        share = dict(zip(b["solvents"], b["volume_fractions"]))
+        assert share.get("toluene", 0.0) <= 0.2 + 1e-9
+        assert "ethanol" not in share or share["ethanol"] >= 0.1 - 1e-9
+    bad = blendlogic.blend_designer(demo_result, lib, components=3, max_fraction="toluene")
+    assert bad["blends"] == [] and "toluene=30%" in bad["message"]
+
+
+def test_constraints_restricted_list_and_temperature(demo_result, lib):
+    restricted = {"filename": "banned.csv",
+                  "contents": data_url(b"solvent\ntoluene\nMEK\n")}
+    ticked = ["toluene", "ethanol", "acetone", "MEK", "ethyl acetate"]
+    out = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked", ticked=ticked,
+                                    restricted=restricted, top=20)
+    names = {n for b in out["blends"] for n in b["solvents"]}
+    assert names and not names & {"toluene", lib.lookup("MEK").name}
+    out = blendlogic.blend_designer(demo_result, lib, restricted=restricted, min_boiling_point=80,
+                                    min_exposure_limit=50, top=10)
+    for b in out["blends"]:
+        assert not set(b["solvents"]) & {"toluene", lib.lookup("MEK").name}
+        assert all(bp is not None and bp >= 80 for bp in b["boiling_points"])
+        assert all(t is None or t >= 50 for t in b["twa_ppm"])
+    typo = {"filename": "banned.csv", "contents": data_url(b"solvent\nwatr\n")}
+    msg = blendlogic.blend_designer(demo_result, lib, restricted=typo)["message"]
+    assert "banned.csv" in msg and "water" in msg and "solsphere-upload" not in msg
+    hot = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked", ticked=ticked,
+                                    temperature=60, top=3)
+    cold = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked", ticked=ticked, top=3)
+    assert any("60 °C" in n for n in hot["notes"]) and not cold["notes"]
+    pts = {tuple(p) for b in hot["blends"] for p in b["component_points"]}
+    assert pts.isdisjoint({tuple(p) for b in cold["blends"] for p in b["component_points"]})
+
+
+def test_drying_column_and_path_are_the_library_drying(demo_result, lib):
+    from solsphere.blend import screen_blends
+    from solsphere.library import Library
+    from solsphere.session import add_safety_and_drying, candidate_pool
+    fit = demo_result["fit"]
+    centre = (fit["dD"], fit["dP"], fit["dH"])
+    ticked = ["toluene", "ethanol", "acetone", "ethyl acetate", "1-butanol", "p-xylene"]
+    out = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked", ticked=ticked,
+                                    rank_by="drying", top=10)
+    pool, _ = candidate_pool(Library.from_records([lib.lookup(n) for n in ticked]),
+                             liquid_only=False)
+    screen = screen_blends(pool, centre, fit["R0"], top=500)
+    screen.blends = [b for b in screen.blends if b.red <= 1.0] or screen.blends
+    ref = add_safety_and_drying(screen, pool, centre, fit["R0"], drying=True, rank_by="drying",
+                                top=10)
+    assert [b["solvents"] for b in out["blends"]] == [b["solvents"] for b in ref]
+    with_path = 0
+    for b, r in zip(out["blends"], ref):
+        d = r["drying"]
+        assert b["drying_text"] == blendlogic.drying_text(d)
+        if d is not None:
+            with_path += 1
+            assert b["drying_points"][-1] == pytest.approx(d["points"][-1], abs=1e-3)
+        assert b["fp_text"] == blendlogic.flash_text(r["flash_point_estimate"])
+        assert b["mix_text"] == ("may not mix" if r["may_not_mix"] else "")
+    assert with_path  # these common solvents have vapour-pressure data
+    assert blendlogic.drying_text({"starts_inside": True, "leaves_at": 0.38}) == \
+        "leaves at 38 % evaporated"
+    assert blendlogic.drying_text({"starts_inside": True, "leaves_at": None,
+                                   "max_fraction_evaporated": 1.0}) == "stays inside to dryness"
+    # the clicked blend's drying path is drawn on the map
+    b = next(b for b in out["blends"] if b.get("drying_points"))
+    fig3, _ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(b)])
+    path = [t for t in fig3.data if (t.name or "").startswith("drying path")]
+    assert len(path) == 1 and len(path[0].x) == len(b["drying_points"])
+
+
+def test_rank_by_cost_needs_prices_and_ranks_cheapest_inside_first(demo_result, lib):
+    msg = blendlogic.blend_designer(demo_result, lib, rank_by="cost")["message"]
+    assert "price" in msg and "shelf" in msg
+    shelf = {"filename": "priced.csv", "contents": data_url(
+        b"solvent,price\ntoluene,3.0\nethanol,2.0\nacetone,2.5\nethyl acetate,4.0\n"
+        b"1-butanol,3.5\nMEK,5.0\n")}
+    out = blendlogic.blend_designer(demo_result, lib, pool_choice="shelf", shelf=shelf,
+                                    rank_by="cost", top=10)
+    assert out["has_price"] and out["blends"]
+    inside = [b for b in out["blends"] if b["red"] <= 1 and not b["may_not_mix"]]
+    prices = [b["price_per_litre"] for b in inside]
+    assert prices == sorted(prices)
+    b = inside[0]  # price = volume-fraction weighted shelf prices (invented prices)
+    own = {"toluene": 3.0, "ethanol": 2.0, "acetone": 2.5, "ethyl acetate": 4.0,
+           "1-butanol": 3.5, lib.lookup("MEK").name: 5.0}
+    assert b["price_per_litre"] == pytest.approx(
+        sum(f * own[n] for n, f in zip(b["solvents"], b["volume_fractions"])))
+
+
+# ----------------------------------------------------------------------------- replace
+
+def test_replace_is_find_substitutes_and_for_material_uses_the_fit(demo_result, lib):
+    from solsphere.session import candidate_pool
+    from solsphere.substitute import find_substitutes
+    fit = demo_result["fit"]
+    out = blendlogic.substitutes(demo_result, lib, "toluene", top=5, n_pairs=3)
+    pool, _ = candidate_pool(lib)
+    ref = find_substitutes(lib.lookup("toluene"), pool, top=5, n_pairs=3).to_dict()
+    assert [s["name"] for s in out["singles"]] == [s["name"] for s in ref["singles"]]
+    assert [p["solvents"] for p in out["pairs"]] == [p["solvents"] for p in ref["pairs"]]
+    assert all(s["side_text"] == "—" and s["red"] is None for s in out["singles"])
+    mat = blendlogic.substitutes(demo_result, lib, "toluene", for_material=True, top=5)
+    ref = find_substitutes(lib.lookup("toluene"), pool, top=5,
+                           material=((fit["dD"], fit["dP"], fit["dH"]), fit["R0"])).to_dict()
+    assert [s["name"] for s in mat["singles"]] == [s["name"] for s in ref["singles"]]
+    assert "for this material" in mat["message"]
+    assert {s["side_text"] for s in mat["singles"]} <= {"same", "other"}
+    assert mat["caution"].startswith("Predictions are guides")
+    safe = blendlogic.substitutes(demo_result, lib, "toluene", min_flash_point=30, top=5)
+    assert all(s["flash_point"] >= 30 for s in safe["singles"])
+    typo = blendlogic.substitutes(demo_result, lib, "tolune")
+    assert typo["singles"] == [] and "toluene" in typo["message"]
+
+
+# ----------------------------------------------------------------------------- uncertainty, next trials
+
+def _demo_trials(lib):
+    from importlib.resources import as_file, files
+    from solsphere.project import load_any
+    with as_file(files("solsphere.data.demo").joinpath(logic.DEMO_FILE)) as path:
+        return load_any(path, library=lib).trials
+
+
+@pytest.fixture(scope="module")
+def boot(demo_result):
+    return uncertainty.run_bootstrap(demo_result, 40)
+
+
+def test_bootstrap_in_the_app_is_the_library_bootstrap_of_the_trials(demo, demo_result, boot, lib):
+    """Same numbers as confidence.bootstrap on the validated trials (the CLI's path)."""
+    from solsphere import confidence
+    trials = _demo_trials(lib)  # the CLI's path: `solsphere fit --bootstrap 40` on the file
+    ref = confidence.bootstrap(trials, n_bootstrap=40, seed=uncertainty.SEED, partial="good",
+                               bounds=demo_result["fit"]["bounds"], n_jobs=1)
+    d = boot["boot"]
+    for k in ("dD", "dP", "dH", "R0"):
+        assert d["intervals"][k] == pytest.approx(ref.intervals[k], abs=1e-9)
+    assert len(d["centres"]) == 40 and len(d["radii"]) == 40
+    assert d["dD"] == pytest.approx(demo_result["fit"]["dD"], abs=1e-9)  # the fit shown
+    fit = demo_result["fit"]
+    iv = uncertainty.interval_texts(boot, fit)
+    lo, hi = ref.intervals["dD"]
+    assert iv["centre"].startswith("95 % interval: δD") and f"{lo:.1f}–{hi:.1f}" in iv["centre"]
+    assert iv["R0"].startswith("95 % interval") and "40 resamples" in iv["about"]
+    assert any("resamples" in w for w in iv["warnings"])  # fewer than advised: said so
+    assert len(uncertainty.cloud(boot, fit)) == 40
+    b = uncertainty.bootstrap_of(boot, fit)
+    rows = logic.shortlist(demo_result, lib, top=8, bootstrap=b)["rows"]
+    p = ref.p_good([[r["dD"], r["dP"], r["dH"]] for r in rows])
+    assert [r["p_good"] for r in rows] == pytest.approx(p, abs=0.03)  # stored centres rounded
+    assert all(r["p_text"] == f"{r['p_good']:.2f}" for r in rows)
+    assert all(r["p_good"] is None for r in logic.shortlist(demo_result, lib, top=3)["rows"])
+
+
+def test_an_edit_makes_the_intervals_stale_not_wrong(demo, demo_result, boot, lib):
+    rows = [dict(r) for r in demo["rows"]]
+    rows[0]["outcome"] = "does not" if rows[0]["outcome"] != "does not" else "dissolves"
+    other = logic.compute_fit(rows, "good", lib)["fit"]
+    assert uncertainty.trials_key(other) != uncertainty.trials_key(demo_result["fit"])
+    assert uncertainty.interval_texts(boot, other)["stale"] is True
+    assert uncertainty.cloud(boot, other) is None
+    assert uncertainty.bootstrap_of(boot, other) is None
+    # a row waiting for its outcome does not change the results
+    pending, added = logic.add_pending(demo["rows"], ["o-xylene"])
+    same = logic.compute_fit(pending, "good", lib)["fit"]
+    assert added == ["o-xylene"]
+    assert uncertainty.trials_key(same) == uncertainty.trials_key(demo_result["fit"])
+
+
+def test_next_trials_are_the_library_suggestions_and_recheck_the_influence(demo_result, lib):
+    from solsphere import confidence, nexttrial
+    from solsphere.session import candidate_pool
+    out = uncertainty.next_trials(demo_result, lib, n=3, n_resamples=40, min_flash_point=23)
+    fit = demo_result["fit"]
+    trials = _demo_trials(lib)  # the CLI's path: `solsphere next` on the demo file
+    pool, _ = candidate_pool(lib, min_flash_point=23.0)
+    ref = nexttrial.suggest_next(trials, candidates=pool, n=3, n_bootstrap=40,
+                                 seed=uncertainty.SEED, partial="good", n_jobs=1)
+    assert [s["name"] for s in out["suggestions"]] == ref.names
+    assert [s["p_good"] for s in out["suggestions"]] == \
+        pytest.approx([s.p_good for s in ref.suggestions])
+    assert all(s["flash_point"] >= 23 and s["reason"] for s in out["suggestions"])
+    assert not {s["name"] for s in out["suggestions"]} & set(demo_result["tested"])
+    infl = confidence.influence(trials, partial="good", bounds=fit["bounds"], n_jobs=1)
+    assert [r["name"] for r in out["recheck"]] == [r["name"] for r in infl.top(5)]
+    assert "centre moves" in out["recheck"][0]["text"]
+    assert out["key"] == uncertainty.trials_key(fit) and "p_good" in out["caution"]
+
+
+def test_adding_a_suggestion_leaves_a_row_waiting_for_its_outcome(demo, lib):
+    n = len(demo["rows"])
+    rows, added = logic.add_pending(demo["rows"], ["o-xylene", "toluene", "o-xylene"], "suggested")
+    assert added == ["o-xylene"]  # toluene is in the table already; no duplicates
+    assert len(rows) == n + 1 and rows[n] == {"solvent": "o-xylene", "outcome": None, "dD": None,
+                                              "dP": None, "dH": None, "note": "suggested"}
+    res = logic.compute_fit(rows, "good", lib)
+    pend = [p for p in res["problems"] if p.get("pending")]
+    assert [(p["row"], p["column"]) for p in pend] == [(n, "outcome")]
+    s = logic.summary(res)
+    assert any("waits for its outcome" in w for w in s["warnings"])
+    assert not any("need" in w and "fixing" in w for w in s["warnings"])
+    styles, tips, _ = logic.table_marks(res, len(rows))
+    mark = [st for st in styles if st["if"].get("row_index") == n]
+    assert mark and mark[0]["backgroundColor"] == "#fff3c4"
+    assert "Waiting for the result" in tips[n]["outcome"]["value"]
