@@ -20,7 +20,6 @@ from .logic import _fmt, _num, _with_temp_file, decode_upload, fit_key, split_na
 #: Three-solvent blends are screened over at most this many candidates (the nearest to
 #: the sphere centre): 100 give 161,700 triples, screened in about 0.1 s here; the 688
 #: library liquids would give 54 million.
-MAX_TRIPLE_POOL = 100
 #: With ranking by cost or drying, the blends nearest the centre looked at (then the
 #: inside ones are re-ranked), as ``solsphere blend --rank-by`` does.
 RERANK_POOL = 500
@@ -139,7 +138,7 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
         ``message``, ``notes`` (temperature, pool cut), ``caution``, ``has_price``.
     """
     from solsphere.blend import screen_blends
-    from solsphere.rank import CAUTION, rank_solvents
+    from solsphere.rank import CAUTION
     from solsphere.session import add_safety_and_drying, at_temperature
     fit = (result or {}).get("fit")
     if not fit:
@@ -161,21 +160,16 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
         notes += tnotes
         screen_top = int(top) if rank_by == "red" else max(RERANK_POOL, int(top))
         if int(components) == 3:
-            from solsphere.triples import screen_triples
+            from solsphere.triples import screen_triples, triple_shortlist
             names = [s.name for s in pool]
             upper = parse_fraction_limits(max_fraction, names, library, "at most")
             lower = parse_fraction_limits(min_fraction, names, library, "at least")
-            pool3 = pool
-            if len(pool) > MAX_TRIPLE_POOL:
-                near = rank_solvents(pool, centre, R0, top=MAX_TRIPLE_POOL)
-                pool3 = [r.solvent for r in near.solvents]
-                # a solvent with a fraction limit is one the user has in mind: keep it
-                have = {s.name for s in pool3}
-                pool3 += [s for s in pool if s.name in {**upper, **lower} and s.name not in have]
-                notes.append(f"three-solvent blends from the {len(pool3)} of {len(pool)} "
-                             f"candidates nearest the sphere centre (all triples of "
-                             f"{len(pool)} would be too many to screen here); choose a "
-                             f"shelf or tick solvents to combine others")
+            pool3 = triple_shortlist(pool, centre, R0, keep=set(upper) | set(lower))
+            if len(pool3) < len(pool):
+                notes.append(f"three-solvent blends from a shortlist of {len(pool3)} of "
+                             f"{len(pool)} candidates (the nearest the sphere centre and the "
+                             f"partners of the best pairs; all triples would be too many); "
+                             f"choose a shelf or tick solvents to combine others")
             screen = screen_triples(pool3, centre, R0, top=screen_top, max_fraction=upper,
                                     min_fraction=lower)
             counted = f"{screen.n_triples_screened} triples"

@@ -125,6 +125,10 @@ def compute_fit(rows, partial: str, library) -> dict:
         out["fit_error"] = ("No bench results yet: add a solvent and its outcome for each "
                             "trial (or open a results file, or the demo).")
         return out
+    if partial not in ("good", "bad", "skip"):
+        out["fit_error"] = (f"unknown setting {partial!r} for 'partly' results: choose "
+                            f"dissolves, does not or left out (partial good/bad/skip).")
+        return out
     try:
         fit = fit_project(Project(trials, {"partial": partial}), partial=partial,
                           library=library)
@@ -481,23 +485,23 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                                        "works.", "caution": CAUTION}
     names = split_names(exclude)
     try:
-        if liquids_only:
-            pool, filters = candidate_pool(library, exclude=names,
-                                           min_flash_point=_num(min_flash_point),
-                                           max_boiling_point=_num(max_boiling_point),
-                                           exclude_carcinogens=bool(no_carcinogens))
-        else:
-            sel = library.select(min_flash_point=_num(min_flash_point),
-                                 max_boiling_point=_num(max_boiling_point),
-                                 exclude_carcinogens=bool(no_carcinogens), exclude=names)
-            pool = list(sel)
-            filters = {"pool": "all library solvents", "exclude": names}
-            if not pool:
-                raise InputError("no candidate solvent is left after the filters.",
-                                 hint="relax the filters")
+        top = int(top)
+    except (TypeError, ValueError):
+        top = 0
+    if top < 1:
+        return {"rows": [], "message": "how many to list must be a whole number of at "
+                                       "least 1.", "caution": CAUTION}
+    try:
+        pool, filters = candidate_pool(library, exclude=names,
+                                       min_flash_point=_num(min_flash_point),
+                                       max_boiling_point=_num(max_boiling_point),
+                                       exclude_carcinogens=bool(no_carcinogens),
+                                       liquid_only=bool(liquids_only))
+        if not liquids_only:
+            filters["pool"] = "all library solvents"
     except SolsphereError as exc:
         return {"rows": [], "message": str(exc), "caution": CAUTION}
-    ranking = rank_solvents(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"], top=int(top),
+    ranking = rank_solvents(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"], top=top,
                             tested=set(result.get("tested") or ()), filters=filters,
                             bootstrap=bootstrap)
     d = ranking.to_dict()

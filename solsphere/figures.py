@@ -14,7 +14,6 @@ The figures take plain dicts (``SphereFit.to_dict()``, ``Ranking.to_dict()``,
 from __future__ import annotations
 
 import html
-import json
 
 import numpy as np
 

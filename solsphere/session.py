@@ -69,8 +69,9 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     min_flash_point, max_boiling_point, min_boiling_point : float or None
         Limits [°C]; a solvent whose value is unknown does not pass an active limit.
         For blends a minimum flash point on every component is the conservative rule:
-        the lowest component flash point bounds the blend's from above for ideal
-        mixtures, so requiring each component to pass keeps the bound at the limit.
+        for ideal mixtures the blend's flash point is not below its lowest component's,
+        so requiring each component to pass keeps the blend at or above the limit
+        (non-ideal blends can flash lower: see :mod:`solsphere.flash`).
     exclude_carcinogens : bool
         Leave out solvents with any carcinogen classification.
     min_exposure_limit : float or None

@@ -322,17 +322,15 @@ def test_no_module_level_user_state():
 
 # ----------------------------------------------------------------------------- blends: 3 components, constraints, drying
 
-def test_three_component_designer_is_the_triple_screen_of_the_nearest_pool(demo_result, lib):
-    from solsphere.rank import rank_solvents
+def test_three_component_designer_is_the_triple_screen_of_the_shortlist(demo_result, lib):
     from solsphere.session import candidate_pool
-    from solsphere.triples import screen_triples
+    from solsphere.triples import screen_triples, triple_shortlist
     fit = demo_result["fit"]
     centre = (fit["dD"], fit["dP"], fit["dH"])
     out = blendlogic.blend_designer(demo_result, lib, components=3, top=5)
     pool, _ = candidate_pool(lib)
-    near = [r.solvent for r in rank_solvents(pool, centre, fit["R0"],
-                                             top=blendlogic.MAX_TRIPLE_POOL).solvents]
-    ref = screen_triples(near, centre, fit["R0"], top=5).to_dict()["blends"]
+    short = triple_shortlist(pool, centre, fit["R0"])
+    ref = screen_triples(short, centre, fit["R0"], top=5).to_dict()["blends"]
     assert [b["solvents"] for b in out["blends"]] == [b["solvents"] for b in ref]
     assert any("nearest the sphere centre" in n for n in out["notes"])  # the cut is said
     for b in out["blends"]:

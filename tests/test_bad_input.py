@@ -792,26 +792,18 @@ def test_catalogue_size():
 # ------------------------------------------------------- crafted requests to the app
 # The app's controls cannot send these values (radio items, number inputs with min/max
 # send null when invalid); a hand-made HTTP request can. The server must answer and
-# keep serving; today two of them end in an HTTP 500 (marked xfail, strict, so the
-# marker goes when the app is fixed).
+# keep serving, and answer each with a message.
 
 SMALL_ROWS = [{"solvent": s, "outcome": {"good": "dissolves", "bad": "does not"}[o]}
               for s, o in BASE_ROWS]
 
 
-@pytest.mark.xfail(strict=True, raises=ValueError,
-                   reason="app.logic.compute_fit passes an unknown 'partly' setting to the "
-                          "fit, which raises ValueError: the refit callback answers a "
-                          "crafted request with HTTP 500 instead of a fit_error")
 def test_crafted_partial_setting_gives_a_message(lib):
     from app import logic
     result = logic.compute_fit(SMALL_ROWS, "maybe", lib)
     assert result["fit"] is None and "partial" in (result["fit_error"] or "")
 
 
-@pytest.mark.xfail(strict=True, raises=ValueError,
-                   reason="app.logic.shortlist passes top=-3 to rank_solvents, which "
-                          "raises ValueError: HTTP 500 for a crafted 'next-top' value")
 def test_crafted_negative_shortlist_length_gives_a_message(lib):
     from app import logic
     result = logic.compute_fit(SMALL_ROWS, "good", lib)
@@ -841,7 +833,7 @@ def test_a_request_that_fails_does_not_stop_the_server(lib):
     for junk in ([None, 5, "x"], "not rows", [{"solvent": {"a": [1]}, "outcome": 3}]):
         r = refit(junk, "good")
         assert r.status_code == 200  # junk rows are marked or ignored, not a crash
-    refit(SMALL_ROWS, "maybe")  # may fail (see the xfail above); must not stop the server
+    refit(SMALL_ROWS, "maybe")  # answered with a message; must not stop the server
     r = refit(SMALL_ROWS, "good")
     assert r.status_code == 200
     fit = r.get_json()["response"]["fit-store"]["data"]["fit"]
