@@ -41,7 +41,7 @@ test-fast: $(STAMP)
 	$(PY) -m pytest -m "not browser and not slow"
 
 bench: $(STAMP)
-	@for f in tests/perf/bench_*.py; do $(PY) $$f || exit 1; done
+	@fail=0; for f in tests/perf/bench_*.py; do $(PY) $$f || fail=1; done; exit $$fail
 
 data: $(STAMP)
 	$(PY) data/build_solvents.py
