@@ -567,25 +567,34 @@ class BlendScreen:
         if fl:
             lines.append("Filters: " + "; ".join(fl))
         lines.append("")
-        if not self.blends:
-            lines.append("No blends to show.")
-        else:
-            labels = [b.label() for b in self.blends]
-            wl = max(len("blend (volume %)"), *(len(x) for x in labels))
-            head = (f"{'#':>3}  {'blend (volume %)':<{wl}}  {'dD':>5} {'dP':>5} {'dH':>5} "
-                    f"{'RED':>5}  {'inside (1st %)':<14}  {'flash pt °C':<11}  note / flags")
-            lines.append(head)
-            lines.append("-" * len(head))
-            for k, (b, lab) in enumerate(zip(self.blends, labels), 1):
-                fp = " / ".join(_num(x) for x in b.flash_points)
-                notes = (["two non-solvents"] if b.both_non_solvents else []) + \
-                    (["one alone is as good"] if b.best_is_single else []) + b.flags
-                lines.append(f"{k:>3}  {lab:<{wl}}  {b.dD:5.1f} {b.dP:5.1f} {b.dH:5.1f} "
-                             f"{b.red:5.2f}  {b.window_text():<14}  {fp:<11}  "
-                             + "; ".join(notes))
+        lines += blend_table(self.blends, "inside (1st %)", 11, lambda b: (
+            (["two non-solvents"] if b.both_non_solvents else [])
+            + (["one alone is as good"] if b.best_is_single else []) + b.flags))
         lines.append("")
         lines.append(CAUTION)
         return "\n".join(lines)
+
+
+def blend_table(blends, window_header: str, fp_width: int, notes_of) -> list[str]:
+    """The plain-text table of a blend screen (pairs or triples), one line per blend.
+
+    ``window_header`` names the column filled by ``Blend.window_text()``; ``notes_of(b)``
+    gives the notes and flags of a blend.
+    """
+    if not blends:
+        return ["No blends to show."]
+    labels = [b.label() for b in blends]
+    wl = max(len("blend (volume %)"), *(len(x) for x in labels))
+    ww = len(window_header)
+    head = (f"{'#':>3}  {'blend (volume %)':<{wl}}  {'dD':>5} {'dP':>5} {'dH':>5} "
+            f"{'RED':>5}  {window_header:<{ww}}  {'flash pt °C':<{fp_width}}  note / flags")
+    lines = [head, "-" * len(head)]
+    for k, (b, lab) in enumerate(zip(blends, labels), 1):
+        fp = " / ".join(_num(x) for x in b.flash_points)
+        lines.append(f"{k:>3}  {lab:<{wl}}  {b.dD:5.1f} {b.dP:5.1f} {b.dH:5.1f} "
+                     f"{b.red:5.2f}  {b.window_text():<{ww}}  {fp:<{fp_width}}  "
+                     + "; ".join(notes_of(b)))
+    return lines
 
 
 def _plain(x):

@@ -88,7 +88,7 @@ import numpy as np
 
 from solsphere.blend import (CAUTION, Blend, BlendScreen, _apply_filters, _as_xyz,
                              _centred, _check_radius, _component_flags, _f, _num, _pct,
-                             _plain, _top_order, pair_screen)
+                             _plain, _top_order, blend_table, pair_screen)
 from solsphere.hsp import mix, ra
 from solsphere.library import Solvent
 
@@ -682,23 +682,10 @@ class TripleScreen(BlendScreen):
         if fl:
             lines.append("Filters: " + "; ".join(fl))
         lines.append("")
-        if not self.blends:
-            lines.append("No blends to show.")
-        else:
-            labels = [b.label() for b in self.blends]
-            wl = max(len("blend (volume %)"), *(len(x) for x in labels))
-            head = (f"{'#':>3}  {'blend (volume %)':<{wl}}  {'dD':>5} {'dP':>5} {'dH':>5} "
-                    f"{'RED':>5}  {'inside area':<11}  {'flash pt °C':<15}  note / flags")
-            lines.append(head)
-            lines.append("-" * len(head))
-            for n, (b, lab) in enumerate(zip(self.blends, labels), 1):
-                fp = " / ".join(_num(x) for x in b.flash_points)
-                notes = (["all three non-solvents alone"] if b.all_non_solvents else []) + \
-                    (["fewer components are as good"] if b.best_is_single else []) + \
-                    b.flags
-                lines.append(f"{n:>3}  {lab:<{wl}}  {b.dD:5.1f} {b.dP:5.1f} {b.dH:5.1f} "
-                             f"{b.red:5.2f}  {b.window_text():<11}  {fp:<15}  "
-                             + "; ".join(notes))
+        lines += blend_table(self.blends, "inside area", 15, lambda b: (
+            (["all three non-solvents alone"] if b.all_non_solvents else [])
+            + (["fewer components are as good"] if b.best_is_single else []) + b.flags))
+        if self.blends:
             lines.append("inside area: share of all blends of the three (the whole "
                          "triangle of volume fractions) with RED <= 1")
         lines.append("")
