@@ -26,25 +26,23 @@ class _Parser(argparse.ArgumentParser):
                      f"Fix: see '{self.prog} --help'.\n")
 
 
-def _positive_int(text: str) -> int:
+def _whole(text: str, minimum: int) -> int:
     try:
         v = int(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f"expected a whole number, found {text!r}") from None
-    if v < 1:
-        raise argparse.ArgumentTypeError(f"expected a number ≥ 1, found {v}")
+    if v < minimum:
+        raise argparse.ArgumentTypeError(f"expected a number ≥ {minimum}, found {v}")
     return v
+
+
+def _positive_int(text: str) -> int:
+    return _whole(text, 1)
 
 
 def _count(text: str) -> int:
     """A whole number >= 0 (e.g. --pairs 0 lists no pairs)."""
-    try:
-        v = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, found {text!r}") from None
-    if v < 0:
-        raise argparse.ArgumentTypeError(f"expected a number ≥ 0, found {v}")
-    return v
+    return _whole(text, 0)
 
 
 def _port(text: str) -> int:

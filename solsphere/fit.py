@@ -471,7 +471,26 @@ def model_inputs(X, good=None, names=None, weights=None):
     return P, outcomes, names, w
 
 
-class SphereModel:
+class FittedSphere:
+    """What every fitted sphere model offers: ``predict`` and ``red`` from ``centre_`` and
+    ``R0_``, and the not-fitted check."""
+
+    def _check(self):
+        if not hasattr(self, "result_"):
+            raise NotFittedError(f"{type(self).__name__} is not fitted yet. Call 'fit' first.")
+
+    def predict(self, points) -> np.ndarray:
+        """True where points lie inside the sphere (Ra <= R0); shape (n,)."""
+        self._check()
+        return ra(points, self.centre_) <= self.R0_
+
+    def red(self, points) -> np.ndarray:
+        """RED = Ra / R0 of each point; shape (n,)."""
+        self._check()
+        return ra(points, self.centre_) / self.R0_
+
+
+class SphereModel(FittedSphere):
     """Hansen sphere estimator (scikit-learn style).
 
     Parameters
@@ -536,9 +555,6 @@ class SphereModel:
             warnings=notes, bounds=box.tolist(), success=ok, n_evaluations=count)
         return self
 
-    def _check(self):
-        if not hasattr(self, "result_"):
-            raise NotFittedError("SphereModel is not fitted yet. Call 'fit' first.")
 
     @property
     def center_(self) -> np.ndarray:
@@ -546,12 +562,3 @@ class SphereModel:
         self._check()
         return self.centre_
 
-    def predict(self, points) -> np.ndarray:
-        """True where points lie inside the sphere (Ra <= R0); shape (n,)."""
-        self._check()
-        return ra(points, self.centre_) <= self.R0_
-
-    def red(self, points) -> np.ndarray:
-        """RED = Ra / R0 of each point; shape (n,)."""
-        self._check()
-        return ra(points, self.centre_) / self.R0_

@@ -53,9 +53,10 @@ import numpy as np
 from scipy.optimize import minimize
 from scipy.special import expit
 
-from .errors import FitError, NotFittedError
+from .errors import FitError
 from .fit import (AXES, MIN_ADVISED, SURFACE, WORDS, _box, _edge_warnings, _outcomes,
-                  _unboundable, desirability, fit_sphere, model_inputs)
+                  FittedSphere, _unboundable, desirability, fit_sphere,
+                  model_inputs)
 from .hsp import SCALE, ra
 
 __all__ = ["GradedModel", "GradedFit", "graded_nll", "fit_theta", "start_thetas", "classes"]
@@ -285,7 +286,7 @@ class GradedFit:
         return "\n".join(out)
 
 
-class GradedModel:
+class GradedModel(FittedSphere):
     """Graded (probabilistic) Hansen sphere estimator, scikit-learn style.
 
     Parameters
@@ -393,9 +394,6 @@ class GradedModel:
             bounds=box.tolist(), success=bool(ok), n_evaluations=int(nev))
         return self
 
-    def _check(self):
-        if not hasattr(self, "result_"):
-            raise NotFittedError("GradedModel is not fitted yet. Call 'fit' first.")
 
     def p_good(self, points) -> np.ndarray:
         """P(at least partly) of each point, shape (n,)."""
@@ -410,12 +408,3 @@ class GradedModel:
 
     predict_proba = p_good
 
-    def predict(self, points) -> np.ndarray:
-        """True where points lie inside R0 (p_good >= 0.5), shape (n,)."""
-        self._check()
-        return ra(points, self.centre_) <= self.R0_
-
-    def red(self, points) -> np.ndarray:
-        """RED = Ra / R0 of each point; shape (n,)."""
-        self._check()
-        return ra(points, self.centre_) / self.R0_
