@@ -173,6 +173,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("file", metavar="FILE", nargs="?", help="project or results file to open")
     p.add_argument("--host", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
     p.add_argument("--port", type=_port, default=8050, help="port (default 8050)")
+    p.add_argument("--workers", type=_workers, default=1, metavar="N",
+                   help="worker processes (default 1); for a shared lab server use about "
+                        "one per core, e.g. 2 (needs gunicorn, Unix only)")
     return parser
 
 
@@ -442,9 +445,17 @@ def _check_share_target(path: str) -> None:
                          file=path, hint="choose another name, e.g. one ending in .html")
 
 
+def _workers(text: str) -> int:
+    """--workers: a whole number from 1 to app.server.MAX_WORKERS (64)."""
+    v = _positive_int(text)
+    if v > 64:
+        raise argparse.ArgumentTypeError(f"expected at most 64 worker processes, found {v}")
+    return v
+
+
 def cmd_app(args) -> int:
     from app.server import serve
-    serve(args.file, host=args.host, port=args.port)
+    serve(args.file, host=args.host, port=args.port, workers=args.workers)
     return 0
 
 

@@ -1,0 +1,8 @@
+"""``python -m solsphere``: the same as the ``solsphere`` command."""
+
+import sys
+
+from .cli import main
+
+if __name__ == "__main__":
+    sys.exit(main())
