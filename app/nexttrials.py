@@ -1,7 +1,7 @@
 """'Next trials' screen: the untried solvents whose results would pin the sphere down
 best (``solsphere next``), each with its reason and an 'add to the table' button, and
 the results to re-check first (the trials that move the sphere most). Computed only
-when asked: it resamples the results and refits the sphere hundreds of times."""
+when asked: it samples a thousand plausible spheres and scores every candidate."""
 
 from __future__ import annotations
 
@@ -17,18 +17,21 @@ def panel():
     """Layout of the 'Next trials' screen."""
     return html.Div(className="panel", children=[
         html.P("Bench time is scarce: these are the untried solvents whose results would "
-               "narrow down the sphere most (about half of the plausible spheres contain "
-               "them, and together they test different parts of the boundary). 'Add to "
+               "narrow down the sphere most (the first splits the plausible spheres "
+               "about in half; each next one is expected to narrow the intervals most once "
+               "the results above are in, so together they test different parts of the "
+               "boundary). 'Add to "
                "the table' puts one in the bench results with an empty outcome to fill in "
                "after the test.", className="tip"),
         html.Div(className="toolbar", children=[
             html.Button("Suggest next trials", id="next-trials-button", className="btn btn-main"),
             html.Label(["how many ", dcc.Input(id="next-trials-n", type="number", min=1, max=20,
                                                step=1, value=5, className="num")]),
-            html.Label(["resamples ", dcc.Input(id="next-trials-boot", type="number", min=20,
-                                                max=uncertainty.MAX_RESAMPLES, step=10,
-                                                value=uncertainty.DEFAULT_RESAMPLES,
-                                                className="num")]),
+            html.Label(["sampled spheres ", dcc.Input(id="next-trials-samples", type="number",
+                                                      min=uncertainty.MIN_SAMPLES,
+                                                      max=uncertainty.MAX_SAMPLES, step=100,
+                                                      value=uncertainty.DEFAULT_SAMPLES,
+                                                      className="num")]),
             html.Span(id="next-trials-running", className="running"),
         ]),
         filters("nt", with_liquids=False),
@@ -50,17 +53,17 @@ def register(app, get_library):
 
     @app.callback(Output(ids.NEXT, "data"), Input("next-trials-button", "n_clicks"),
                   State(ids.FIT, "data"), State("next-trials-n", "value"),
-                  State("next-trials-boot", "value"), State("nt-min-fp", "value"),
+                  State("next-trials-samples", "value"), State("nt-min-fp", "value"),
                   State("nt-max-bp", "value"), State("nt-no-carc", "value"),
                   State("nt-exclude", "value"), prevent_initial_call=True,
                   running=[(Output("next-trials-button", "disabled"), True, False),
                            (Output("next-trials-running", "children"),
                             "Resampling and refitting… (a few seconds)", "")])
-    def compute(n, result, how_many, n_boot, min_fp, max_bp, no_carc, exclude):
+    def compute(n, result, how_many, n_samples, min_fp, max_bp, no_carc, exclude):
         if not n:
             raise PreventUpdate
         return uncertainty.next_trials(result, get_library(), n=int(how_many or 5),
-                                       n_resamples=n_boot, min_flash_point=min_fp,
+                                       n_samples=n_samples, min_flash_point=min_fp,
                                        max_boiling_point=max_bp,
                                        no_carcinogens=bool(no_carc), exclude=exclude)
 

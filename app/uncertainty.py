@@ -26,6 +26,8 @@ MAX_RESAMPLES = 2000
 SEED = 0
 #: Digits kept for the resampled centres and radii stored in the browser (MPa½).
 DIGITS = 4
+#: Posterior samples behind the next-trial suggestions: default, least, most.
+DEFAULT_SAMPLES, MIN_SAMPLES, MAX_SAMPLES = 1000, 200, 4000
 METHODS = {"classic": "classic (the sphere shown)", "graded": "graded (smooth boundary)"}
 
 
@@ -153,7 +155,7 @@ def bootstrap_of(store: dict | None, fit: dict | None):
 
 # ----------------------------------------------------------------------------- next trials
 
-def next_trials(result: dict | None, library, n: int = 5, n_resamples=DEFAULT_RESAMPLES,
+def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMPLES,
                 min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
                 exclude: str | None = None, seed: int = SEED) -> dict:
     """Suggestions (``solsphere next``) and the results to re-check (influence).
@@ -182,9 +184,9 @@ def next_trials(result: dict | None, library, n: int = 5, n_resamples=DEFAULT_RE
                                  min_flash_point=_num(min_flash_point),
                                  max_boiling_point=_num(max_boiling_point),
                                  exclude_carcinogens=bool(no_carcinogens))
-        nb = max(20, min(MAX_RESAMPLES, int(_num(n_resamples) or DEFAULT_RESAMPLES)))
-        sug = nexttrial.suggest_next(X, outcomes, pool, int(n), n_bootstrap=nb, seed=seed,
-                                     partial=partial, names=names, bounds=fit.get("bounds"))
+        ns = max(MIN_SAMPLES, min(MAX_SAMPLES, int(_num(n_samples) or DEFAULT_SAMPLES)))
+        sug = nexttrial.suggest_next(X, outcomes, pool, int(n), n_samples=ns, seed=seed,
+                                     partial=partial, names=names)
         infl = confidence.influence(X, outcomes, partial=partial, names=names,
                                     bounds=fit.get("bounds"))
     except (SolsphereError, ValueError) as exc:
@@ -198,7 +200,8 @@ def next_trials(result: dict | None, library, n: int = 5, n_resamples=DEFAULT_RE
                          bp_text=_fmt(s.get("boiling_point"), "{:.0f}"),
                          twa_text=_fmt(s.get("twa_ppm"), "{:.3g}")))
     msg = (f"{len(rows)} of {d['n_candidates']} untried library liquids, chosen with "
-           f"{d['n_bootstrap']} resampled spheres of the graded fit (seed {d['seed']}).")
+           f"{d['n_samples']} spheres sampled from the graded fit's posterior (seed "
+           f"{d['seed']}).")
     return {"key": key, "suggestions": rows, "recheck": recheck_rows(infl.to_dict()),
             "message": msg, "warnings": list(d.get("warnings") or []) + list(infl.warnings),
             "caution": nexttrial.CAUTION, "elapsed": time.perf_counter() - t0}

@@ -115,6 +115,9 @@ def build_parser() -> argparse.ArgumentParser:
     _add_input(p)
     p.add_argument("--save", metavar="PROJECT.json", help="save trials, settings and fit (atomic)")
     _add_bootstrap(p, "report 95 %% intervals of the centre and R0")
+    p.add_argument("--posterior", type=_positive_int, metavar="N", default=None,
+                   help="sample N plausible spheres (e.g. 2000) from the graded model's "
+                        "posterior and report their 95 %% credible intervals")
     p.add_argument("--spheres", type=int, choices=(1, 2), default=1,
                    help="2: also try two spheres (good if inside either) and say whether "
                         "the second earns its keep")
@@ -132,7 +135,11 @@ def build_parser() -> argparse.ArgumentParser:
     _add_input(p)
     _add_pool(p)
     p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
-    _add_bootstrap(p, "measure the disagreement among resampled spheres (default 200)")
+    p.add_argument("--samples", type=_positive_int, metavar="N", default=1000,
+                   help="plausible spheres sampled from the posterior to score the "
+                        "candidates (default 1000)")
+    _add_bootstrap(p, "score the candidates by the disagreement among the resampled "
+                      "spheres instead of the posterior samples")
 
     p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
     _add_input(p)
@@ -291,6 +298,13 @@ def cmd_fit(args) -> int:
         obj["n_bootstrap"] = boot.n_bootstrap
         obj["bootstrap"] = boot.to_dict()
         text += "\n" + str(boot)
+    if args.posterior:
+        from .posterior import sample_posterior
+        post = sample_posterior(project.trials, n_samples=args.posterior, seed=args.seed,
+                                partial=fit.partial if fit.partial != "ordinal" else "good",
+                                bounds=fit.bounds)
+        obj["posterior"] = post.to_dict()
+        text += "\n" + str(post)
     if not args.no_influence:
         from .confidence import influence
         # leave-one-out refits rank the list; the flipped-result refits (the app shows
@@ -338,8 +352,9 @@ def cmd_next(args) -> int:
     pool, filters = candidate_pool(args, lib, project)
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
     sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
-                        seed=args.seed, partial=fit.partial if fit.partial != "ordinal"
-                        else "good", progress=_progress(args, "resampling"))
+                        n_samples=args.samples, seed=args.seed,
+                        partial=fit.partial if fit.partial != "ordinal" else "good",
+                        progress=_progress(args, "resampling"))
     obj = dict(sugg.to_dict(), filters=filters)
     _emit(args, obj, str(sugg))
     return 0

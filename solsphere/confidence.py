@@ -75,7 +75,7 @@ from .errors import FitError
 from .fit import AXES, EDGE, MIN_ADVISED, _box, _outcomes, desirability, fit_sphere
 from .hsp import as_points, ra
 
-__all__ = ["Bootstrap", "Influence", "bootstrap", "influence", "resample_counts",
+__all__ = ["Bootstrap", "SampledSpheres", "Influence", "bootstrap", "influence", "resample_counts",
            "WARM_SEARCH", "binary_data"]
 
 #: Search settings of a warm-started refit (the full fit: n_global=2048, n_starts=8,
@@ -265,8 +265,58 @@ def _run_refits(X, box, W, G, seeds, search, n_jobs=None, progress: Progress | N
 
 
 # ----------------------------------------------------------------------------- bootstrap
+class SampledSpheres:
+    """Shared by results that carry a cloud of plausible spheres (``centres`` (k, 3),
+    ``radii`` (k,)): the bootstrap's resampled spheres, the posterior's samples."""
+
+    centres: np.ndarray | None
+    radii: np.ndarray | None
+
+    @property
+    def has_samples(self) -> bool:
+        return self.centres is not None and self.radii is not None
+
+    def p_good(self, points) -> np.ndarray:
+        """Share of sampled spheres containing each point (Ra <= R0), shape (m,).
+
+        Parameters
+        ----------
+        points : array-like of shape (m, 3)
+            Solvent coordinates [MPa½].
+        """
+        if not self.has_samples:
+            raise ValueError("this bootstrap result was saved without its resampled "
+                             "spheres; run the bootstrap again to get p_good")
+        P = as_points(points)
+        if len(P) == 0:
+            return np.zeros(0)
+        out = np.empty(len(P))
+        step = max(1, 2_000_000 // max(1, len(self.radii)))
+        for a in range(0, len(P), step):
+            d = ra(P[None, a:a + step, :], self.centres[:, None, :])
+            out[a:a + step] = np.mean(d <= self.radii[:, None], axis=0)
+        return out
+
+    def inside(self, points) -> np.ndarray:
+        """Bool matrix (k, m): sampled sphere i contains point j."""
+        if not self.has_samples:
+            raise ValueError("no sampled spheres in this result")
+        P = as_points(points)
+        return ra(P[None, :, :], self.centres[:, None, :]) <= self.radii[:, None]
+
+
+def percentile_intervals(samples, keys, level: float):
+    """Percentile intervals at ``level`` and standard deviations of the columns of
+    ``samples`` (k, len(keys)): two dicts keyed by ``keys``."""
+    q = [100 * (1 - level) / 2, 100 * (1 + level) / 2]
+    lo, hi = np.percentile(samples, q, axis=0)
+    intervals = {k: [float(a), float(b)] for k, a, b in zip(keys, lo, hi)}
+    sd = {k: float(x) for k, x in zip(keys, samples.std(axis=0, ddof=1))}
+    return intervals, sd
+
+
 @dataclass
-class Bootstrap:
+class Bootstrap(SampledSpheres):
     """Result of :func:`bootstrap` (units MPa½).
 
     Attributes
@@ -317,38 +367,6 @@ class Bootstrap:
     warnings: list = field(default_factory=list)
     n_workers: int = 1
     elapsed: float = 0.0
-
-    @property
-    def has_samples(self) -> bool:
-        return self.centres is not None and self.radii is not None
-
-    def p_good(self, points) -> np.ndarray:
-        """Share of resampled spheres containing each point (Ra <= R0), shape (m,).
-
-        Parameters
-        ----------
-        points : array-like of shape (m, 3)
-            Solvent coordinates [MPa½].
-        """
-        if not self.has_samples:
-            raise ValueError("this bootstrap result was saved without its resampled "
-                             "spheres; run the bootstrap again to get p_good")
-        P = as_points(points)
-        if len(P) == 0:
-            return np.zeros(0)
-        out = np.empty(len(P))
-        step = max(1, 2_000_000 // max(1, len(self.radii)))
-        for a in range(0, len(P), step):
-            d = ra(P[None, a:a + step, :], self.centres[:, None, :])
-            out[a:a + step] = np.mean(d <= self.radii[:, None], axis=0)
-        return out
-
-    def inside(self, points) -> np.ndarray:
-        """Bool matrix (n_bootstrap, m): resampled sphere k contains point j."""
-        if not self.has_samples:
-            raise ValueError("no resampled spheres in this result")
-        P = as_points(points)
-        return ra(P[None, :, :], self.centres[:, None, :]) <= self.radii[:, None]
 
     def to_dict(self, samples: bool = False) -> dict:
         """JSON-safe plain types. ``samples=True`` adds ``centres``, ``radii``,
@@ -547,12 +565,9 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
             ("graded", "warm"): "graded", ("graded", "full"): "graded_full"}[method, refit]
     cost = REFIT_COST_S[kind] * (len(X) / 40.0)
     C, R, D, E, used = _run_refits(X, box, W, G, seeds, search, n_jobs, progress, cost)
-    q = [100 * (1 - level) / 2, 100 * (1 + level) / 2]
     keys = _INTERVAL_KEYS + (("width",) if method == "graded" else ())
     samples = np.column_stack([C, R] + ([E] if method == "graded" else []))
-    lo, hi = np.percentile(samples, q, axis=0)
-    intervals = {k: [float(a), float(b)] for k, a, b in zip(keys, lo, hi)}
-    sd = {k: float(s) for k, s in zip(keys, samples.std(axis=0, ddof=1))}
+    intervals, sd = percentile_intervals(samples, keys, level)
     trial_p = np.mean(ra(X[None, :, :], C[:, None, :]) <= R[:, None], axis=0)
     notes = _warnings(C, g, box, n_bootstrap, method)
     return Bootstrap(intervals=intervals, sd=sd, level=level, n_bootstrap=n_bootstrap,
@@ -579,11 +594,18 @@ def _warnings(C, g, box, n_bootstrap, method="classic") -> list[str]:
     if n_bootstrap < MIN_RESAMPLES:
         out.append(f"Only {n_bootstrap} resamples: the interval ends are rough (at least "
                    f"{MIN_RESAMPLES} are advised).")
+    return out + edge_notes(C, box, "resamples")
+
+
+def edge_notes(C, box, what: str) -> list[str]:
+    """Warnings for axes on which more than 5 % of the sampled centres ``C`` (k, 3) sit
+    at the edge of the search ``box`` (the interval is cut off there)."""
+    out = []
     for j, a in enumerate(AXES):
         lo, hi = box[j]
         at = np.mean((C[:, j] - lo <= EDGE) | (hi - C[:, j] <= EDGE))
         if hi - lo > 2 * EDGE and at > 0.05:
-            out.append(f"In {100 * at:.0f} % of the resamples the centre's {a} sits at the "
+            out.append(f"In {100 * at:.0f} % of the {what} the centre's {a} sits at the "
                        f"edge of the tested region ({lo:.1f} to {hi:.1f}): the {a} interval "
                        f"is cut off there; test solvents beyond it.")
     return out

@@ -1,46 +1,53 @@
 r"""Which solvents to test next: the results that would pin the sphere down best.
 
-The resampled spheres of a bootstrap (:mod:`solsphere.confidence`) stand for the spheres
-the bench results cannot yet tell apart. An untried solvent that half of them contain
-(``p_good`` near 0.5) splits them in two whatever its result; one that all of them
-contain (or none) teaches nothing new. For a *set* of suggestions the question is how
-finely their results, taken together, split the resampled spheres: two neighbouring
-solvents split them the same way, so the second adds little.
+The plausible spheres, those the bench results cannot yet tell apart, come from the
+posterior of the graded model (:mod:`solsphere.posterior`, the default) or from a
+bootstrap (:mod:`solsphere.confidence`). Sphere k gives candidate j a probability
+:math:`L_{kj}` = P(good | sphere k) (the graded sigmoid; 0 or 1 for the hard spheres of a
+bootstrap). A candidate is worth testing when the spheres *disagree* about it, not when
+each of them is unsure: the score is the expected information its result gives about
+which sphere is right, the mutual information [1]_ [2]_
 
-The picks are made greedily [1]_. Each resampled sphere k predicts a yes/no pattern on
-the solvents picked so far; the spheres fall into groups with equal patterns. A
-candidate j is scored by the expected information its result adds to the picks above,
-the conditional entropy
+.. math:: I_j = H\!\left(\bar L_j\right) - \overline{H(L_{kj})}, \qquad
+          H(p) = -p \ln p - (1 - p) \ln (1 - p)
 
-.. math:: \Delta H_j = H(\text{patterns of picks} + j) - H(\text{patterns of picks}),
-          \qquad H = -\sum_g \frac{n_g}{N} \ln \frac{n_g}{N}
+(means over the spheres; in nats, at most ln 2 = 0.693 for one yes/no result). A
+candidate on every sphere's soft boundary (all :math:`L_{kj}` near 0.5) scores little: a
+result there is a coin toss whichever sphere is right. With hard spheres the second
+term is 0 and :math:`I_j` is the entropy of ``p_good``.
 
-over the N resampled spheres (in nats; at most ln 2 = 0.693 for one yes/no result).
-For the first pick this is the binary entropy of ``p_good``; later picks that split the
-spheres the same way as an earlier pick score nearly 0, which is the spread term: the
-suggestions are not all neighbours. Ties (within 1e-9) go to the candidate farther, in
-Hansen distance, from the picks above. When the resampled spheres agree on every
-remaining candidate, the rest are the candidates nearest the fitted surface
-(``|RED - 1|`` smallest), each at least R0 / 2 from the picks above where possible.
+Several suggestions are picked greedily, each *given the results of the picks above*:
+the spheres are reweighted by the likelihood of every combination of those results
+(branches), and :math:`I_j` is averaged over the branches, weighted by their
+probability (the conditional mutual information). A neighbour of an earlier pick tells
+little once that pick's result is known: this is the spread term, so the suggestions are
+not all neighbours. With hard spheres this is exactly the conditional entropy of the
+patterns of results. Up to ``MAX_BRANCHES`` = 64 branches are followed (the heaviest),
+enough for 7 picks exactly. Ties (within 1e-9) go to the candidate farther, in Hansen
+distance, from the picks above. When the spheres agree on every remaining candidate,
+the rest are the candidates nearest the fitted surface (``|RED - 1|`` smallest), each at
+least R0 / 2 from the picks above where possible.
 
-By default the resampled spheres are those of the graded fit (``method="graded"``). The
-classic fit's resampled spheres run small (its R0 is the smallest consistent radius and
-resamples mostly shrink it), so suggestions made from them cluster inside the true
-boundary: in ``tests/perf/bench_next.py`` (20 invented campaigns, 12 + 10 trials) the
-classic engine left the final centre error unchanged against random trials (2.82 vs
-2.68 MPa½) while the graded engine cut it from 2.59 to 0.81 MPa½ and raised the share
-of all liquids classified right from 0.93 to 0.97.
+Does it help? ``tests/perf/bench_next.py`` simulates 20 invented bench campaigns (12
+random trials, then 10 more by these suggestions or at random) and compares the final
+95 % intervals and centre errors; its numbers are in the closing notes. The candidate
+box matters: by default the plausible spheres may lie anywhere in the box spanned by the
+tested solvents and the candidates (not only the tested ones), so that the suggestions
+can look beyond what has been tested.
 
 Safety filters (flash point, exposure limit, carcinogens, liquids only ...) are the
 caller's: pass an already filtered candidate list (:meth:`Library.select`). Every
-suggestion carries its flash point and hazard flags. A ``p_good`` is a share of
-resampled spheres, not a guarantee of the bench result.
+suggestion carries its flash point and hazard flags. A ``p_good`` is a share of plausible
+spheres, not a guarantee of the bench result.
 
 References
 ----------
 .. [1] D. J. C. MacKay, "Information-based objective functions for active data
    selection", Neural Computation 4(4), 590-604, 1992 (choosing the measurement of
    largest expected information gain).
+.. [2] N. Houlsby, F. Huszár, Z. Ghahramani, M. Lengyel, "Bayesian active learning for
+   classification and preference learning", arXiv:1112.5745, 2011 (the disagreement
+   form of the information gain for a classifier).
 """
 
 from __future__ import annotations
@@ -48,9 +55,11 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
+from scipy.special import expit
 
 from . import confidence
-from .confidence import Bootstrap, binary_data
+from .confidence import binary_data
+from .fit import _box
 from .hsp import ra
 from .library import hazard_flags, normalise
 
@@ -60,7 +69,7 @@ CAUTION = ("Suggestions are for learning about the material, not predictions of 
            "a p_good is the share of plausible spheres that contain the solvent. Read each "
            "safety data sheet and work with ventilation and protection before testing.")
 _TIE = 1e-9
-_LN2 = float(np.log(2.0))
+_SOURCE = {"posterior": "sampled spheres (posterior)", "bootstrap": "resampled spheres"}
 
 
 @dataclass
@@ -95,16 +104,19 @@ class Suggestions:
 
     suggestions: list
     n_candidates: int
-    n_bootstrap: int
+    n_samples: int
     seed: int | None
     centre: list
     R0: float
     warnings: list = field(default_factory=list)
+    uncertainty: str = "posterior"
+    intervals: dict = field(default_factory=dict)
 
     def to_dict(self) -> dict:
         """JSON-safe (the ``solsphere next --json`` object)."""
         return {"suggestions": [s.to_dict() for s in self.suggestions],
-                "n_candidates": self.n_candidates, "n_bootstrap": self.n_bootstrap,
+                "n_candidates": self.n_candidates, "n_samples": self.n_samples,
+                "uncertainty": self.uncertainty, "intervals": dict(self.intervals),
                 "seed": self.seed, "centre": list(self.centre), "R0": self.R0,
                 "warnings": list(self.warnings), "caution": CAUTION}
 
@@ -114,7 +126,7 @@ class Suggestions:
 
     def __str__(self) -> str:
         out = [f"Next trials ({len(self.suggestions)} of {self.n_candidates} untried "
-               f"candidates; from {self.n_bootstrap} resampled spheres)"]
+               f"candidates; from {self.n_samples} {_SOURCE[self.uncertainty]})"]
         for i, s in enumerate(self.suggestions, 1):
             fp = "—" if s.flash_point is None else f"{s.flash_point:.0f} °C"
             out.append(f"{i}. {s.name} ({s.dD:.1f}, {s.dP:.1f}, {s.dH:.1f}); p_good "
@@ -127,28 +139,25 @@ class Suggestions:
         return "\n".join(out)
 
 
-def _entropy_gain(groups: np.ndarray, n_groups: int, inside: np.ndarray) -> np.ndarray:
-    """Conditional entropy (nats) of each column of ``inside`` (N, m) given the groups."""
-    N = len(groups)
-    onehot = np.zeros((n_groups, N))
-    onehot[groups, np.arange(N)] = 1.0
-    n1 = onehot @ inside  # (G, m): spheres of group g containing candidate j
-    n0 = onehot.sum(axis=1, keepdims=True) - n1
-
-    def xlogx(a):
-        return np.where(a > 0, a * np.log(np.where(a > 0, a, 1.0)), 0.0)
-
-    n = n0 + n1
-    return (xlogx(n) - xlogx(n0) - xlogx(n1)).sum(axis=0) / N
+def _h(p):
+    """Binary entropy in nats (0 at p = 0 and 1)."""
+    p = np.clip(p, 1e-12, 1.0 - 1e-12)
+    return -(p * np.log(p) + (1.0 - p) * np.log1p(-p))
 
 
-def select_informative(inside, n: int, points=None, red=None, R0: float = 1.0):
-    """Greedy picks of the columns of ``inside`` that split its rows most finely.
+#: Result branches followed when later picks are scored (the heaviest; with more the
+#: expectation over the results of the earlier picks is approximate).
+MAX_BRANCHES = 64
+
+
+def select_informative(likelihood, n: int, points=None, red=None, R0: float = 1.0):
+    r"""Greedy picks of the candidates whose results tell most about the sphere.
 
     Parameters
     ----------
-    inside : array-like of bool, shape (N, m)
-        Resampled sphere k contains candidate j.
+    likelihood : array-like of shape (N, m), bool or float
+        P(good at candidate j | sampled sphere k): 0/1 for hard spheres (``inside``),
+        a probability for graded ones.
     n : int
         Number of picks.
     points : array-like of shape (m, 3), default=None
@@ -160,7 +169,13 @@ def select_informative(inside, n: int, points=None, red=None, R0: float = 1.0):
 
     Returns
     -------
-    picks : list of int, gains : list of float (nats; None for fallback picks)
+    picks : list of int
+    gains : list of float
+        Expected information of each pick given the results of the picks above [nats;
+        at most ln 2]; None for fallback picks.
+    alone : list of float
+        The same for each pick as if it were the first (compare with ``gains``: the part
+        of what a pick tells that the picks above already tell).
 
     Examples
     --------
@@ -168,16 +183,22 @@ def select_informative(inside, n: int, points=None, red=None, R0: float = 1.0):
     >>> select_informative(inside, 2)[0]  # column 1 repeats column 0; 2 splits anew
     [0, 2]
     """
-    A = np.asarray(inside, dtype=float)
-    N, m = A.shape
+    L = np.asarray(likelihood, dtype=float)
+    N, m = L.shape
     n = min(int(n), m)
     P = None if points is None else np.asarray(points, dtype=float).reshape(m, 3)
-    groups = np.zeros(N, dtype=np.int64)
+    hL = _h(L)
     free = np.ones(m, dtype=bool)
     picks, gains = [], []
+    branches = [np.ones(N)]
+    first = None
     while len(picks) < n:
-        k = int(groups.max()) + 1
-        gain = _entropy_gain(groups, k, A)
+        gain = np.zeros(m)
+        for b in branches:
+            W = b.sum()
+            gain += (W / N) * (_h((b @ L) / W) - (b @ hL) / W)
+        if first is None:
+            first = gain.copy()
         gain[~free] = -np.inf
         best = gain.max()
         if not best > _TIE:
@@ -190,26 +211,37 @@ def select_informative(inside, n: int, points=None, red=None, R0: float = 1.0):
         picks.append(j)
         gains.append(float(gain[j]))
         free[j] = False
-        _, groups = np.unique(groups * 2 + A[:, j].astype(np.int64), return_inverse=True)
-        groups = groups.reshape(-1)
+        branches = [b * x for b in branches for x in (L[:, j], 1.0 - L[:, j])]
+        branches = [b for b in branches if b.sum() > 1e-9 * N]
+        if len(branches) > MAX_BRANCHES:
+            branches = sorted(branches, key=lambda b: -b.sum())[:MAX_BRANCHES]
+    alone = [float(first[j]) for j in picks]
     if len(picks) < n:  # every sphere agrees on the rest: nearest the surface, spaced out
-        rest = np.flatnonzero(free)
-        order = rest[np.argsort(np.abs(np.asarray(red, dtype=float)[rest] - 1.0),
-                                kind="stable")] if red is not None else rest
-        spaced, close = [], []
-        for j in order:
-            near = (P is not None and (picks or spaced) and
-                    ra(P[picks + spaced], P[j]).min() < 0.5 * R0)
-            (close if near else spaced).append(int(j))
-            if len(picks) + len(spaced) >= n:
-                break
-        extra = (spaced + close)[:n - len(picks)]
+        extra = _near_surface(free, n - len(picks), picks, P, red, R0)
         picks += extra
         gains += [None] * len(extra)
-    return picks, gains
+        alone += [None] * len(extra)
+    return picks, gains, alone
 
 
-def _reason(p: float, gain: float | None, k: int, red: float) -> str:
+def _near_surface(free, k: int, picks: list, P, red, R0: float) -> list:
+    """``k`` of the ``free`` candidates nearest the fitted surface (``|RED - 1|``
+    smallest), each at least R0 / 2 from the ``picks`` and from each other where
+    possible."""
+    rest = np.flatnonzero(free)
+    order = rest[np.argsort(np.abs(np.asarray(red, dtype=float)[rest] - 1.0),
+                            kind="stable")] if red is not None else rest
+    spaced, close = [], []
+    for j in order:
+        near = (P is not None and (picks or spaced) and
+                ra(P[picks + spaced], P[j]).min() < 0.5 * R0)
+        (close if near else spaced).append(int(j))
+        if len(spaced) >= k:
+            break
+    return (spaced + close)[:k]
+
+
+def _reason(p: float, gain: float | None, alone: float | None, k: int, red: float) -> str:
     if gain is None:
         return (f"the likely spheres all agree on the remaining candidates; this one is "
                 f"among the nearest to the boundary (RED {red:.2f}), where a surprise "
@@ -224,8 +256,7 @@ def _reason(p: float, gain: float | None, k: int, red: float) -> str:
         what = (f"most likely spheres contain it (p = {p:.2f}), but not all: a 'does not' "
                 f"would pull the boundary in")
     if k > 0:
-        own = -(p * np.log(p) + (1 - p) * np.log(1 - p)) if 0 < p < 1 else 0.0
-        if own > 0 and gain < 0.75 * own:
+        if alone and gain < 0.75 * alone:
             what += ("; part of what it would tell overlaps the picks above, but it is the "
                      "best of the rest")
         else:
@@ -234,7 +265,8 @@ def _reason(p: float, gain: float | None, k: int, red: float) -> str:
 
 
 def suggest_next(data, good=None, candidates=(), n: int = 5, *,
-                 bootstrap: Bootstrap | None = None, n_bootstrap: int = 200,
+                 uncertainty: str = "posterior", bootstrap=None,
+                 n_samples: int = 1000, n_bootstrap: int = 200,
                  seed: int | None = 0, method: str = "graded", partial: str = "good",
                  names=None, bounds=None,
                  exclude_tested: bool = True, n_jobs: int | None = None,
@@ -252,36 +284,46 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
         ``load_library().select(liquid_only=True, min_flash_point=23)``).
     n : int, default=5
         Number of suggestions.
-    bootstrap : Bootstrap, default=None
-        A bootstrap of the same results (with its resampled spheres); computed with
-        ``n_bootstrap`` and ``seed`` when None.
+    uncertainty : {"posterior", "bootstrap"}, default="posterior"
+        Where the plausible spheres come from: the graded model's posterior
+        (:func:`solsphere.posterior.sample_posterior`; each sphere's graded P(good) is
+        its likelihood) or a bootstrap (:func:`solsphere.confidence.bootstrap` of fit
+        ``method``; hard spheres). Ignored when ``bootstrap`` is given: its kind decides.
+    bootstrap : Bootstrap or Posterior, default=None
+        Sampled spheres of the same results, already computed (with their samples).
+    n_samples : int, default=1000
+        Posterior samples computed here.
     n_bootstrap : int, default=200
+        Resamples of a bootstrap computed here.
     seed : int or None, default=0
     method : {"graded", "classic"}, default="graded"
-        Fit behind the bootstrap computed here (ignored when ``bootstrap`` is given).
+        Fit behind a bootstrap computed here.
     partial : {"good", "bad", "skip"}, default="good"
     names : list of str, default=None
         Trial names (with arrays): candidates with these names are "tested".
     bounds : array-like of shape (3, 2), default=None
+        Box for the centre. Default: the box spanned by the tested solvents *and the
+        candidates*, so that the plausible spheres may lie wherever a candidate could
+        test them (the fits' own default, the tested solvents' box, would hide the
+        uncertainty beyond what has been tested).
     exclude_tested : bool, default=True
         Leave out candidates already tested (same name or CAS number, after
         normalisation, or the same coordinates within 1e-6 MPa½).
     n_jobs : int or None, default=None
+        Worker processes of a bootstrap computed here.
     progress : callable(done, total) or None
-        Passed to the bootstrap when it is computed here.
+        Passed to a bootstrap computed here.
 
     Returns
     -------
     Suggestions
     """
-    X, g, tnames, box = binary_data(data, good, partial, names, bounds)
-    b = bootstrap
-    if b is None:
-        b = confidence.bootstrap(X, g, n_bootstrap, seed=seed, method=method, names=tnames,
-                                 bounds=box, n_jobs=n_jobs, progress=progress)
-    elif not b.has_samples:
-        raise ValueError("bootstrap has no resampled spheres (saved without "
-                         "samples); pass one computed in this session or leave it None")
+    from .posterior import Posterior, sample_posterior
+
+    if uncertainty not in ("posterior", "bootstrap"):
+        raise ValueError(f"uncertainty must be 'posterior' or 'bootstrap'; found "
+                         f"{uncertainty!r}")
+    X, g, tnames, _ = binary_data(data, good, partial, names, bounds)
     tested_keys = {normalise(s) for s in tnames}
     if hasattr(data, "trials"):
         tested_keys |= {normalise(t.cas) for t in data.trials if getattr(t, "cas", None)}
@@ -293,27 +335,47 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
             if len(X) and ra(X, s.point).min() <= 1e-6:
                 continue
         pool.append(s)
+    P = np.array([s.point for s in pool], dtype=float).reshape(-1, 3)
+    all_points = data.points if hasattr(data, "points") else X
+    box = _box(bounds, np.vstack([all_points, P]))
+    b = bootstrap
+    if b is None and uncertainty == "posterior":
+        b = sample_posterior(X, g, n_samples, seed=seed, names=tnames, bounds=box)
+    elif b is None:
+        b = confidence.bootstrap(X, g, n_bootstrap, seed=seed, method=method, names=tnames,
+                                 bounds=box, n_jobs=n_jobs, progress=progress)
+    elif not b.has_samples:
+        raise ValueError("bootstrap has no resampled spheres (saved without "
+                         "samples); pass one computed in this session or leave it None")
+    kind = "posterior" if isinstance(b, Posterior) else "bootstrap"
     notes = list(b.warnings)
+    meta = dict(uncertainty=kind, intervals={k: list(v) for k, v in b.intervals.items()})
     if not pool:
         notes.append("No untried candidates are left (after the filters and the solvents "
                      "already tested).")
-        return Suggestions([], 0, b.n_bootstrap, b.seed, b.centre.tolist(), b.R0, notes)
-    P = np.array([s.point for s in pool], dtype=float)
+        return Suggestions([], 0, len(b.radii), b.seed, b.centre.tolist(), b.R0, notes,
+                           **meta)
     inside = b.inside(P)
     p = inside.mean(axis=0)
     red = ra(P, b.centre) / b.R0
-    picks, gains = select_informative(inside, n, P, red, b.R0)
+    if kind == "posterior":
+        lik = expit((b.radii[:, None] - ra(P[None, :, :], b.centres[:, None, :]))
+                    / b.widths[:, None])
+    else:
+        lik = inside
+    picks, gains, alone = select_informative(lik, n, P, red, b.R0)
     out = []
-    for k, (j, gain) in enumerate(zip(picks, gains)):
+    for k, (j, gain, a) in enumerate(zip(picks, gains, alone)):
         s = pool[j]
         out.append(Suggestion(
             name=s.name, cas=s.cas, dD=float(s.dD), dP=float(s.dP), dH=float(s.dH),
             p_good=float(p[j]), red=float(red[j]), gain=0.0 if gain is None else gain,
-            reason=_reason(float(p[j]), gain, k, float(red[j])),
+            reason=_reason(float(p[j]), gain, a, k, float(red[j])),
             flash_point=s.flash_point, boiling_point=s.boiling_point, twa_ppm=s.twa_ppm,
             flags=hazard_flags(s)))
     if gains and all(x is None for x in gains):
-        notes.append("The resampled spheres agree on every candidate: the sphere is as well "
+        notes.append("The sampled spheres agree on every candidate: the sphere is as well "
                      "pinned down as these candidates can show; suggestions are the "
                      "nearest to the boundary.")
-    return Suggestions(out, len(pool), b.n_bootstrap, b.seed, b.centre.tolist(), b.R0, notes)
+    return Suggestions(out, len(pool), len(b.radii), b.seed, b.centre.tolist(), b.R0, notes,
+                       **meta)

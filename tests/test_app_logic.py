@@ -530,11 +530,11 @@ def test_an_edit_makes_the_intervals_stale_not_wrong(demo, demo_result, boot, li
 def test_next_trials_are_the_library_suggestions_and_recheck_the_influence(demo_result, lib):
     from solsphere import confidence, nexttrial
     from solsphere.session import candidate_pool
-    out = uncertainty.next_trials(demo_result, lib, n=3, n_resamples=40, min_flash_point=23)
+    out = uncertainty.next_trials(demo_result, lib, n=3, n_samples=400, min_flash_point=23)
     fit = demo_result["fit"]
     trials = _demo_trials(lib)  # the CLI's path: `solsphere next` on the demo file
     pool, _ = candidate_pool(lib, min_flash_point=23.0)
-    ref = nexttrial.suggest_next(trials, candidates=pool, n=3, n_bootstrap=40,
+    ref = nexttrial.suggest_next(trials, candidates=pool, n=3, n_samples=400,
                                  seed=uncertainty.SEED, partial="good", n_jobs=1)
     assert [s["name"] for s in out["suggestions"]] == ref.names
     assert [s["p_good"] for s in out["suggestions"]] == \

@@ -546,6 +546,10 @@ CLI_REFUSED = [
     ("method-unknown", ["fit", "{bench}", "--method", "best"], "<command line>", None,
      ["invalid choice"]),
     ("next-n-zero", ["next", "{bench}", "--n", "0"], "<command line>", None, ["--n"]),
+    ("posterior-zero", ["fit", "{bench}", "--posterior", "0"], "<command line>", None,
+     ["--posterior"]),
+    ("next-samples-negative", ["next", "{bench}", "--samples", "-5"], "<command line>", None,
+     ["--samples"]),
 ]
 
 

@@ -11,6 +11,7 @@ import threading
 
 import numpy as np
 import pytest
+from scipy.special import expit
 
 from solsphere.confidence import (WARM_SEARCH, Bootstrap, binary_data, bootstrap,
                                   influence, resample_counts)
@@ -38,7 +39,7 @@ def synthetic(seed, n=40, noise=0.3):
     R0 = rng.uniform(5, 8)
     lo, hi = np.maximum(c - [3.5, 11, 11], 0), c + [3.5, 11, 11]
     X = rng.uniform(lo, hi, (n, 3))
-    good = rng.random(n) < 1 / (1 + np.exp((ra(X, c) - R0) / noise))
+    good = rng.random(n) < expit((R0 - ra(X, c)) / noise)
     return X, good, c, R0
 
 

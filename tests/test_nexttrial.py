@@ -27,14 +27,15 @@ def entropy_of_patterns(rows) -> float:
 def test_gains_are_conditional_entropies():
     rng = np.random.default_rng(0)
     A = rng.random((200, 12)) < rng.uniform(0.1, 0.9, 12)
-    picks, gains = select_informative(A, 4)
+    picks, gains, alone = select_informative(A, 4)
+    assert alone[0] == gains[0]
     for k in range(len(picks)):
         before = entropy_of_patterns(A[:, picks[:k]]) if k else 0.0
         after = entropy_of_patterns(A[:, picks[:k + 1]])
-        assert gains[k] == pytest.approx(after - before, abs=1e-12)
+        assert gains[k] == pytest.approx(after - before, abs=1e-9)  # p clipped at 1e-12
         # and it is the best available at that step
         for j in set(range(12)) - set(picks[:k + 1]):
-            assert entropy_of_patterns(A[:, picks[:k] + [j]]) - before <= gains[k] + 1e-12
+            assert entropy_of_patterns(A[:, picks[:k] + [j]]) - before <= gains[k] + 1e-9
 
 
 def test_neighbours_are_not_picked_twice():
@@ -46,15 +47,31 @@ def test_neighbours_are_not_picked_twice():
     A = np.column_stack([base, base, base, base, other, rng.random(100) < 0.3])
     # Naive ranking by p(1 - p) would take three copies first; ours takes one copy and
     # then the independent split.
-    picks, _ = select_informative(A, 2)
+    picks, _, alone = select_informative(A, 2)
     assert picks[0] in (0, 1, 2, 3) and picks[1] == 4
+
+
+def test_disagreement_beats_a_coin_toss():
+    # Soft spheres: on candidate 0 every sphere says P(good) = 0.5 (a coin toss whichever
+    # sphere is right: nothing to learn); on candidate 1 half the spheres say 0.95 and
+    # half 0.05 (they disagree). Its expected information, by hand: H(0.5) - H(0.05)
+    # = 0.6931 - 0.1985 = 0.4946 nats; candidate 0's is 0.
+    L = np.column_stack([np.full(100, 0.5), np.repeat([0.95, 0.05], 50)])
+    picks, gains, _ = select_informative(L, 1)
+    assert picks == [1]
+    h = lambda p: -(p * np.log(p) + (1 - p) * np.log(1 - p))  # noqa: E731
+    assert gains[0] == pytest.approx(h(0.5) - h(0.05), abs=1e-9)
+    # Given candidate 1's result, a second copy of it tells less than the first did.
+    L2 = np.column_stack([L[:, 1], L[:, 1]])
+    _, g2, alone = select_informative(L2, 2)
+    assert g2[1] < 0.5 * alone[1]
 
 
 def test_all_agree_falls_back_to_the_boundary():
     A = np.zeros((50, 4), dtype=bool)
     P = np.array([[18, 5, 5], [18, 5.2, 5], [10, 30, 30], [18, 12, 5]], float)
     red = np.array([1.05, 1.06, 3.0, 1.2])
-    picks, gains = select_informative(A, 3, P, red, R0=4.0)
+    picks, gains, _ = select_informative(A, 3, P, red, R0=4.0)
     # Nearest the surface first; the near-copy of it (0.2 MPa½ away) is held back
     # behind candidates at least R0/2 away.
     assert picks == [0, 3, 2] and gains == [None] * 3
