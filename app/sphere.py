@@ -32,15 +32,15 @@ def panel(partial: str):
         html.Div(className="sure-bar", children=[
             html.Button("How sure? Compute the 95 % intervals", id="boot-button",
                         className="btn"),
-            html.Label(["resamples ", dcc.Input(id="boot-n", type="number", min=20,
-                                                max=uncertainty.MAX_RESAMPLES, step=10,
-                                                value=uncertainty.DEFAULT_RESAMPLES,
-                                                className="num")]),
+            html.Label(["spheres ", dcc.Input(id="boot-n", type="number", min=20,
+                                              max=uncertainty.MAX_RESAMPLES, step=10,
+                                              value=uncertainty.DEFAULT_RESAMPLES,
+                                              className="num")]),
             dcc.RadioItems(id="boot-method", value="classic", inline=True, className="radio",
                            options=[{"label": v, "value": k}
                                     for k, v in uncertainty.METHODS.items()]),
             dcc.Checklist(id="show-cloud", value=["on"], inline=True, className="radio",
-                          options=[{"label": "resampled centres on the map", "value": "on"}]),
+                          options=[{"label": "their centres on the map", "value": "on"}]),
             html.Span(id="boot-running", className="running"),
         ]),
         html.Div(id="boot-status", className="boot-status"),
@@ -106,7 +106,7 @@ def register(app, get_library):
                   prevent_initial_call=True,
                   running=[(Output("boot-button", "disabled"), True, False),
                            (Output("boot-running", "children"),
-                            "Resampling the results and refitting… (a few seconds)", "")])
+                            "Computing the plausible spheres… (a few seconds)", "")])
     def run_bootstrap(n, result, n_resamples, method):
         """Its own callback, run only on the button: the refit on every edit stays fast."""
         if not n or not (result or {}).get("fit"):

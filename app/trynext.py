@@ -144,9 +144,9 @@ def register(app, get_library):
 def p_note(boot: dict) -> str:
     """What the p_good column means, for the bootstrap it comes from."""
     d = boot["boot"]
-    return (f"p_good: the share of {d['n_bootstrap']} resampled spheres ({d['fit_method']} "
-            f"fit) that contain the solvent; a guide to how likely it is to dissolve the "
-            f"material, not a guarantee.")
+    return (f"p_good: the share of {uncertainty.samples_text(d)} that contain the "
+            f"solvent; a guide to how likely it is to dissolve the material, not a "
+            f"guarantee.")
 
 
 def detail(r: dict):

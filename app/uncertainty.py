@@ -28,7 +28,8 @@ SEED = 0
 DIGITS = 4
 #: Posterior samples behind the next-trial suggestions: default, least, most.
 DEFAULT_SAMPLES, MIN_SAMPLES, MAX_SAMPLES = 1000, 200, 4000
-METHODS = {"classic": "classic (the sphere shown)", "graded": "graded (smooth boundary)"}
+METHODS = {"classic": "classic (the sphere shown)", "graded": "graded (smooth boundary)",
+           "posterior": "posterior (every sphere the results allow)"}
 
 
 def trials_key(fit: dict | None) -> str | None:
@@ -80,10 +81,16 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
         n = DEFAULT_RESAMPLES
     n = max(20, min(MAX_RESAMPLES, n))
     X, outcomes, names = _data(fit)
+    partial = fit.get("partial") or "good"
     try:
-        b = confidence.bootstrap(X, outcomes, n, seed=seed, method=method,
-                                 partial=fit.get("partial") or "good", names=names,
-                                 bounds=fit.get("bounds"))
+        if method == "posterior":
+            from solsphere.posterior import sample_posterior
+            b = sample_posterior(X, outcomes, max(n, MIN_SAMPLES), seed=seed,
+                                 partial=partial if partial != "ordinal" else "good",
+                                 names=names, bounds=fit.get("bounds"))
+        else:
+            b = confidence.bootstrap(X, outcomes, n, seed=seed, method=method,
+                                     partial=partial, names=names, bounds=fit.get("bounds"))
     except (FitError, ValueError) as exc:
         return {"key": trials_key(fit), "error": f"No intervals: {exc}"}
     d = b.to_dict(samples=True)
@@ -124,9 +131,12 @@ def interval_texts(store: dict | None, fit: dict | None) -> dict | None:
            "R0": f"{pct} interval: {span('R0')}",
            "about": (f"From {d['n_bootstrap']} resamples of the results ({d['fit_method']} "
                      f"fit, seed {d['seed']}, {store.get('elapsed', 0):.1f} s); percentile "
-                     f"intervals."),
+                     f"intervals." if d["fit_method"] != "posterior" else
+                     f"From {d['n_samples']} spheres sampled in proportion to how well they "
+                     f"explain the results (posterior of the graded model, seed {d['seed']}, "
+                     f"{store.get('elapsed', 0):.1f} s); credible intervals."),
            "warnings": list(d.get("warnings") or [])}
-    if d["fit_method"] == "graded":
+    if d["fit_method"] in ("graded", "posterior"):
         out["about"] += (f" The graded fit's own centre is δD {d['dD']:.1f}, δP "
                          f"{d['dP']:.1f}, δH {d['dH']:.1f}, R0 {d['R0']:.1f} MPa½; the "
                          f"intervals belong to it.")
@@ -147,10 +157,19 @@ def bootstrap_of(store: dict | None, fit: dict | None):
     """The stored bootstrap as a :class:`solsphere.confidence.Bootstrap` (with its
     resampled spheres), or None when there is none for these results."""
     from solsphere.confidence import Bootstrap
+    from solsphere.posterior import Posterior
     st = current(store, fit)
     if not st or st.get("error"):
         return None
-    return Bootstrap.from_dict(st["boot"])
+    kind = Posterior if st["boot"].get("fit_method") == "posterior" else Bootstrap
+    return kind.from_dict(st["boot"])
+
+
+def samples_text(d: dict) -> str:
+    """'200 resampled spheres (classic fit)' or '1000 sampled spheres (posterior)'."""
+    if d.get("fit_method") == "posterior":
+        return f"{d['n_samples']} sampled spheres (posterior of the graded model)"
+    return f"{d['n_bootstrap']} resampled spheres ({d['fit_method']} fit)"
 
 
 # ----------------------------------------------------------------------------- next trials

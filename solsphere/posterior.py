@@ -194,6 +194,30 @@ class Posterior(SampledSpheres):
             d["widths"] = self.widths.tolist()
         return d
 
+    @classmethod
+    def from_dict(cls, d: dict) -> "Posterior":
+        """Inverse of :meth:`to_dict` (p_good needs a dict saved with ``samples=True``)."""
+        if not all(k in d for k in ("centres", "radii", "widths")):
+            raise ValueError("this posterior was saved without its samples; sample again")
+        trials = d.get("trials", [])
+        return cls(intervals={k: [float(a), float(b)] for k, (a, b) in d["intervals"].items()},
+                   sd={k: float(v) for k, v in d["sd"].items()}, level=float(d["level"]),
+                   n_samples=int(d["n_samples"]), seed=d.get("seed"),
+                   centre=np.array([d["dD"], d["dP"], d["dH"]], dtype=float),
+                   R0=float(d["R0"]), width=float(d["width"]),
+                   desirability=float(d["desirability"]),
+                   centres=np.asarray(d["centres"], dtype=float).reshape(-1, 3),
+                   radii=np.asarray(d["radii"], dtype=float).reshape(-1),
+                   widths=np.asarray(d["widths"], dtype=float).reshape(-1),
+                   names=[t["name"] for t in trials],
+                   good=[t["counted_as"] == "good" for t in trials],
+                   trial_p_good=[float(t["p_good"]) for t in trials],
+                   n_good=int(d["n_good"]), n_bad=int(d["n_bad"]),
+                   partial=str(d.get("partial", "good")),
+                   bounds=[list(map(float, b)) for b in d["bounds"]],
+                   acceptance=float(d["acceptance"]), n_walkers=int(d["n_walkers"]),
+                   n_steps=int(d["n_steps"]), warnings=list(d.get("warnings", [])))
+
     def __str__(self) -> str:
         out = ["[[Posterior]]",
                f"    samples    = {self.n_samples} spheres ({self.n_walkers} walkers, "

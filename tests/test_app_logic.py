@@ -512,6 +512,28 @@ def test_bootstrap_in_the_app_is_the_library_bootstrap_of_the_trials(demo, demo_
     assert all(r["p_good"] is None for r in logic.shortlist(demo_result, lib, top=3)["rows"])
 
 
+def test_posterior_intervals_in_the_app_are_the_library_posterior(demo_result, lib):
+    """'How sure?' with the posterior: the library's samples of the same trials."""
+    from app import trynext
+    from solsphere.posterior import Posterior, sample_posterior
+    fit = demo_result["fit"]
+    store = uncertainty.run_bootstrap(demo_result, 300, "posterior")
+    ref = sample_posterior(_demo_trials(lib), n_samples=300, seed=uncertainty.SEED, partial="good",
+                           bounds=fit["bounds"])
+    d = store["boot"]
+    assert d["fit_method"] == "posterior" and d["n_samples"] == 300
+    for k in ("dD", "dP", "dH", "R0"):
+        assert d["intervals"][k] == pytest.approx(ref.intervals[k], abs=1e-9)
+    iv = uncertainty.interval_texts(store, fit)
+    assert "300 spheres sampled" in iv["about"] and "credible" in iv["about"]
+    post = uncertainty.bootstrap_of(store, fit)
+    assert isinstance(post, Posterior) and len(post.radii) == 300
+    assert "300 sampled spheres (posterior" in trynext.p_note(store)
+    rows = logic.shortlist(demo_result, lib, top=5, bootstrap=post)["rows"]
+    p = ref.p_good([[r["dD"], r["dP"], r["dH"]] for r in rows])
+    assert [r["p_good"] for r in rows] == pytest.approx(p, abs=0.03)  # stored centres rounded
+
+
 def test_an_edit_makes_the_intervals_stale_not_wrong(demo, demo_result, boot, lib):
     rows = [dict(r) for r in demo["rows"]]
     rows[0]["outcome"] = "does not" if rows[0]["outcome"] != "does not" else "dissolves"
