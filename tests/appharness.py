@@ -101,6 +101,22 @@ def verdict(result: dict, own: int, expected: list[dict]) -> str:
 # ----------------------------------------------------------------------------- HTTP client
 
 
+def update_body(dep: dict, values: dict, changed: str) -> dict:
+    """The JSON body of ``/_dash-update-component`` for callback ``dep`` (an entry of
+    ``/_dash-dependencies``), with ``values`` ({"id.property": value}) for its inputs and
+    states, as the browser sends it."""
+    def props(items):
+        return [{"id": i["id"], "property": i["property"],
+                 "value": values.get(f"{i['id']}.{i['property']}")} for i in items]
+
+    parts = [dict(zip(("id", "property"), part.rsplit(".", 1)))
+             for part in dep["output"].strip(".").split("...")]
+    return {"output": dep["output"],
+            "outputs": parts if dep["output"].startswith("..") else parts[0],
+            "inputs": props(dep["inputs"]), "state": props(dep.get("state", [])),
+            "changedPropIds": [changed]}
+
+
 class Client:
     """Builds callback requests from the app's own callback map, as the browser does."""
 
@@ -123,16 +139,7 @@ class Client:
     def update(self, dep: dict, values: dict, changed: str) -> dict:
         """Run callback ``dep`` with ``values`` ({"id.property": value}) for its inputs
         and states; the ``response`` part of the answer."""
-        def props(items):
-            return [{"id": i["id"], "property": i["property"],
-                     "value": values.get(f"{i['id']}.{i['property']}")} for i in items]
-
-        parts = [dict(zip(("id", "property"), part.rsplit(".", 1)))
-                 for part in dep["output"].strip(".").split("...")]
-        body = {"output": dep["output"],
-                "outputs": parts if dep["output"].startswith("..") else parts[0],
-                "inputs": props(dep["inputs"]), "state": props(dep.get("state", [])),
-                "changedPropIds": [changed]}
+        body = update_body(dep, values, changed)
         req = urllib.request.Request(self.base + "_dash-update-component",
                                      data=json.dumps(body).encode(),
                                      headers={"Content-Type": "application/json"})

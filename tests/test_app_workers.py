@@ -16,11 +16,9 @@ Every project here is invented (``appharness.make_projects``).
 from __future__ import annotations
 
 import ast
-import contextlib
 import copy
 import http.client
 import importlib
-import io
 import socket
 import subprocess
 import sys
@@ -28,7 +26,9 @@ from pathlib import Path
 
 import pytest
 
+import appharness
 from appharness import ROOT, Client, ServedApp, expected_fit, make_projects, verdict
+from clirun import run_cli
 from solsphere import cli
 from solsphere.library import load_library
 
@@ -59,14 +59,7 @@ def _group_members(pgid: int) -> list[int]:
     return out
 
 
-def run(argv) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-        try:
-            rc = cli.main([str(a) for a in argv])
-        except SystemExit as exc:
-            rc = exc.code if isinstance(exc.code, int) else 2
-    return rc, out.getvalue(), err.getvalue()
+run = run_cli
 
 
 # ----------------------------------------------------------------------------- served for real
@@ -289,15 +282,7 @@ def test_callbacks_leave_module_state_alone(lib, projects):
     deps = http.get("/_dash-dependencies").get_json()
 
     def call(dep, values, changed):
-        def props(items):
-            return [{"id": i["id"], "property": i["property"],
-                     "value": values.get(f"{i['id']}.{i['property']}")} for i in items]
-        parts = [dict(zip(("id", "property"), p.rsplit(".", 1)))
-                 for p in dep["output"].strip(".").split("...")]
-        body = {"output": dep["output"],
-                "outputs": parts if dep["output"].startswith("..") else parts[0],
-                "inputs": props(dep["inputs"]), "state": props(dep.get("state", [])),
-                "changedPropIds": [changed]}
+        body = appharness.update_body(dep, values, changed)
         r = http.post("/_dash-update-component", data=json.dumps(body),
                       content_type="application/json")
         assert r.status_code in (200, 204), r.status_code

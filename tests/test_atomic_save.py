@@ -18,8 +18,6 @@ from __future__ import annotations
 
 import ast
 import base64
-import contextlib
-import io
 import json
 import os
 import random
@@ -32,7 +30,8 @@ from pathlib import Path
 
 import pytest
 
-from solsphere import cli, fileio, project as P, trials as T
+from clirun import run_cli
+from solsphere import fileio, project as P, trials as T
 from solsphere.library import load_library
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -177,14 +176,7 @@ def test_every_write_in_the_package_and_the_app_is_atomic_or_private():
 # ------------------------------------------------------------------ 2. the seam
 
 
-def run(argv) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-        try:
-            rc = cli.main([str(a) for a in argv])
-        except SystemExit as exc:
-            rc = exc.code if isinstance(exc.code, int) else 2
-    return rc, out.getvalue(), err.getvalue()
+run = run_cli
 
 
 BENCH = ("solvent,outcome\ntoluene,good\nacetone,good\nethyl acetate,good\nethanol,bad\n"

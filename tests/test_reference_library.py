@@ -13,7 +13,6 @@ Sources (each check names its own):
 
 from __future__ import annotations
 
-import csv
 import math
 import re
 import subprocess

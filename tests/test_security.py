@@ -15,7 +15,6 @@
 from __future__ import annotations
 
 import base64
-import contextlib
 import html
 import inspect
 import io
@@ -26,6 +25,7 @@ from pathlib import Path
 
 import pytest
 
+from clirun import run_cli
 from solsphere import cli
 from solsphere.library import load_library
 
@@ -36,14 +36,7 @@ EVIL_NOTE = "<img src=x onerror=alert(2)>"
 EVIL_TITLE = "<b onmouseover=alert(3)>binder</b>"
 
 
-def run(argv) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
-        try:
-            rc = cli.main([str(a) for a in argv])
-        except SystemExit as exc:
-            rc = exc.code if isinstance(exc.code, int) else 2
-    return rc, out.getvalue(), err.getvalue()
+run = run_cli
 
 
 # ------------------------------------------------------------------ loopback by default

@@ -1,6 +1,5 @@
 """Substitution: closest replacements in Hansen space and for a material."""
 
-import numpy as np
 import pytest
 
 from solsphere import hsp
