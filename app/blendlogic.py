@@ -62,7 +62,7 @@ def parse_fraction_limits(text: str | None, names, library, what: str) -> dict[s
     return out
 
 
-def _pool(library, pool_choice, shelf, ticked, restricted, kw):
+def _pool(library, pool_choice, shelf, ticked, restricted, kw, common_only: bool = False):
     """(pool, where) for the chosen pool under the constraints ``kw``."""
     from solsphere.library import Library
     from solsphere.session import candidate_pool
@@ -99,8 +99,9 @@ def _pool(library, pool_choice, shelf, ticked, restricted, kw):
             raise InputError("fewer than two ticked solvents pass the constraints.",
                              file="<blends>", hint="relax the constraints or tick more")
         return pool, f"{len(picked)} ticked solvents"
-    pool, _ = with_restricted(lambda r: candidate_pool(library, restricted=r, **kw))
-    return pool, "library liquids"
+    pool, filters = with_restricted(lambda r: candidate_pool(
+        library, restricted=r, pool="common" if common_only else "liquids", **kw))
+    return pool, filters["pool"]
 
 
 # ----------------------------------------------------------------------------- blends
@@ -111,7 +112,8 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
                    min_exposure_limit=None, no_carcinogens: bool = False,
                    restricted: dict | None = None, components: int = 2,
                    max_fraction: str | None = None, min_fraction: str | None = None,
-                   temperature=None, rank_by: str = "red", top: int = 15) -> dict:
+                   temperature=None, rank_by: str = "red", top: int = 15,
+                   common_only: bool = False) -> dict:
     """Top blends of two or three solvents for the fitted sphere (``solsphere blend``
     with its constraints, ``--drying`` always on).
 
@@ -120,6 +122,9 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
     pool_choice : {"library", "shelf", "ticked"}
         All library liquids, the uploaded shelf file (``shelf`` = {"filename",
         "contents"}), or the ticked library solvents (``ticked`` = names).
+    common_only : bool, default=False
+        With ``pool_choice="library"``: only the curated common solvents
+        (``solsphere blend --pool common``); a shelf or ticked solvents ignore it.
     restricted : dict or None
         An uploaded list of restricted solvents ({"filename", "contents"}), left out.
     components : {2, 3}
@@ -152,7 +157,8 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
                   min_boiling_point=_num(min_boiling_point),
                   min_exposure_limit=_num(min_exposure_limit),
                   exclude_carcinogens=bool(no_carcinogens))
-        pool, where = _pool(library, pool_choice, shelf, ticked, restricted, kw)
+        pool, where = _pool(library, pool_choice, shelf, ticked, restricted, kw,
+                            common_only=common_only)
         if rank_by == "cost" and not any(s.price is not None for s in pool):
             raise InputError("ranking by cost needs prices.", file="<blends>")
         T = _num(temperature)

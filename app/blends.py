@@ -11,7 +11,7 @@ from dash.exceptions import PreventUpdate
 from . import blendlogic, ids, logic
 from .bench import CHECK_UPLOAD_JS
 from .share import caution_line
-from .trynext import table
+from .trynext import common_checkbox, table
 
 COLUMNS = [("rank", "#"), ("label", "blend (volume %)"), ("red_text", "RED"),
            ("window_text", "inside for"), ("fp_text", "flash pt °C"),
@@ -100,6 +100,7 @@ def panel(library):
                            options=[{"label": "all library liquids", "value": "library"},
                                     {"label": "my shelf (file)", "value": "shelf"},
                                     {"label": "solvents I tick", "value": "ticked"}]),
+            html.Span(id="blend-common-box", children=common_checkbox("blend", on=False)),
         ]),
         html.Div(id="shelf-box", className="pool-box", children=[
             dcc.Upload(id="shelf-upload", max_size=-1, accept=".csv,.tsv,.txt",
@@ -133,12 +134,12 @@ def register(app, get_library):
                             State("restricted-upload", "filename"))
 
     @app.callback(Output("shelf-box", "style"), Output("ticked-box", "style"),
-                  Output("share-limits", "style"),
+                  Output("share-limits", "style"), Output("blend-common-box", "style"),
                   Input("blend-pool", "value"), Input("blend-components", "value"))
     def show_pool(pool, components):
         hide, show = {"display": "none"}, {}
         return ((show if pool == "shelf" else hide), (show if pool == "ticked" else hide),
-                (show if components == 3 else hide))
+                (show if components == 3 else hide), (show if pool == "library" else hide))
 
     @app.callback(Output("shelf-name", "children"), Input(ids.SHELF_PAYLOAD, "data"),
                   prevent_initial_call=True)
@@ -182,9 +183,11 @@ def register(app, get_library):
                   Input(ids.RESTRICTED_PAYLOAD, "data"), Input("blend-components", "value"),
                   Input("blend-max-frac", "value"), Input("blend-min-frac", "value"),
                   Input("blend-temperature", "value"), Input("blend-rank", "value"),
-                  Input("blend-top", "value"), prevent_initial_call="initial_duplicate")
+                  Input("blend-top", "value"), Input("blend-common", "value"),
+                  prevent_initial_call="initial_duplicate")
     def update(result, tab, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
-               exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top):
+               exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top,
+               common):
         if result is None or tab != "blends":
             raise PreventUpdate  # computed only while the screen is shown
         if pool == "shelf" and shelf and shelf.get("too_big"):
@@ -196,7 +199,8 @@ def register(app, get_library):
             min_boiling_point=min_bp, min_exposure_limit=min_twa,
             no_carcinogens=bool(no_carc), restricted=restricted,
             components=int(components or 2), max_fraction=max_frac, min_fraction=min_frac,
-            temperature=temperature, rank_by=rank_by or "red", top=int(top or 15))
+            temperature=temperature, rank_by=rank_by or "red", top=int(top or 15),
+            common_only=bool(common))
         return (out["blends"], out["message"], out["caution"], None, None,
                 columns(out["has_price"]), [html.Li(n) for n in out["notes"]])
 

@@ -465,11 +465,13 @@ def split_names(text: str | None) -> list[str]:
 
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
-              exclude: str | None = None, top: int = 30, bootstrap=None) -> dict:
+              exclude: str | None = None, top: int = 30, bootstrap=None,
+              common_only: bool = False) -> dict:
     """Untried solvents nearest the sphere, with their safety facts.
 
     ``bootstrap`` (a :class:`solsphere.confidence.Bootstrap` of the same results) adds
-    each solvent's ``p_good`` (and ``p_text``).
+    each solvent's ``p_good`` (and ``p_text``). ``common_only`` limits the candidates to
+    the curated common solvents (:meth:`solsphere.library.Library.common`).
 
     Returns
     -------
@@ -496,8 +498,9 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                                        min_flash_point=_num(min_flash_point),
                                        max_boiling_point=_num(max_boiling_point),
                                        exclude_carcinogens=bool(no_carcinogens),
-                                       liquid_only=bool(liquids_only))
-        if not liquids_only:
+                                       liquid_only=bool(liquids_only),
+                                       pool="common" if common_only else "liquids")
+        if not liquids_only and not common_only:
             filters["pool"] = "all library solvents"
     except SolsphereError as exc:
         return {"rows": [], "message": str(exc), "caution": CAUTION}
@@ -515,8 +518,7 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                          spread_text=_fmt(s.get("spread"), "{:.1f}"),
                          p_text=_fmt(s.get("p_good"), "{:.2f}"),
                          flags_text="; ".join(s.get("flags") or [])))
-    msg = (f"{len(rows)} nearest of {d['n_candidates']} untried candidates "
-           f"({'library liquids' if liquids_only else 'all library solvents'}).")
+    msg = f"{len(rows)} nearest of {d['n_candidates']} untried candidates ({filters['pool']})."
     return {"rows": rows, "message": msg, "caution": CAUTION}
 
 

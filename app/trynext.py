@@ -53,9 +53,22 @@ def table(table_id: str, columns, page_size: int = 15):
         )
 
 
-def filters(prefix: str, with_liquids: bool = True):
-    """The safety filters shared by 'Try next' and 'Blends'."""
-    parts = []
+def common_checkbox(prefix: str, on: bool = False):
+    """'common solvents only' (id ``{prefix}-common``): the curated list of solvents in
+    common use instead of every library liquid (reagents included)."""
+    return dcc.Checklist(id=f"{prefix}-common", value=["on"] if on else [], inline=True,
+                         className="radio",
+                         options=[{"label": "common solvents only (no reagents)",
+                                   "value": "on"}])
+
+
+def filters(prefix: str, with_liquids: bool = True, common: bool | None = None):
+    """The safety filters shared by 'Try next', 'Next trials' and 'Replace'.
+
+    ``common``: show the 'common solvents only' checkbox, ticked (True) or not (False);
+    None leaves it out.
+    """
+    parts = [] if common is None else [common_checkbox(prefix, on=common)]
     if with_liquids:
         parts.append(dcc.Checklist(id=f"{prefix}-liquids", value=["on"], inline=True,
                                    className="radio",
@@ -87,7 +100,7 @@ def panel():
                "is predicted inside the sphere). Click a row to put it on the map.",
                className="tip"),
         html.P(id="next-p-note", className="tip"),
-        filters("next"),
+        filters("next", common=False),
         caution_line("next-caution"),
         html.Div(id="next-message", className="message"),
         table("shortlist", COLUMNS),
@@ -109,15 +122,16 @@ def register(app, get_library):
                   Input("next-liquids", "value"), Input("next-min-fp", "value"),
                   Input("next-max-bp", "value"), Input("next-no-carc", "value"),
                   Input("next-exclude", "value"), Input("next-top", "value"),
-                  Input(ids.BOOT, "data"), prevent_initial_call="initial_duplicate")
-    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot):
+                  Input(ids.BOOT, "data"), Input("next-common", "value"),
+                  prevent_initial_call="initial_duplicate")
+    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot, common):
         if result is None or tab != "next":
             raise PreventUpdate  # computed only while the screen is shown
         b = uncertainty.bootstrap_of(boot, result.get("fit"))
         out = logic.shortlist(result, get_library(), liquids_only=bool(liquids),
                               min_flash_point=min_fp, max_boiling_point=max_bp,
                               no_carcinogens=bool(no_carc), exclude=exclude,
-                              top=int(top or 30), bootstrap=b)
+                              top=int(top or 30), bootstrap=b, common_only=bool(common))
         with_p = b is not None
         note = (p_note(boot) if with_p else
                 "Press 'How sure?' beside the map for a p_good column (the share of "

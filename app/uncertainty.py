@@ -176,8 +176,11 @@ def samples_text(d: dict) -> str:
 
 def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMPLES,
                 min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
-                exclude: str | None = None, seed: int = SEED) -> dict:
+                exclude: str | None = None, seed: int = SEED, pool: str = "common") -> dict:
     """Suggestions (``solsphere next``) and the results to re-check (influence).
+
+    ``pool``: "common" (the curated common solvents, as ``solsphere next``) or
+    "liquids" (every library liquid).
 
     Returns
     -------
@@ -199,10 +202,10 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
     partial = fit.get("partial") or "good"
     key = trials_key(fit)
     try:
-        pool, _ = candidate_pool(library, exclude=split_names(exclude),
+        pool, filters = candidate_pool(library, exclude=split_names(exclude),
                                  min_flash_point=_num(min_flash_point),
                                  max_boiling_point=_num(max_boiling_point),
-                                 exclude_carcinogens=bool(no_carcinogens))
+                                 exclude_carcinogens=bool(no_carcinogens), pool=pool)
         ns = max(MIN_SAMPLES, min(MAX_SAMPLES, int(_num(n_samples) or DEFAULT_SAMPLES)))
         sug = nexttrial.suggest_next(X, outcomes, pool, int(n), n_samples=ns, seed=seed,
                                      partial=partial, names=names)
@@ -218,7 +221,7 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
                          fp_text=_fmt(s.get("flash_point"), "{:.0f}"),
                          bp_text=_fmt(s.get("boiling_point"), "{:.0f}"),
                          twa_text=_fmt(s.get("twa_ppm"), "{:.3g}")))
-    msg = (f"{len(rows)} of {d['n_candidates']} untried library liquids, chosen with "
+    msg = (f"{len(rows)} of {d['n_candidates']} untried {filters['pool']}, chosen with "
            f"{d['n_samples']} spheres sampled from the graded fit's posterior (seed "
            f"{d['seed']}).")
     return {"key": key, "suggestions": rows, "recheck": recheck_rows(infl.to_dict()),

@@ -79,10 +79,15 @@ def _add_bootstrap(p, what: str):
                    help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
-def _add_pool(p):
+def _add_pool(p, pool: str = "liquids"):
     p.add_argument("--candidates", metavar="SHELF",
                    help="CSV of the solvents you have (column 'solvent', optional dD,dP,dH); "
-                        "default: every library liquid")
+                        "overrides --pool")
+    p.add_argument("--pool", choices=("common", "liquids"), default=pool,
+                   help="candidates without a shelf: 'common' = our curated list of about "
+                        "150 solvents in common industrial and lab use (no reagents; "
+                        "data/common_solvents.csv); 'liquids' = every liquid in the library "
+                        f"(reagents included). Default: {pool}")
     p.add_argument("--top", type=_positive_int, default=20, help="how many to list (default 20)")
     p.add_argument("--exclude", action="append", default=[], metavar="NAMES",
                    help="leave these solvents out (comma-separated; repeatable)")
@@ -133,7 +138,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
     _add_input(p)
-    _add_pool(p)
+    _add_pool(p, pool="common")  # a test campaign uses solvents on a shelf, not reagents
     p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
     p.add_argument("--samples", type=_positive_int, metavar="N", default=1000,
                    help="plausible spheres sampled from the posterior to score the "
@@ -221,7 +226,7 @@ def candidate_pool(args, lib, project, *, limits: bool = True):
                                  exclude_carcinogens=args.no_carcinogens,
                                  min_boiling_point=args.min_boiling_point,
                                  min_exposure_limit=args.min_exposure_limit,
-                                 restricted=args.restricted)
+                                 restricted=args.restricted, pool=args.pool)
     except UnknownSolventError as exc:
         if exc.file is None:  # a name given to --exclude
             exc.file, exc.column = "<command line>", "--exclude"
@@ -342,7 +347,7 @@ def cmd_rank(args) -> int:
     ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
                             include_tested=args.include_tested, filters=filters,
                             temperature_C=_temperature(args), bootstrap=boot)
-    _emit(args, ranking.to_dict(), str(ranking))
+    _emit(args, ranking.to_dict(), str(ranking) + "\n" + _pool_line(filters))
     return 0
 
 
@@ -356,8 +361,15 @@ def cmd_next(args) -> int:
                         partial=fit.partial if fit.partial != "ordinal" else "good",
                         progress=_progress(args, "resampling"))
     obj = dict(sugg.to_dict(), filters=filters)
-    _emit(args, obj, str(sugg))
+    _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
     return 0
+
+
+def _pool_line(filters: dict) -> str:
+    """Which candidates were used, for the human output."""
+    other = {"common solvents": " (--pool liquids: every library liquid)",
+             "library liquids": " (--pool common: the curated common solvents)"}
+    return f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
 
 
 def _temperature(args) -> float:

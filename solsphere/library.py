@@ -9,6 +9,7 @@ CONTRACT (fixed; other modules code against it).
   CAS and trade abbreviations; raises ``UnknownSolventError`` with up to 3 suggestions.
   ``find(text)`` -> Solvent or None (no exception). ``suggest(text, n=3)`` -> list[str].
   ``liquids()`` -> Library of the compounds liquid at 25 °C.
+  ``common()`` -> Library of the curated common solvents (:mod:`solsphere.common`).
   ``select(...)`` -> Library filtered (liquid_only, min_flash_point, max_boiling_point,
   exclude_carcinogens, exclude=[names]).
   ``len(lib)``, iteration over records, ``lib[i]``.
@@ -289,6 +290,18 @@ class Library:
     def liquids(self) -> "Library":
         """The compounds known to be liquid at 25 °C (``liquid is True``)."""
         return self._subset(i for i, r in enumerate(self.records) if r.liquid is True)
+
+    def common(self) -> "Library":
+        """The compounds on the curated list of common solvents (order kept).
+
+        The list (``common_solvents.csv``, see :mod:`solsphere.common`) is our own
+        selection of solvents in common industrial and laboratory use, matched by CAS
+        number; it leaves out reagents, monomers and intermediates. Being on it says
+        nothing about safety.
+        """
+        from .common import common_cas
+        keep = common_cas()
+        return self._subset(i for i, r in enumerate(self.records) if r.cas in keep)
 
     def select(self, liquid_only: bool = False, min_flash_point: float | None = None,
                max_boiling_point: float | None = None, exclude_carcinogens: bool = False,

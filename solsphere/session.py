@@ -56,14 +56,15 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
 def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_point=None,
                    max_boiling_point=None, exclude_carcinogens: bool = False,
                    min_boiling_point=None, min_exposure_limit=None, restricted: str | None = None,
-                   liquid_only: bool | None = None):
-    """The solvents to rank or blend: the library's liquids or a user's shelf, filtered.
+                   liquid_only: bool | None = None, pool: str = "liquids"):
+    """The solvents to rank or blend: the library's liquids, the curated common solvents
+    or a user's shelf, filtered.
 
     Parameters
     ----------
     library : Library
     shelf : str or None
-        A shelf file (the user's solvents); None means every library liquid.
+        A shelf file (the user's solvents); None means the library, per ``pool``.
     exclude : iterable of str
         Names, CAS numbers or abbreviations to leave out.
     min_flash_point, max_boiling_point, min_boiling_point : float or None
@@ -81,6 +82,10 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         A file listing restricted solvents (column ``solvent``), all left out.
     liquid_only : bool or None
         Keep only liquids at 25 °C; None means yes for the library, no for a shelf.
+    pool : {"liquids", "common"}, default="liquids"
+        Without a shelf: every compound of the library (its liquids, with
+        ``liquid_only``), or only those on the curated list of common solvents
+        (:meth:`Library.common`; reagents left out). A shelf overrides it.
 
     Returns
     -------
@@ -88,16 +93,21 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     filters : dict
         What was applied, for the record.
     """
+    from .common import POOLS
     from .library import Library
     from .shelf import read_shelf
-    filters = {"pool": shelf or "library liquids", "exclude": list(exclude),
+    if pool not in POOLS:
+        raise ValueError(f"pool must be one of {', '.join(map(repr, POOLS))}; found {pool!r}")
+    common = pool == "common" and not shelf
+    filters = {"pool": shelf or ("common solvents" if common else "library liquids"),
+               "exclude": list(exclude),
                "min_flash_point": min_flash_point, "max_boiling_point": max_boiling_point,
                "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
                "exclude_carcinogens": exclude_carcinogens, "restricted": restricted}
     if shelf:
         base = Library.from_records(read_shelf(shelf, library))
     else:
-        base = library
+        base = library.common() if common else library
     if liquid_only is None:
         liquid_only = not shelf
     # a shelf's own solvents by their shelf names; everything else through the full
@@ -120,7 +130,8 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
                          f"({_describe(filters)}).", file=shelf,
                          hint="relax --min-flash-point / --max-boiling-point / "
                               "--min-boiling-point / --min-exposure-limit / --exclude / "
-                              "--restricted, or add solvents to the shelf")
+                              "--restricted, or add solvents to the shelf"
+                              + (" (or use --pool liquids)" if common else ""))
     return list(pool), filters
 
 

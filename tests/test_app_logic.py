@@ -555,7 +555,7 @@ def test_next_trials_are_the_library_suggestions_and_recheck_the_influence(demo_
     out = uncertainty.next_trials(demo_result, lib, n=3, n_samples=400, min_flash_point=23)
     fit = demo_result["fit"]
     trials = _demo_trials(lib)  # the CLI's path: `solsphere next` on the demo file
-    pool, _ = candidate_pool(lib, min_flash_point=23.0)
+    pool, _ = candidate_pool(lib, min_flash_point=23.0, pool="common")  # as `next` does
     ref = nexttrial.suggest_next(trials, candidates=pool, n=3, n_samples=400,
                                  seed=uncertainty.SEED, partial="good", n_jobs=1)
     assert [s["name"] for s in out["suggestions"]] == ref.names
