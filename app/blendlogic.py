@@ -18,8 +18,8 @@ from solsphere.errors import InputError, SolsphereError
 from .logic import _fmt, _num, _with_temp_file, decode_upload, fit_key, split_names
 
 #: Three-solvent blends are screened over at most this many candidates (the nearest to
-#: the sphere centre): 100 give 161,700 triples, screened in about 0.1 s here; the 688
-#: library liquids would give 54 million.
+#: the sphere centre): 100 give 161,700 triples, screened in about 0.1 s here; the 761
+#: library liquids would give 73 million.
 #: With ranking by cost or drying, the blends nearest the centre looked at (then the
 #: inside ones are re-ranked), as ``solsphere blend --rank-by`` does.
 RERANK_POOL = 500

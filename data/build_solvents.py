@@ -230,6 +230,20 @@ def identity(cas: str):
 
 
 # --------------------------------------------------------------------------- properties
+#: Joback melting-point estimates below this [°C] count as liquid at 25 °C when no
+#: melting point is tabulated (see ``properties``).
+JOBACK_TM_BELOW = -25.0
+
+
+def joback_tm(cas):
+    """chemicals' Joback estimate of the melting point [°C], or None."""
+    from chemicals import phase_change
+    if "JOBACK" not in phase_change.Tm_methods(cas):
+        return None
+    v = phase_change.Tm(cas, method="JOBACK")
+    return v - 273.15 if v is not None and math.isfinite(v) else None
+
+
 def first_method(methods_fn, value_fn, cas, skip=()):
     """First tabulated method chemicals offers (its own priority order), skipping some."""
     for m in methods_fn(cas):
@@ -431,6 +445,11 @@ def properties(cas, mw, tables):
     # liquid at 25 °C: Tm < 25 °C < Tb. With one of them unknown, a liquid-phase vapour
     # pressure correlation valid at 25 °C counts as evidence for the liquid (its range
     # starts at or above the melting point), provided Psat < 1 atm (not a gas).
+    # Last, with a tabulated boiling point above 25 °C and no tabulated melting point:
+    # liquid when the Joback group-contribution estimate of the melting point is below
+    # -25 °C, a 50 K margin for that estimate's roughness (its melting points are often
+    # off by tens of kelvin; our margin, no source). This is what keeps common glycol
+    # ether acetates such as PGMEA, whose melting points no table here carries.
     tb, tm, ps = out["boiling_point"], out["melting_point"], out["vapour_pressure"]
     if tb is not None and tm is not None:
         liquid = tm < 25.0 < tb
@@ -438,6 +457,9 @@ def properties(cas, mw, tables):
         liquid = False
     elif ps is not None and ps < P_ATM:
         liquid = True
+    elif tb is not None and joback_tm(cas) is not None and joback_tm(cas) < JOBACK_TM_BELOW:
+        liquid = True
+        src["liquid"] = "Joback Tm estimate < -25 °C"
     else:
         liquid = None
     out["liquid"] = liquid

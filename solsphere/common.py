@@ -1,6 +1,6 @@
 """The curated pool of common solvents (``solsphere/data/common_solvents.csv``).
 
-The library holds every compound of three published Hansen compilations: 688 of them are
+The library holds every compound of three published Hansen compilations: 761 of them are
 liquid at 25 °C, and many of those are reagents, monomers or intermediates that nobody
 would put on a bench as a test solvent (acid chlorides, hydrazines, isocyanates ...).
 The common list is our own selection of about 150 solvents in common industrial and

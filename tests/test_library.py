@@ -294,7 +294,7 @@ def test_checksum_of_packaged_table():
     assert sum(Decimal(r["dD"]) for r in rows) == Decimal("20844.88")
     assert sum(Decimal(r["dP"]) for r in rows) == Decimal("9030.33")
     assert sum(Decimal(r["dH"]) for r in rows) == Decimal("9139.81")
-    assert sum(r["liquid"] == "true" for r in rows) == 688
+    assert sum(r["liquid"] == "true" for r in rows) == 761
 
 
 def test_table_columns_and_units(lib):
