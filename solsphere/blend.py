@@ -58,7 +58,7 @@ from typing import Any, Iterable, Sequence
 
 import numpy as np
 
-from solsphere.hsp import SCALE, mix, ra
+from solsphere.hsp import SCALE, flory_huggins_chi, mix, ra
 from solsphere.library import Solvent, hazard_flags
 
 __all__ = ["pair_screen", "best_fraction", "inside_window", "mass_fractions",
@@ -315,8 +315,9 @@ def mass_fractions(phi: float, density_a: float | None,
 # safety flags
 # --------------------------------------------------------------------------------------
 
-#: Two components further apart than this [MPa½] may not mix at all (e.g. methanol and
-#: hexane, 25.5; ethylene glycol and hexane, 28); our rule of thumb, no source.
+#: Without molar volumes: two components further apart than this [MPa½] may not mix at
+#: all (e.g. methanol and hexane, 25.5; ethylene glycol and hexane, 28); our rule of
+#: thumb, no source.
 MISCIBILITY_RA = 25.0
 #: Water and a solvent with log P above this rarely mix in all proportions
 #: (common practice, no source).
@@ -324,14 +325,48 @@ WATER_LOG_P = 1.0
 _WATER_CAS = "7732-18-5"
 
 
+def mixing_chi(a: Solvent, b: Solvent, T_C: float = 25.0):
+    r"""Flory–Huggins estimate of whether two liquids mix in all proportions.
+
+    .. math:: \chi_{12} = \frac{V_\mathrm{ref} R_a^2}{4 R T}, \qquad
+              \chi_c = \tfrac12\left(\frac{1}{\sqrt{r_1}} + \frac{1}{\sqrt{r_2}}\right)^2,
+              \quad r_i = V_i / V_\mathrm{ref}
+
+    (:func:`solsphere.hsp.flory_huggins_chi` with the smaller molar volume as the
+    reference; the critical χ of a binary Flory–Huggins mixture [1]_). Above
+    :math:`\chi_c` the regular-solution estimate predicts two liquid phases in some
+    range of compositions. It misses the hydrogen-bond association that lets alcohols mix
+    with hydrocarbons (hexane-ethanol comes out "may split"), so it errs on the side of a
+    caution; on 42 solvent pairs of common miscibility tables (``tests/test_blend.py``,
+    from memory) it caught all 19 pairs that split and cautioned wrongly on 9 of 23 that
+    mix (the distance rule alone caught 8 of the 19).
+
+    Returns ``(chi, chi_c)``, or None without both molar volumes.
+
+    References
+    ----------
+    .. [1] P. J. Flory, *Principles of Polymer Chemistry*, Cornell University Press,
+       1953, ch. XIII (critical conditions for phase separation; chapter from memory).
+    """
+    Va, Vb = a.molar_volume, b.molar_volume
+    if not Va or not Vb or Va <= 0 or Vb <= 0:
+        return None
+    d = float(ra(np.array([a.point]), b.point)[0])
+    vref = min(Va, Vb)
+    chi = float(np.ravel(flory_huggins_chi(d, vref, T_C))[0])
+    chi_c = 0.5 * (np.sqrt(vref / Va) + np.sqrt(vref / Vb)) ** 2
+    return chi, float(chi_c)
+
+
 def miscibility_warning(a: Solvent, b: Solvent) -> str | None:
     """A caution when two components may not form one liquid phase.
 
     The volume-fraction mixing rule assumes a single miscible phase; a blend of
-    immiscible liquids separates, whatever its average parameters say. Two signs are
-    checked: water with a solvent of log P > :data:`WATER_LOG_P` (for water only this one,
-    since water is far from every organic solvent, miscible or not), and other
-    components more than :data:`MISCIBILITY_RA` MPa½ apart.
+    immiscible liquids separates, whatever its average parameters say. Checked: water
+    with a solvent of log P > :data:`WATER_LOG_P` (for water only this one: its Hansen
+    distance to every organic solvent is large, miscible or not); other pairs by the
+    Flory–Huggins estimate :func:`mixing_chi`, or, without molar volumes, by a distance
+    over :data:`MISCIBILITY_RA` MPa½.
     """
     for w, o in ((a, b), (b, a)):
         if w.cas == _WATER_CAS:  # water sits far from everything; only log P tells
@@ -339,6 +374,14 @@ def miscibility_warning(a: Solvent, b: Solvent) -> str | None:
                 return (f"{o.name} and water may not mix (log P {o.log_p:.1f}): check that "
                         f"the blend is one clear phase")
             return None
+    est = mixing_chi(a, b)
+    if est is not None:
+        chi, chi_c = est
+        if chi > chi_c:
+            return (f"{a.name} and {b.name} may not mix (Flory–Huggins estimate χ = "
+                    f"{chi:.1f} above the critical {chi_c:.1f}): check that the blend is one "
+                    f"clear phase")
+        return None
     d = float(ra(np.array([a.point]), b.point)[0])
     if d > MISCIBILITY_RA:
         return (f"{a.name} and {b.name} are {d:.0f} MPa½ apart and may not mix: check that "
@@ -353,20 +396,21 @@ def may_not_mix(solvents: Sequence[Solvent]) -> bool:
 
 
 def _component_flags(solvents: Sequence[Solvent]) -> list[str]:
-    """The library's hazard flags of each component, prefixed with its name, then
-    any miscibility cautions for pairs of components."""
+    """Miscibility cautions for pairs of components first (a blend that separates is
+    no blend; they must not hide at the end of a long line), then the library's hazard
+    flags of each component, prefixed with its name."""
     out: list[str] = []
+    for k, a in enumerate(solvents):
+        for b in solvents[k + 1:]:
+            warning = miscibility_warning(a, b)
+            if warning:
+                out.append(warning)
     for s in solvents:
         for text in hazard_flags(s) or ():
             text = str(text)
             line = text if text.casefold().startswith(s.name.casefold()) else f"{s.name}: {text}"
             if line not in out:
                 out.append(line)
-    for k, a in enumerate(solvents):
-        for b in solvents[k + 1:]:
-            warning = miscibility_warning(a, b)
-            if warning:
-                out.append(warning)
     return out
 
 
