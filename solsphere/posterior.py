@@ -31,12 +31,12 @@ maximum, are run ``burn`` steps (discarded) and then ``thin`` steps between kept
 states. The acceptance fraction is reported; below 0.1 a warning says the samples
 may not have spread out.
 
-How good are the intervals? On the 22-trial invented campaigns of
-``tests/perf/bench_next.py`` (20 campaigns, random panels) the posterior intervals held
-the true dD, dP, dH and R0 in 71 of 80 cases (89 %), the graded bootstrap's in 58 of 80
-(72 %); on 40-trial panels with a little noise ``tests/test_posterior.py`` measures the
-share again (see there). Samples are a description of the results, not a guarantee:
-the model assumes the sphere shape and independent results.
+How good are the intervals? On the random 22-trial panels of the invented campaigns of
+``tests/perf/bench_next.py`` (20 campaigns, prior box of the candidate liquids) the
+posterior intervals held the true dD, dP, dH and R0 in 72 of 80 cases (90 %), the graded
+bootstrap's in 59 of 80 (74 %); on 20-trial invented panels ``tests/test_posterior.py``
+measured 99 % against 74 % (40 panels). Samples are a description of the results, not a
+guarantee: the model assumes the sphere shape and independent results.
 
 References
 ----------
