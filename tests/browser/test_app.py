@@ -485,7 +485,7 @@ def test_intervals_cloud_and_p_good_then_stale_after_an_edit(page, artefacts):
     assert page.locator("#centre-interval").count() == 0
     t0 = page.evaluate("() => performance.now()")
     page.click("#boot-button")
-    page.wait_for_selector("#boot-running:has-text('Resampling')")  # says it is working
+    page.wait_for_selector("#boot-running:has-text('plausible spheres')")  # says it is working
     page.wait_for_selector("#centre-interval", timeout=60_000)
     print(f"\nbootstrap of the demo (35 trials, 200 resamples) from click to intervals: "
           f"{page.evaluate('() => performance.now()') - t0:.0f} ms")
@@ -514,6 +514,22 @@ def test_intervals_cloud_and_p_good_then_stale_after_an_edit(page, artefacts):
     assert page.locator("#centre-interval").count() == 0
     page.wait_for_function(f"() => !document.querySelector('{MAP}').data"
                            ".some(t => t.name === 'resampled centres')")
+    assert_clean_console(page)
+
+
+def test_posterior_intervals_and_their_p_good(page, artefacts):
+    load_demo(page)
+    page.click("#boot-method label:has-text('posterior')")
+    page.click("#boot-button")
+    page.wait_for_selector("#centre-interval", timeout=60_000)
+    about = page.inner_text("#boot-about")
+    assert "200 spheres sampled" in about and "credible" in about
+    assert page.inner_text("#r0-interval").startswith("95 % interval")
+    wait_trace(page, "resampled centres", 200)
+    tab(page, "Try next")
+    page.wait_for_selector("#shortlist th:has-text('p_good')")
+    assert "sampled spheres (posterior" in page.inner_text("#next-p-note")
+    page.screenshot(path=str(artefacts / "11b-posterior.png"), full_page=True)
     assert_clean_console(page)
 
 
