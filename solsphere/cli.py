@@ -134,6 +134,9 @@ def build_parser() -> argparse.ArgumentParser:
     _add_pool(p)
     p.add_argument("--include-tested", action="store_true", help="keep tested solvents in the list")
     _add_bootstrap(p, "give each solvent's probability of dissolving the material (p_good)")
+    p.add_argument("--posterior", type=_positive_int, metavar="N", default=None,
+                   help="take p_good from N spheres sampled from the graded model's "
+                        "posterior instead (e.g. 2000)")
 
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
@@ -294,6 +297,13 @@ def _bootstrap(args, project, fit, n: int):
                      progress=_progress(args, "resampling"))
 
 
+def _posterior(args, project, fit, n: int):
+    from .posterior import sample_posterior
+    return sample_posterior(project.trials, n_samples=n, seed=args.seed,
+                            partial=fit.partial if fit.partial != "ordinal" else "good",
+                            bounds=fit.bounds)
+
+
 def cmd_fit(args) -> int:
     project, fit, lib = load_session(args)
     obj, text = fit.to_dict(), str(fit)
@@ -304,10 +314,7 @@ def cmd_fit(args) -> int:
         obj["bootstrap"] = boot.to_dict()
         text += "\n" + str(boot)
     if args.posterior:
-        from .posterior import sample_posterior
-        post = sample_posterior(project.trials, n_samples=args.posterior, seed=args.seed,
-                                partial=fit.partial if fit.partial != "ordinal" else "good",
-                                bounds=fit.bounds)
+        post = _posterior(args, project, fit, args.posterior)
         obj["posterior"] = post.to_dict()
         text += "\n" + str(post)
     if not args.no_influence:
@@ -344,6 +351,8 @@ def cmd_rank(args) -> int:
     pool, filters = candidate_pool(args, lib, project)
     tested = set(project.trials.names) | {t.cas for t in project.trials if t.cas}
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
+    if args.posterior:
+        boot = _posterior(args, project, fit, args.posterior)
     ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
                             include_tested=args.include_tested, filters=filters,
                             temperature_C=_temperature(args), bootstrap=boot)

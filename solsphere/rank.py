@@ -62,13 +62,15 @@ class Ranking:
         head = (f"Untried solvents nearest the sphere (centre {self.centre[0]:.1f}, "
                 f"{self.centre[1]:.1f}, {self.centre[2]:.1f}; R0 {self.R0:.1f} MPa½), "
                 f"{len(self.solvents)} of {self.n_candidates} candidates")
-        rows = [("solvent", "dD", "dP", "dH", "RED", "χ", "bp °C", "flash °C", "TWA ppm", "flags")]
+        with_p = any(r.p_good is not None for r in self.solvents)
+        rows = [("solvent", "dD", "dP", "dH", "RED") + (("p_good",) if with_p else ())
+                + ("χ", "bp °C", "flash °C", "TWA ppm", "flags")]
         for r in self.solvents:
             s = r.solvent
             rows.append((s.name[:32], f"{s.dD:.1f}", f"{s.dP:.1f}", f"{s.dH:.1f}",
-                         f"{r.red:.2f}", _num(r.chi, 2), _num(s.boiling_point, 0),
-                         _num(s.flash_point, 0),
-                         _num(s.twa_ppm, 3, g=True), "; ".join(r.flags)))
+                         f"{r.red:.2f}") + ((_num(r.p_good, 2),) if with_p else ())
+                        + (_num(r.chi, 2), _num(s.boiling_point, 0), _num(s.flash_point, 0),
+                           _num(s.twa_ppm, 3, g=True), "; ".join(r.flags)))
         out = [head, format_table(rows)]
         if not self.solvents:
             out.append("No untried candidate to list: every candidate was tested (keep them "

@@ -71,3 +71,26 @@ def test_bad_bootstrap_count(capsys):
         main(["fit", DEMO, "--bootstrap", "0"])
     err = capsys.readouterr().err
     assert exc.value.code == 2 and "--bootstrap" in err and len(err.strip().splitlines()) == 1
+
+
+def test_fit_and_rank_with_posterior_samples(capsys):
+    a = run_json(capsys, "fit", DEMO, "--posterior", "300", "--seed", "2", "--no-influence")
+    b = run_json(capsys, "fit", DEMO, "--posterior", "300", "--seed", "2", "--no-influence")
+    post = a["posterior"]
+    assert post["n_samples"] == 300 and post["fit_method"] == "posterior"
+    assert set(post["intervals"]) == {"dD", "dP", "dH", "R0", "width"}
+    assert post["intervals"] == b["posterior"]["intervals"]  # seeded
+    d = run_json(capsys, "rank", DEMO, "--posterior", "300", "--top", "5", "--pool", "common")
+    ps = [s["p_good"] for s in d["solvents"]]
+    assert all(p is not None and 0.0 <= p <= 1.0 for p in ps)
+    code = main(["rank", DEMO, "--posterior", "300", "--top", "3"])
+    out = capsys.readouterr().out
+    assert code == 0 and "p_good" in out.splitlines()[1]  # the column in the text table
+
+
+def test_next_reports_its_engine(capsys):
+    d = run_json(capsys, "next", DEMO, "--n", "2", "--samples", "300")
+    assert d["uncertainty"] == "posterior" and d["n_samples"] == 300
+    assert d["filters"]["pool"] == "common solvents"
+    e = run_json(capsys, "next", DEMO, "--n", "2", "--bootstrap", "40")
+    assert e["uncertainty"] == "bootstrap" and e["n_samples"] == 40
