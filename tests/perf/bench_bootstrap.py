@@ -27,6 +27,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from bench_fit import panel  # noqa: E402
+from benchtime import timed  # noqa: E402
 from solsphere.confidence import bootstrap, resample_counts  # noqa: E402
 from solsphere.fit import default_bounds, fit_sphere  # noqa: E402
 
@@ -51,11 +52,7 @@ def naive(X, good, n, seed=0):
 def main() -> int:
     X, good = panel()
     fit_sphere(X, good)  # warm-up (imports, first Sobol)
-    times, b = [], None
-    for _ in range(3):
-        t = time.perf_counter()
-        b = bootstrap(X, good, N, seed=0, n_jobs=2)
-        times.append(time.perf_counter() - t)
+    times, b = timed(lambda: bootstrap(X, good, N, seed=0, n_jobs=2), 3)
     ours = float(np.median(times))
     t = time.perf_counter()
     ref = naive(X, good, NAIVE_SUBSET)

@@ -13,13 +13,13 @@ FAIL (exit 1) when the ratio is below 30 or our desirability is below the grid's
 from __future__ import annotations
 
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
+from benchtime import timed  # noqa: E402
 from solsphere.fit import default_bounds, fit_sphere, grid_search  # noqa: E402
 from solsphere.hsp import ra  # noqa: E402
 
@@ -34,16 +34,6 @@ def panel(seed: int = 2024, n: int = 40, flips: int = 4):
     i = rng.choice(n, flips, replace=False)
     good[i] = ~good[i]
     return X, good
-
-
-def timed(fn, repeats: int):
-    """Wall times of ``repeats`` calls and the last result."""
-    times, out = [], None
-    for _ in range(repeats):
-        t = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t)
-    return times, out
 
 
 def main() -> int:

@@ -15,13 +15,13 @@ target=100 ok|FAIL`` and exits 1 on FAIL (or if the two methods disagree).
 from __future__ import annotations
 
 import math
-import statistics
 import sys
-import time
 from pathlib import Path
 
 import numpy as np
 from scipy.optimize import minimize_scalar
+
+from benchtime import median_time
 
 try:
     from solsphere.blend import pair_screen
@@ -62,15 +62,6 @@ def naive_loop(points: np.ndarray, i: np.ndarray, j: np.ndarray, centre, R0: flo
         phis[k] = r.x
         reds[k] = r.fun / R0
     return phis, reds
-
-
-def median_time(fn, repeats: int):
-    times, out = [], None
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times), out
 
 
 def main() -> int:

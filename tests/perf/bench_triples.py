@@ -20,14 +20,14 @@ must pick the same best triple).
 
 from __future__ import annotations
 
-import statistics
 import sys
-import time
 from math import comb
 from pathlib import Path
 
 import numpy as np
 from scipy.optimize import minimize
+
+from benchtime import median_time
 
 try:
     from solsphere.triples import screen_triples, triple_screen
@@ -91,15 +91,6 @@ def slsqp_loop(points: np.ndarray, T: np.ndarray, centre, R0: float, lo=None, up
         W[t] = r.x
         red[t] = np.sqrt(max(r.fun, 0.0)) / R0
     return W, red
-
-
-def median_time(fn, repeats: int):
-    times, out = [], None
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        out = fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times), out
 
 
 def compare(points, full, sub, centre, R0, lo=None, up=None, label=""):
