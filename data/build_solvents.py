@@ -451,13 +451,14 @@ def properties(cas, mw, tables):
     # off by tens of kelvin; our margin, no source). This is what keeps common glycol
     # ether acetates such as PGMEA, whose melting points no table here carries.
     tb, tm, ps = out["boiling_point"], out["melting_point"], out["vapour_pressure"]
+    tm_est = joback_tm(cas) if tb is not None and tm is None else None
     if tb is not None and tm is not None:
         liquid = tm < 25.0 < tb
     elif (tb is not None and tb <= 25.0) or (tm is not None and tm >= 25.0):
         liquid = False
     elif ps is not None and ps < P_ATM:
         liquid = True
-    elif tb is not None and joback_tm(cas) is not None and joback_tm(cas) < JOBACK_TM_BELOW:
+    elif tm_est is not None and tm_est < JOBACK_TM_BELOW:
         liquid = True
         src["liquid"] = "Joback Tm estimate < -25 °C"
     else:

@@ -355,14 +355,12 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
                      "already tested).")
         return Suggestions([], 0, len(b.radii), b.seed, b.centre.tolist(), b.R0, notes,
                            **meta)
-    inside = b.inside(P)
+    d = ra(P[None, :, :], b.centres[:, None, :])  # (spheres, candidates)
+    inside = d <= b.radii[:, None]
     p = inside.mean(axis=0)
     red = ra(P, b.centre) / b.R0
-    if kind == "posterior":
-        lik = expit((b.radii[:, None] - ra(P[None, :, :], b.centres[:, None, :]))
-                    / b.widths[:, None])
-    else:
-        lik = inside
+    lik = (expit((b.radii[:, None] - d) / b.widths[:, None]) if kind == "posterior"
+           else inside)
     picks, gains, alone = select_informative(lik, n, P, red, b.R0)
     out = []
     for k, (j, gain, a) in enumerate(zip(picks, gains, alone)):
