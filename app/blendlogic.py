@@ -64,9 +64,9 @@ def parse_fraction_limits(text: str | None, names, library, what: str) -> dict[s
 
 def _pool(library, pool_choice, shelf, ticked, restricted, kw, common_only: bool = False):
     """(pool, where) for the chosen pool under the constraints ``kw``."""
-    from solsphere.library import Library
-    from solsphere.session import candidate_pool
-    from solsphere.shelf import read_shelf
+    from solsphere.library.table import Library
+    from solsphere.workflows import candidate_pool
+    from solsphere.io.shelf import read_shelf
 
     def with_restricted(fn):
         if not restricted or not restricted.get("contents"):
@@ -142,9 +142,9 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
         with display strings; the drying path reduced to its points and verdict),
         ``message``, ``notes`` (temperature, pool cut), ``caution``, ``has_price``.
     """
-    from solsphere.blend import screen_blends
-    from solsphere.rank import CAUTION
-    from solsphere.session import add_safety_and_drying, at_temperature
+    from solsphere.design.pairs import screen_blends
+    from solsphere.design.ranking import CAUTION
+    from solsphere.workflows import add_safety_and_drying, at_temperature
     fit = (result or {}).get("fit")
     if not fit:
         return {"blends": [], "message": "No sphere yet: blends appear once the fit works.",
@@ -166,7 +166,7 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
         notes += tnotes
         screen_top = int(top) if rank_by == "red" else max(RERANK_POOL, int(top))
         if int(components) == 3:
-            from solsphere.triples import screen_triples, triple_shortlist
+            from solsphere.design.triples import screen_triples, triple_shortlist
             names = [s.name for s in pool]
             upper = parse_fraction_limits(max_fraction, names, library, "at most")
             lower = parse_fraction_limits(min_fraction, names, library, "at least")
@@ -302,9 +302,9 @@ def substitutes(result: dict | None, library, name: str | None, for_material: bo
         ``singles`` and ``pairs`` (``Substitution.to_dict()`` entries with display
         strings), ``target`` (its point), ``message``, ``caution``.
     """
-    from solsphere.rank import CAUTION
-    from solsphere.session import candidate_pool
-    from solsphere.substitute import find_substitutes
+    from solsphere.design.ranking import CAUTION
+    from solsphere.workflows import candidate_pool
+    from solsphere.design.substitution import find_substitutes
     empty = {"singles": [], "pairs": [], "target": None, "caution": CAUTION}
     if not (name or "").strip():
         return dict(empty, message="Type the solvent to replace.")

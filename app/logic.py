@@ -68,7 +68,7 @@ def normalise_outcomes(rows) -> list[dict] | None:
     'dissolves', 'bad' -> 'does not' …, as :func:`solsphere.trials.parse_outcome`
     reads them), or None when nothing changes. Pasted and typed words then show in
     the table's outcome menus; unrecognised words are left for the error marks."""
-    from solsphere.trials import parse_outcome
+    from solsphere.io.trials import parse_outcome
     out, changed = [], False
     for r in rows or []:
         v = r.get("outcome") if isinstance(r, dict) else None
@@ -103,9 +103,9 @@ def compute_fit(rows, partial: str, library) -> dict:
         trial (same order as ``fit["table"]``); ``tested``: names and CAS numbers of
         the tested solvents; ``warnings``: reading warnings; ``partial``.
     """
-    from solsphere import trials as T
-    from solsphere.project import Project
-    from solsphere.session import fit_project
+    from solsphere.io import trials as T
+    from solsphere.io.project import Project
+    from solsphere.workflows import fit_project
 
     cleaned = clean_rows(rows)
     trials, errors = T.validate_rows(cleaned, library=library)
@@ -399,7 +399,7 @@ def open_upload(contents: str, filename: str | None, library) -> dict:
     ------
     InputError
     """
-    from solsphere.project import load_any
+    from solsphere.io.project import load_any
     data = decode_upload(contents, filename)
     project = _with_temp_file(data, filename, "results.csv",
                               lambda p: load_any(p, library=library))
@@ -423,8 +423,8 @@ def project_state(project, label: str) -> dict:
 def demo_state(library) -> dict | None:
     """The invented demo scenario from the installed package (None if it is missing)."""
     from importlib.resources import files
-    from solsphere import trials as T
-    from solsphere.project import Project
+    from solsphere.io import trials as T
+    from solsphere.io.project import Project
     try:
         folder = files("solsphere.data.demo")
         entry = folder.joinpath(DEMO_FILE)
@@ -479,8 +479,8 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
         ``rows`` (``Ranking.to_dict()["solvents"]`` entries plus display strings),
         ``message`` and ``caution``.
     """
-    from solsphere.rank import CAUTION, rank_solvents
-    from solsphere.session import candidate_pool
+    from solsphere.design.ranking import CAUTION, rank_solvents
+    from solsphere.workflows import candidate_pool
     fit = (result or {}).get("fit")
     if not fit:
         return {"rows": [], "message": "No sphere yet: the shortlist appears once the fit "
@@ -562,9 +562,9 @@ def _current(fit: dict, blends, picked=None):
 def map_figure(result: dict | None, library, show_untried: bool = True,
                picked: list | None = None, blends: list | None = None, cloud=None):
     """The 3D map of the stored fit (``solsphere.figures.map3d``)."""
-    from solsphere import figures
+    from solsphere.report import figures
     from .blendlogic import drying_paths
-    from solsphere.rank import rank_solvents
+    from solsphere.design.ranking import rank_solvents
     fit = (result or {}).get("fit")
     if not fit:
         return empty_figure((result or {}).get("fit_error") or "No sphere yet.")
@@ -582,7 +582,7 @@ def map_figure(result: dict | None, library, show_untried: bool = True,
 
 def planes_figure(result: dict | None, blends: list | None = None):
     """The three 2D projections of the stored fit (``solsphere.figures.projections``)."""
-    from solsphere import figures
+    from solsphere.report import figures
     fit = (result or {}).get("fit")
     if not fit:
         return empty_figure("", height=300)
@@ -625,8 +625,8 @@ def _wrap(text: str, width: int = 70) -> str:
 # ----------------------------------------------------------------------------- share
 
 def _project(rows, partial: str, library, fit_dict: dict | None):
-    from solsphere import trials as T
-    from solsphere.project import Project
+    from solsphere.io import trials as T
+    from solsphere.io.project import Project
     trials = T.from_rows(clean_rows(rows), library=library)
     return Project(trials=trials, settings={"partial": partial}, fit=fit_dict)
 
@@ -639,8 +639,8 @@ def project_file_text(rows, partial: str, library) -> str:
     InputError
         A bad cell (fix it first: a project with rows silently dropped would lose data).
     """
-    from solsphere.project import save
-    from solsphere.session import fit_project
+    from solsphere.io.project import save
+    from solsphere.workflows import fit_project
     project = _project(rows, partial, library, None)
     try:
         fit = fit_project(project, partial=partial, library=library)
@@ -660,7 +660,7 @@ def share_page_text(rows, partial: str, library, title: str | None = None) -> st
     ------
     InputError, FitError
     """
-    from solsphere.session import fit_project, share_page
+    from solsphere.workflows import fit_project, share_page
     project = _project(rows, partial, library, None)
     fit = fit_project(project, partial=partial, library=library)
     return share_page(project, fit, library, title=title or None)
@@ -675,5 +675,5 @@ def download_name(source: str | None, suffix: str) -> str:
 
 def caution_text() -> str:
     """The caution shown near every recommendation (``solsphere.rank.CAUTION``)."""
-    from solsphere.rank import CAUTION
+    from solsphere.design.ranking import CAUTION
     return CAUTION

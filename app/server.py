@@ -30,7 +30,7 @@ WORKER_TIMEOUT = 120
 
 
 def _library():
-    from solsphere.library import load_library
+    from solsphere.library.table import load_library
     return load_library()  # loaded once per process and cached by the library
 
 
@@ -49,7 +49,7 @@ def initial_state(path=None, library=None) -> dict | None:
     """
     if path is None:
         return None
-    from solsphere.project import load_any
+    from solsphere.io.project import load_any
     from . import logic
     library = library or _library()
     project = load_any(path, library=library)

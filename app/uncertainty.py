@@ -71,7 +71,7 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
         with the resampled centres and radii rounded, without the per-resample
         desirabilities), ``elapsed`` [s]; or ``error`` (a message) instead of ``boot``.
     """
-    from solsphere import confidence
+    from solsphere.uncertainty import bootstrap as confidence
     fit = (result or {}).get("fit")
     if not fit:
         return {"key": None, "error": "No sphere yet: add results first."}
@@ -84,7 +84,7 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
     partial = fit.get("partial") or "good"
     try:
         if method == "posterior":
-            from solsphere.posterior import sample_posterior
+            from solsphere.uncertainty.posterior import sample_posterior
             b = sample_posterior(X, outcomes, max(n, MIN_SAMPLES), seed=seed,
                                  partial=partial if partial != "ordinal" else "good",
                                  names=names, bounds=fit.get("bounds"))
@@ -156,8 +156,8 @@ def cloud(store: dict | None, fit: dict | None):
 def bootstrap_of(store: dict | None, fit: dict | None):
     """The stored bootstrap as a :class:`solsphere.confidence.Bootstrap` (with its
     resampled spheres), or None when there is none for these results."""
-    from solsphere.confidence import Bootstrap
-    from solsphere.posterior import Posterior
+    from solsphere.uncertainty.bootstrap import Bootstrap
+    from solsphere.uncertainty.posterior import Posterior
     st = current(store, fit)
     if not st or st.get("error"):
         return None
@@ -191,8 +191,10 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
     """
     import time
 
-    from solsphere import confidence, nexttrial
-    from solsphere.session import candidate_pool
+    from solsphere.uncertainty import bootstrap as confidence
+
+    from solsphere.uncertainty import nexttrials as nexttrial
+    from solsphere.workflows import candidate_pool
     fit = (result or {}).get("fit")
     if not fit:
         return {"key": None, "suggestions": [], "recheck": [], "warnings": [],

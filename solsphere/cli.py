@@ -11,7 +11,7 @@ import argparse
 import json
 import sys
 
-from .errors import FitError, InputError, SolsphereError
+from solsphere.errors import FitError, InputError, SolsphereError
 
 EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
           "flammable and toxic: read each safety data sheet and work with ventilation and "
@@ -195,7 +195,7 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _version() -> str:
-    from . import __version__
+    from solsphere import __version__
     return f"solsphere {__version__}"
 
 
@@ -203,9 +203,9 @@ def _version() -> str:
 
 def load_session(args):
     """Read FILE (results or project) and return (project, fit dict, library)."""
-    from .library import load_library
-    from .project import load_any
-    from .session import fit_project
+    from solsphere.library.table import load_library
+    from solsphere.io.project import load_any
+    from solsphere.workflows import fit_project
     lib = load_library()
     project = load_any(args.file, library=lib)
     fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
@@ -219,9 +219,9 @@ def load_session(args):
 def candidate_pool(args, lib, project, *, limits: bool = True):
     """The pool per the options; ``limits=False`` leaves the flash/boiling point filters
     to the caller (the blend screen applies them itself and counts what they remove)."""
-    from .errors import UnknownSolventError
-    from .session import candidate_pool as pool
-    from .session import at_temperature
+    from solsphere.errors import UnknownSolventError
+    from solsphere.workflows import candidate_pool as pool
+    from solsphere.workflows import at_temperature
     try:
         solvents, filters = pool(lib, shelf=args.candidates, exclude=_split(args.exclude),
                                  min_flash_point=args.min_flash_point if limits else None,
@@ -291,14 +291,14 @@ def _progress(args, label: str):
 
 
 def _bootstrap(args, project, fit, n: int):
-    from .confidence import bootstrap
+    from solsphere.uncertainty.bootstrap import bootstrap
     return bootstrap(project.trials, n_bootstrap=n, seed=args.seed, method=args.method,
                      partial=fit.partial, bounds=fit.bounds,
                      progress=_progress(args, "resampling"))
 
 
 def _posterior(args, project, fit, n: int):
-    from .posterior import sample_posterior
+    from solsphere.uncertainty.posterior import sample_posterior
     return sample_posterior(project.trials, n_samples=n, seed=args.seed,
                             partial=fit.partial if fit.partial != "ordinal" else "good",
                             bounds=fit.bounds)
@@ -318,7 +318,7 @@ def cmd_fit(args) -> int:
         obj["posterior"] = post.to_dict()
         text += "\n" + str(post)
     if not args.no_influence:
-        from .confidence import influence
+        from solsphere.uncertainty.bootstrap import influence
         # leave-one-out refits rank the list; the flipped-result refits (the app shows
         # them) would double the time of every fit
         inf = influence(project.trials, partial=fit.partial, bounds=fit.bounds, flips=False)
@@ -328,13 +328,13 @@ def cmd_fit(args) -> int:
             f"    {r['name']}: centre moves {r['shift']:.1f} MPa½, R0 {r['dR0']:+.1f}"
             for r in rows[:5])
     if args.spheres == 2:
-        from .twosphere import fit_two_spheres
+        from solsphere.models.twosphere import fit_two_spheres
         two = fit_two_spheres(project.trials, partial=fit.partial if fit.partial != "ordinal"
                               else "good", seed=args.seed)
         obj["two_spheres"] = two.to_dict()
         text += "\n" + str(two)
     if args.save:
-        from .project import save
+        from solsphere.io.project import save
         project.fit = fit.to_dict()
         project.settings["partial"] = fit.partial
         project.settings["method"] = args.method
@@ -346,7 +346,7 @@ def cmd_fit(args) -> int:
 
 
 def cmd_rank(args) -> int:
-    from .rank import rank_solvents
+    from solsphere.design.ranking import rank_solvents
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(args, lib, project)
     tested = set(project.trials.names) | {t.cas for t in project.trials if t.cas}
@@ -361,7 +361,7 @@ def cmd_rank(args) -> int:
 
 
 def cmd_next(args) -> int:
-    from .nexttrial import suggest_next
+    from solsphere.uncertainty.nexttrials import suggest_next
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(args, lib, project)
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
@@ -386,7 +386,7 @@ def _temperature(args) -> float:
 
 
 def cmd_blend(args) -> int:
-    from .session import add_safety_and_drying, blend_notes
+    from solsphere.workflows import add_safety_and_drying, blend_notes
     if args.rank_by == "drying" and not args.drying:  # say so before the long screen
         raise InputError("ranking by drying needs the drying simulation.",
                          file="<command line>", hint="add --drying")
@@ -406,7 +406,7 @@ def cmd_blend(args) -> int:
     limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
                   top=top, only_blends=not args.with_single)
     if args.components == 3:
-        from .triples import screen_triples, triple_shortlist
+        from solsphere.design.triples import screen_triples, triple_shortlist
         upper = _limits(args.max_fraction, lib, "--max-fraction")
         lower = _limits(args.min_fraction, lib, "--min-fraction")
         short = triple_shortlist(pool, centre, fit.R0, keep=set(upper) | set(lower))
@@ -419,7 +419,7 @@ def cmd_blend(args) -> int:
         if args.max_fraction or args.min_fraction:
             raise InputError("--max-fraction / --min-fraction apply to 3-component blends.",
                              file="<command line>", hint="add --components 3")
-        from .blend import screen_blends
+        from solsphere.design.pairs import screen_blends
         screen = screen_blends(pool, centre, fit.R0, **limits)
     screen.filters.update(filters)
     if top is None:  # keep the work bounded: the inside blends (or the nearest 500)
@@ -434,14 +434,14 @@ def cmd_blend(args) -> int:
 
 
 def cmd_replace(args) -> int:
-    from .library import load_library
-    from .substitute import find_substitutes
+    from solsphere.library.table import load_library
+    from solsphere.design.substitution import find_substitutes
     lib = load_library()
     target = lib.lookup(args.name)
     material = None
     if args.for_material:
-        from .project import load_any
-        from .session import fit_project
+        from solsphere.io.project import load_any
+        from solsphere.workflows import fit_project
         fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
                           library=lib)
         material = ((fit.dD, fit.dP, fit.dH), fit.R0)
@@ -453,8 +453,8 @@ def cmd_replace(args) -> int:
 
 
 def cmd_share(args) -> int:
-    from .fileio import atomic_write_text
-    from .session import share_page
+    from solsphere.io.files import atomic_write_text
+    from solsphere.workflows import share_page
     project, fit, lib = load_session(args)
     _check_share_target(args.output)
     page = share_page(project, fit, lib, title=args.title)
@@ -490,7 +490,7 @@ def _workers(text: str) -> int:
 
 
 def cmd_app(args) -> int:
-    from app.server import serve
+    from solsphere.app.server import serve
     serve(args.file, host=args.host, port=args.port, workers=args.workers)
     return 0
 

@@ -47,7 +47,7 @@ WORDS = {"good": "dissolves", "bad": "does not"}
 
 def make_projects(library, n: int, seed: int = 17) -> list[list[dict]]:
     """``n`` invented projects: table rows as the app's table holds them."""
-    from solsphere.hsp import ra
+    from solsphere.hansen import ra
     rng = np.random.default_rng(seed)
     sols = [library.lookup(s) for s in POOL]
     pts = np.array([s.point for s in sols])
@@ -72,10 +72,10 @@ def make_projects(library, n: int, seed: int = 17) -> list[list[dict]]:
 
 def expected_fit(rows, library) -> dict:
     """solsphere's own fit of a project's rows (``trials.from_rows`` + ``fit_project``)."""
-    from app import logic
-    from solsphere import trials as T
-    from solsphere.project import Project
-    from solsphere.session import fit_project
+    from solsphere.app import logic
+    from solsphere.io import trials as T
+    from solsphere.io.project import Project
+    from solsphere.workflows import fit_project
     trials = T.from_rows(logic.clean_rows(rows), library=library)
     fit = fit_project(Project(trials, {"partial": "good"}), partial="good", library=library)
     return fit.to_dict()

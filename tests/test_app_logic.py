@@ -12,9 +12,9 @@ import json
 
 import pytest
 
-from app import blendlogic, logic, uncertainty
+from solsphere.app import blendlogic, logic, uncertainty
 from solsphere.errors import InputError
-from solsphere.library import load_library
+from solsphere.library.table import load_library
 
 
 @pytest.fixture(scope="module")
@@ -41,7 +41,7 @@ def data_url(data: bytes, mime: str = "text/csv") -> str:
 # ----------------------------------------------------------------------------- rows & fit
 
 def test_demo_rows_use_display_words_and_round_trip(demo, lib):
-    from solsphere import trials as T
+    from solsphere.io import trials as T
     words = {r["outcome"] for r in demo["rows"]}
     assert words <= {"dissolves", "partly", "does not"}
     assert "invented" in demo["message"]
@@ -52,8 +52,8 @@ def test_demo_rows_use_display_words_and_round_trip(demo, lib):
 def test_fit_equals_the_library_fit_of_the_same_file(demo_result, lib):
     """The app's fit is the CLI's fit (load_any + fit_project) of the demo file."""
     from importlib.resources import as_file, files
-    from solsphere.project import load_any
-    from solsphere.session import fit_project
+    from solsphere.io.project import load_any
+    from solsphere.workflows import fit_project
     with as_file(files("solsphere.data.demo").joinpath(logic.DEMO_FILE)) as path:
         cli_fit = fit_project(load_any(path, library=lib), partial="good", library=lib)
     fit = demo_result["fit"]
@@ -201,8 +201,8 @@ def test_download_names():
 # ----------------------------------------------------------------------------- shortlist, blends
 
 def test_shortlist_is_the_library_ranking_with_filters(demo_result, lib):
-    from solsphere.rank import rank_solvents
-    from solsphere.session import candidate_pool
+    from solsphere.design.ranking import rank_solvents
+    from solsphere.workflows import candidate_pool
     out = logic.shortlist(demo_result, lib, min_flash_point=60, exclude="ethyl benzoate", top=10)
     fit = demo_result["fit"]
     pool, _ = candidate_pool(lib, exclude=["ethyl benzoate"], min_flash_point=60.0)
@@ -218,8 +218,8 @@ def test_shortlist_is_the_library_ranking_with_filters(demo_result, lib):
 
 
 def test_blend_designer_matches_screen_blends(demo_result, lib):
-    from solsphere.blend import screen_blends
-    from solsphere.session import candidate_pool
+    from solsphere.design.pairs import screen_blends
+    from solsphere.workflows import candidate_pool
     fit = demo_result["fit"]
     out = blendlogic.blend_designer(demo_result, lib, no_carcinogens=True, max_boiling_point=150,
                                top=5)
@@ -272,7 +272,7 @@ def test_figures_draw_the_stored_fit(demo_result, lib):
 # ----------------------------------------------------------------------------- server
 
 def test_server_warns_off_loopback_and_builds_the_app(tmp_path, lib):
-    from app import server
+    from solsphere.app import server
     assert server.network_warning("127.0.0.1", 8050) is None
     assert server.network_warning("localhost", 8050) is None
     assert server.network_warning("::1", 8050) is None
@@ -293,8 +293,8 @@ def test_bootstrap_and_suggestions_run_only_on_their_buttons():
     """The refit-on-every-edit path never starts a resampling: the callbacks that write
     the bootstrap and the suggestions are triggered by their buttons alone (the fit is
     only read, as State)."""
-    from app import ids
-    from app.server import create_app
+    from solsphere.app import ids
+    from solsphere.app.server import create_app
     dash_app = create_app()
     found = 0
     for key, cb in dash_app.callback_map.items():
@@ -310,8 +310,8 @@ def test_bootstrap_and_suggestions_run_only_on_their_buttons():
 def test_no_module_level_user_state():
     """Per-user state lives in the browser: the app modules hold no mutable globals."""
     import types
-    import app.bench, app.blends, app.blendlogic, app.layout, app.logic, app.nexttrials  # noqa: E401
-    import app.replace, app.share, app.sphere, app.trynext, app.uncertainty  # noqa: E401
+    import solsphere.app.bench, app.blends, app.blendlogic, app.layout, app.logic, app.nexttrials  # noqa: E401
+    import solsphere.app.replace, app.share, app.sphere, app.trynext, app.uncertainty  # noqa: E401
     for mod in (app.bench, app.blends, app.blendlogic, app.layout, app.logic, app.nexttrials,
                 app.replace, app.share, app.sphere, app.trynext, app.uncertainty):
         for name, value in vars(mod).items():
@@ -323,8 +323,8 @@ def test_no_module_level_user_state():
 # ----------------------------------------------------------------------------- blends: 3 components, constraints, drying
 
 def test_three_component_designer_is_the_triple_screen_of_the_shortlist(demo_result, lib):
-    from solsphere.session import candidate_pool
-    from solsphere.triples import screen_triples, triple_shortlist
+    from solsphere.workflows import candidate_pool
+    from solsphere.design.triples import screen_triples, triple_shortlist
     fit = demo_result["fit"]
     centre = (fit["dD"], fit["dP"], fit["dH"])
     out = blendlogic.blend_designer(demo_result, lib, components=3, top=5)
@@ -392,9 +392,9 @@ def test_constraints_restricted_list_and_temperature(demo_result, lib):
 
 
 def test_drying_column_and_path_are_the_library_drying(demo_result, lib):
-    from solsphere.blend import screen_blends
-    from solsphere.library import Library
-    from solsphere.session import add_safety_and_drying, candidate_pool
+    from solsphere.design.pairs import screen_blends
+    from solsphere.library.table import Library
+    from solsphere.workflows import add_safety_and_drying, candidate_pool
     fit = demo_result["fit"]
     centre = (fit["dD"], fit["dP"], fit["dH"])
     ticked = ["toluene", "ethanol", "acetone", "ethyl acetate", "1-butanol", "p-xylene"]
@@ -450,8 +450,8 @@ def test_rank_by_cost_needs_prices_and_ranks_cheapest_inside_first(demo_result, 
 # ----------------------------------------------------------------------------- replace
 
 def test_replace_is_find_substitutes_and_for_material_uses_the_fit(demo_result, lib):
-    from solsphere.session import candidate_pool
-    from solsphere.substitute import find_substitutes
+    from solsphere.workflows import candidate_pool
+    from solsphere.design.substitution import find_substitutes
     fit = demo_result["fit"]
     out = blendlogic.substitutes(demo_result, lib, "toluene", top=5, n_pairs=3)
     pool, _ = candidate_pool(lib)
@@ -476,7 +476,7 @@ def test_replace_is_find_substitutes_and_for_material_uses_the_fit(demo_result, 
 
 def _demo_trials(lib):
     from importlib.resources import as_file, files
-    from solsphere.project import load_any
+    from solsphere.io.project import load_any
     with as_file(files("solsphere.data.demo").joinpath(logic.DEMO_FILE)) as path:
         return load_any(path, library=lib).trials
 
@@ -488,7 +488,7 @@ def boot(demo_result):
 
 def test_bootstrap_in_the_app_is_the_library_bootstrap_of_the_trials(demo, demo_result, boot, lib):
     """Same numbers as confidence.bootstrap on the validated trials (the CLI's path)."""
-    from solsphere import confidence
+    from solsphere.uncertainty import bootstrap as confidence
     trials = _demo_trials(lib)  # the CLI's path: `solsphere fit --bootstrap 40` on the file
     ref = confidence.bootstrap(trials, n_bootstrap=40, seed=uncertainty.SEED, partial="good",
                                bounds=demo_result["fit"]["bounds"], n_jobs=1)
@@ -514,8 +514,8 @@ def test_bootstrap_in_the_app_is_the_library_bootstrap_of_the_trials(demo, demo_
 
 def test_posterior_intervals_in_the_app_are_the_library_posterior(demo_result, lib):
     """'How sure?' with the posterior: the library's samples of the same trials."""
-    from app import trynext
-    from solsphere.posterior import Posterior, sample_posterior
+    from solsphere.app import trynext
+    from solsphere.uncertainty.posterior import Posterior, sample_posterior
     fit = demo_result["fit"]
     store = uncertainty.run_bootstrap(demo_result, 300, "posterior")
     ref = sample_posterior(_demo_trials(lib), n_samples=300, seed=uncertainty.SEED, partial="good",
@@ -550,8 +550,9 @@ def test_an_edit_makes_the_intervals_stale_not_wrong(demo, demo_result, boot, li
 
 
 def test_next_trials_are_the_library_suggestions_and_recheck_the_influence(demo_result, lib):
-    from solsphere import confidence, nexttrial
-    from solsphere.session import candidate_pool
+    from solsphere.uncertainty import bootstrap as confidence
+    from solsphere.uncertainty import nexttrials as nexttrial
+    from solsphere.workflows import candidate_pool
     out = uncertainty.next_trials(demo_result, lib, n=3, n_samples=400, min_flash_point=23)
     fit = demo_result["fit"]
     trials = _demo_trials(lib)  # the CLI's path: `solsphere next` on the demo file

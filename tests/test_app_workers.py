@@ -30,7 +30,7 @@ import appharness
 from appharness import ROOT, Client, ServedApp, expected_fit, make_projects, verdict
 from clirun import run_cli
 from solsphere import cli
-from solsphere.library import load_library
+from solsphere.library.table import load_library
 
 pytestmark = pytest.mark.skipif(sys.platform == "win32", reason="gunicorn is Unix only")
 
@@ -88,7 +88,7 @@ def test_two_workers_serve_the_library_fit_and_stop(projects):
 
 
 def test_the_request_body_limit_holds_in_the_workers():
-    from app.server import MAX_REQUEST_BYTES
+    from solsphere.app.server import MAX_REQUEST_BYTES
     with ServedApp(2) as served:
         port = int(served.base.rstrip("/").rsplit(":", 1)[1])
         conn = http.client.HTTPConnection("127.0.0.1", port, timeout=30)
@@ -107,7 +107,7 @@ def test_the_request_body_limit_holds_in_the_workers():
 @pytest.mark.slow
 def test_a_bootstrap_in_a_worker_matches_the_library(projects):
     """The 'How sure?' callback starts its own process pool inside a worker."""
-    from app import uncertainty
+    from solsphere.app import uncertainty
     rows, _ = projects
     with ServedApp(2) as served:
         client = Client(served.base)
@@ -143,7 +143,7 @@ def test_bad_workers_value_as_a_process_has_no_traceback():
 
 
 def test_the_cli_cap_is_the_servers():
-    from app.server import MAX_WORKERS
+    from solsphere.app.server import MAX_WORKERS
     parse = cli.build_parser().parse_args
     assert parse(["app"]).workers == 1
     assert parse(["app", "--workers", str(MAX_WORKERS)]).workers == MAX_WORKERS
@@ -152,7 +152,7 @@ def test_the_cli_cap_is_the_servers():
 
 
 def test_serve_checks_workers_itself():
-    from app.server import serve
+    from solsphere.app.server import serve
     from solsphere.errors import InputError
     for bad in (0, -3, 2.5, "2", True):
         with pytest.raises(InputError, match="--workers"):
@@ -171,7 +171,7 @@ class _FakeApp:
 @pytest.fixture
 def fake_serving(monkeypatch):
     """serve() with the app, the socket and gunicorn replaced by recorders."""
-    from app import server
+    from solsphere.app import server
     calls = []
     monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp(calls))
     monkeypatch.setattr(server, "listen_socket",
@@ -200,7 +200,7 @@ def test_one_worker_is_the_threaded_server(fake_serving):
 
 
 def test_without_gunicorn_it_says_so_and_serves_with_one_process(fake_serving, monkeypatch):
-    from app import server
+    from solsphere.app import server
     monkeypatch.setattr(server, "prefork_unavailable",
                         lambda: "the 'gunicorn' package (install it with: pip install gunicorn)")
     rc, _, err = run(["app", "--workers", "3"])
@@ -211,7 +211,7 @@ def test_without_gunicorn_it_says_so_and_serves_with_one_process(fake_serving, m
 
 
 def test_a_busy_port_is_one_line_and_exit_2(monkeypatch):
-    from app import server
+    from solsphere.app import server
     monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp([]))
     with socket.socket() as taken:
         taken.bind(("127.0.0.1", 0))
@@ -224,7 +224,7 @@ def test_a_busy_port_is_one_line_and_exit_2(monkeypatch):
 
 
 def test_an_unknown_host_is_one_line():
-    from app.server import listen_socket
+    from solsphere.app.server import listen_socket
     from solsphere.errors import InputError
     with pytest.raises(InputError, match="not known") as exc:
         listen_socket("no-such-host.invalid", 8050)
@@ -234,7 +234,7 @@ def test_an_unknown_host_is_one_line():
 def test_the_worker_settings_are_real_gunicorn_settings():
     pytest.importorskip("gunicorn")
     from gunicorn.config import Config
-    from app.server import WORKER_TIMEOUT, worker_options
+    from solsphere.app.server import WORKER_TIMEOUT, worker_options
     opts = worker_options(7, 3)
     cfg = Config()
     for k, v in opts.items():
@@ -273,7 +273,7 @@ def test_callbacks_leave_module_state_alone(lib, projects):
     module-level container of app/ is unchanged, so a worker's answers depend on the
     request only."""
     import json
-    from app.server import create_app
+    from solsphere.app.server import create_app
     rows, expected = projects
     dash_app = create_app()
     before = _module_state()

@@ -31,11 +31,13 @@ from pathlib import Path
 import pytest
 
 from clirun import run_cli
-from solsphere import fileio, project as P, trials as T
-from solsphere.library import load_library
+from solsphere.io import files as fileio
+from solsphere.io import project as P
+from solsphere.io import trials as T
+from solsphere.library.table import load_library
 
 ROOT = Path(__file__).resolve().parent.parent
-SOURCES = sorted([*ROOT.glob("solsphere/*.py"), *ROOT.glob("app/*.py"), *ROOT.glob("data/*.py")])
+SOURCES = sorted([*ROOT.glob("solsphere/**/*.py"), *ROOT.glob("app/*.py"), *ROOT.glob("data/*.py")])
 
 # ------------------------------------------------------------------ 1. source scan
 
@@ -48,7 +50,7 @@ WRITE_METHODS = {"write_text", "write_bytes", "write_html", "write_image", "writ
 WRITE_FUNCTIONS = {"open", "fdopen", "copyfile", "copy", "copy2", "move"}
 #: The writes that are allowed, and why: (file, enclosing function) -> reason.
 ALLOWED = {
-    ("solsphere/fileio.py", "atomic_write_text"):
+    ("solsphere/io/files.py", "atomic_write_text"):
         "the atomic write itself: a private temporary file, fsync-ed, then os.replace",
     ("data/build_solvents.py", "main"):
         "developer script that regenerates the packaged solvents.csv (never a user's file)",
@@ -169,7 +171,7 @@ def test_every_write_in_the_package_and_the_app_is_atomic_or_private():
     for key in ALLOWED:
         assert any((w["file"], w["function"]) == key for w in found), key
     # and the user-facing saves do go through the atomic writer
-    assert "atomic_write_text(path, text)" in (ROOT / "solsphere/project.py").read_text()
+    assert "atomic_write_text(path, text)" in (ROOT / "solsphere/io/project.py").read_text()
     assert "atomic_write_text(args.output, page)" in (ROOT / "solsphere/cli.py").read_text()
 
 
@@ -222,8 +224,10 @@ def test_disk_full_during_share_keeps_the_old_page(tmp_path, monkeypatch):
 CHILD = r"""
 import os, sys, time
 sys.path.insert(0, os.getcwd())
-from solsphere import fileio, project as P, trials as T
-from solsphere.library import load_library
+from solsphere.io import files as fileio
+from solsphere.io import project as P
+from solsphere.io import trials as T
+from solsphere.library.table import load_library
 
 mode, target, n = sys.argv[1], sys.argv[2], int(sys.argv[3])
 lib = load_library()
@@ -358,7 +362,7 @@ def _post(client, deps, output_prefix: str, inputs: dict, state: dict | None = N
 
 
 def test_the_app_never_writes_the_file_it_was_opened_on(tmp_path):
-    from app.server import create_app
+    from solsphere.app.server import create_app
     bench = tmp_path / "bench.csv"
     bench.write_text(BENCH)
     proj = tmp_path / "opened.json"

@@ -31,7 +31,7 @@ import pytest
 
 from solsphere import cli
 from solsphere.errors import InputError
-from solsphere.library import load_library
+from solsphere.library.table import load_library
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -675,7 +675,7 @@ UPLOAD_REFUSED = [
 
 @pytest.mark.parametrize("case", UPLOAD_REFUSED, ids=[c[0] for c in UPLOAD_REFUSED])
 def test_upload_refused(case, lib, project_doc):
-    from app import logic
+    from solsphere.app import logic
     cid, contents, filename, line, column, words = case
     if cid == "newer-project":
         contents = data_url(_mut(project_doc, _set(2, "schema_version")).encode(), "application/json")
@@ -703,7 +703,7 @@ UPLOAD_ACCEPTED = [
 @pytest.mark.parametrize("case", UPLOAD_ACCEPTED, ids=[c[0] for c in UPLOAD_ACCEPTED])
 def test_upload_accepted(case, lib, project_doc, tmp_path, monkeypatch):
     import tempfile
-    from app import logic
+    from solsphere.app import logic
     cid, data, filename, n = case
     if data is None:
         data = json.dumps(project_doc).encode()
@@ -722,7 +722,7 @@ def test_upload_accepted(case, lib, project_doc, tmp_path, monkeypatch):
 
 def test_upload_too_big_before_decoding_is_cheap():
     """The size is judged from the base64 length, before decoding 20 MB of junk."""
-    from app import logic
+    from solsphere.app import logic
     huge = "data:text/csv;base64," + "A" * 28_000_000
     with pytest.raises(InputError) as info:
         logic.decode_upload(huge, "huge.csv")
@@ -749,7 +749,7 @@ TABLE_JUNK = [
 @pytest.mark.parametrize("cid,rows", TABLE_JUNK, ids=[c[0] for c in TABLE_JUNK])
 def test_table_junk_is_marked_not_raised(cid, rows, lib):
     """What the browser (or a crafted request) puts in the table: marks, never a crash."""
-    from app import logic
+    from solsphere.app import logic
     good = [{"solvent": s, "outcome": logic.WORDS[o]} for s, o in BASE_ROWS]
     result = logic.compute_fit(rows + good, "good", lib)
     json.dumps(result, allow_nan=False)  # the store must stay valid JSON
@@ -765,15 +765,15 @@ def test_table_junk_is_marked_not_raised(cid, rows, lib):
 
 def _blend_designer():
     """The app's blend-designer logic (it has lived in app.logic and app.blendlogic)."""
-    from app import logic
+    from solsphere.app import logic
     if hasattr(logic, "blend_designer"):
         return logic.blend_designer
-    from app import blendlogic
+    from solsphere.app import blendlogic
     return blendlogic.blend_designer
 
 
 def test_shelf_upload_junk_gives_a_message_not_an_exception(lib):
-    from app import logic
+    from solsphere.app import logic
     blend_designer = _blend_designer()
     fit = logic.compute_fit([{"solvent": s, "outcome": logic.WORDS[o]} for s, o in BASE_ROWS],
                             "good", lib)
@@ -808,13 +808,13 @@ SMALL_ROWS = [{"solvent": s, "outcome": {"good": "dissolves", "bad": "does not"}
 
 
 def test_crafted_partial_setting_gives_a_message(lib):
-    from app import logic
+    from solsphere.app import logic
     result = logic.compute_fit(SMALL_ROWS, "maybe", lib)
     assert result["fit"] is None and "partial" in (result["fit_error"] or "")
 
 
 def test_crafted_negative_shortlist_length_gives_a_message(lib):
-    from app import logic
+    from solsphere.app import logic
     result = logic.compute_fit(SMALL_ROWS, "good", lib)
     out = logic.shortlist(result, lib, top=-3)
     assert out["rows"] == [] and out["message"]
@@ -823,7 +823,7 @@ def test_crafted_negative_shortlist_length_gives_a_message(lib):
 def test_a_request_that_fails_does_not_stop_the_server(lib):
     """After a crafted request errors, the same server answers the next user normally."""
     import logging
-    from app.server import create_app
+    from solsphere.app.server import create_app
     app = create_app()
     app.server.logger.setLevel(logging.CRITICAL)  # the 500's trace stays out of the output
     client = app.server.test_client()

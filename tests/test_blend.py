@@ -17,11 +17,11 @@ import numpy as np
 import pytest
 from scipy.optimize import minimize_scalar
 
-import solsphere.blend as blend_mod
-from solsphere.blend import (CAUTION, Blend, BlendScreen, best_fraction, inside_window,
+import solsphere.design.pairs as blend_mod
+from solsphere.design.pairs import (CAUTION, Blend, BlendScreen, best_fraction, inside_window,
                              mass_fractions, pair_screen, screen_blends)
-from solsphere.hsp import mix, ra
-from solsphere.library import Solvent
+from solsphere.hansen import mix, ra
+from solsphere.library.table import Solvent
 
 # ---- the hand-worked example --------------------------------------------------------
 # a = (18, 12, 6), b = (15, 0, 10), centre c = (16.75, 2, 9), R0 = 3 (all MPa½).
@@ -325,7 +325,7 @@ def test_to_dict_contract_and_json():
 
 
 def test_component_flags_are_the_librarys_with_names():
-    from solsphere.library import hazard_flags
+    from solsphere.library.table import hazard_flags
     hot = _solv("hot", A, flash_point=-18.0)
     safe = _solv("safe", B, flash_point=95.0, twa_ppm=100.0)
     flags = blend_mod._component_flags([hot, safe])
@@ -354,7 +354,7 @@ def test_doctests():
 def test_packaged_library_smoke():
     """Optional: screen a few packaged liquids if the library loads (else skip)."""
     try:
-        from solsphere.library import load_library
+        from solsphere.library.table import load_library
         lib = load_library()
         records = list(lib)[:60]
     except Exception as exc:  # library still being written
@@ -368,7 +368,7 @@ def test_packaged_library_smoke():
 
 
 def test_miscibility_warning():
-    from solsphere.blend import may_not_mix, miscibility_warning
+    from solsphere.design.pairs import may_not_mix, miscibility_warning
     # Library-like points (Hansen handbook values, from memory); log P from common practice.
     water = _solv("water", (15.5, 16.0, 42.3), cas="7732-18-5")
     heptane = _solv("heptane", (15.3, 0.0, 0.0), log_p=4.66)
@@ -416,8 +416,8 @@ def test_miscibility_caution_against_a_miscibility_table():
     # the blend separates), and be right on most pairs overall. Measured: all 19 splits
     # caught, 9 of 23 miscible pairs cautioned wrongly (alcohols with hydrocarbons: the
     # regular-solution estimate misses their association), 33 of 42 right.
-    from solsphere.blend import miscibility_warning
-    from solsphere.library import load_library
+    from solsphere.design.pairs import miscibility_warning
+    from solsphere.library.table import load_library
     lib = load_library()
     right, missed = 0, []
     for a, b, mixes in MISCIBILITY_TABLE:

@@ -21,8 +21,10 @@ from pathlib import Path
 
 import pytest
 
-from solsphere import cli, fileio
-from solsphere.library import load_library
+from solsphere import cli
+
+from solsphere.io import files as fileio
+from solsphere.library.table import load_library
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "data" / "demo" / "varnish_binder.csv"

@@ -18,9 +18,9 @@ from pathlib import Path
 import pytest
 
 from solsphere import cli
-from solsphere.common import FAMILIES, POOLS, common_cas, load_common, read_common
-from solsphere.library import Library, Solvent, load_library
-from solsphere.session import candidate_pool
+from solsphere.library.pools import FAMILIES, POOLS, common_cas, load_common, read_common
+from solsphere.library.table import Library, Solvent, load_library
+from solsphere.workflows import candidate_pool
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "data" / "demo" / "varnish_binder.csv"
@@ -228,7 +228,7 @@ def test_pool_help_text_names_both_choices(capsys):
 
 @pytest.fixture(scope="module")
 def demo_result(lib):
-    from app import logic
+    from solsphere.app import logic
     st = logic.demo_state(lib)
     return logic.compute_fit(st["rows"], "good", lib)
 
@@ -247,7 +247,7 @@ def _find(component, cid):
 
 
 def test_checkbox_defaults_per_screen(lib):
-    from app import blends, nexttrials, replace, trynext
+    from solsphere.app import blends, nexttrials, replace, trynext
     assert _find(nexttrials.panel(), "nt-common").value == ["on"]
     assert _find(trynext.panel(), "next-common").value == []
     assert _find(blends.panel(lib), "blend-common").value == []
@@ -257,7 +257,7 @@ def test_checkbox_defaults_per_screen(lib):
 
 
 def test_shortlist_honours_the_checkbox(demo_result, lib):
-    from app import logic
+    from solsphere.app import logic
     keep = common_cas()
     on = logic.shortlist(demo_result, lib, top=200, common_only=True)
     off = logic.shortlist(demo_result, lib, top=200)
@@ -267,7 +267,7 @@ def test_shortlist_honours_the_checkbox(demo_result, lib):
 
 
 def test_blend_designer_honours_the_checkbox(demo_result, lib):
-    from app import blendlogic
+    from solsphere.app import blendlogic
     keep = common_cas()
     on = blendlogic.blend_designer(demo_result, lib, top=10, common_only=True)
     assert on["blends"] and "common solvents" in on["message"]
@@ -282,7 +282,7 @@ def test_blend_designer_honours_the_checkbox(demo_result, lib):
 
 
 def test_next_trials_pool_follows_the_checkbox(demo_result, lib):
-    from app import uncertainty
+    from solsphere.app import uncertainty
     keep = common_cas()
     on = uncertainty.next_trials(demo_result, lib, n=3, n_samples=200)
     assert on["suggestions"] and all(lib.lookup(s["name"]).cas in keep
@@ -298,6 +298,6 @@ def test_next_trials_pool_follows_the_checkbox(demo_result, lib):
 def test_doctests():
     import doctest
 
-    from solsphere import common
+    from solsphere.library import pools as common
     failures, tried = doctest.testmod(common)
     assert tried >= 1 and failures == 0

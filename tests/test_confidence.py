@@ -13,11 +13,11 @@ import numpy as np
 import pytest
 from scipy.special import expit
 
-from solsphere.confidence import (WARM_SEARCH, Bootstrap, binary_data, bootstrap,
+from solsphere.uncertainty.bootstrap import (WARM_SEARCH, Bootstrap, binary_data, bootstrap,
                                   influence, resample_counts)
 from solsphere.errors import FitError
-from solsphere.fit import default_bounds, desirability, fit_sphere
-from solsphere.hsp import ra
+from solsphere.models.classic import default_bounds, desirability, fit_sphere
+from solsphere.hansen import ra
 
 
 def panel(seed=2024, n=40, flips=4, centre=(17.8, 8.5, 9.5), R0=7.0):

@@ -9,9 +9,9 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from solsphere.drying import (DryingPath, drying_path, mole_to_volume_fractions,
+from solsphere.mixtures.drying import (DryingPath, drying_path, mole_to_volume_fractions,
                               volume_to_mole_fractions)
-from solsphere.hsp import mix, red
+from solsphere.hansen import mix, red
 
 # ---------------------------------------------------------------------------------------
 # Hand-worked two-component case (invented round numbers).

@@ -19,10 +19,12 @@ import math
 import numpy as np
 import pytest
 
-from solsphere import cli, trials as T
+from solsphere import cli
+
+from solsphere.io import trials as T
 from solsphere.errors import FitError
-from solsphere.fit import SphereModel
-from solsphere.library import load_library
+from solsphere.models.classic import SphereModel
+from solsphere.library.table import load_library
 
 
 @pytest.fixture(scope="module")

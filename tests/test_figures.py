@@ -15,7 +15,7 @@ import re
 import numpy as np
 import pytest
 
-from solsphere import figures
+from solsphere.report import figures
 
 GOOD, BAD, PARTIAL = "#1b9e77", "#d95f02", "#7570b3"
 UNTRIED, BLEND, SPHERE = "#bbbbbb", "#e6ab02", "#666666"
@@ -148,7 +148,7 @@ def test_empty_untried_partial_outcomes_no_misfits_no_blends():
 
 
 def test_from_a_real_fit_result():
-    from solsphere.fit import SphereModel
+    from solsphere.models.classic import SphereModel
     X = [[18, 6, 6], [17, 7, 5], [17.5, 5, 7], [16, 6, 6], [15, 16, 20], [19, 1, 1],
          [14, 0, 0], [20, 20, 20], [16.5, 9, 12]]  # invented
     o = ["good", "good", "good", "partial", "bad", "bad", "bad", "bad", "partial"]

@@ -8,7 +8,7 @@ import stat
 
 import pytest
 
-from solsphere import fileio
+from solsphere.io import files as fileio
 from solsphere.errors import InputError
 
 TEXT = "solvent,outcome,note\ntoluene,good,25 °C δ\n"

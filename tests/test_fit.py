@@ -13,9 +13,9 @@ import numpy as np
 import pytest
 
 from solsphere.errors import FitError, NotFittedError
-from solsphere.fit import (SphereFit, SphereModel, best_radius, default_bounds,
+from solsphere.models.classic import (SphereFit, SphereModel, best_radius, default_bounds,
                            desirability, fit_sphere, grid_search)
-from solsphere.hsp import ra
+from solsphere.hansen import ra
 
 
 def invented_panel(seed, n=30, centre=(17.5, 8.0, 9.0), R0=6.5, flips=0, box=None):
@@ -280,7 +280,7 @@ def test_perfect_fit_plateau_keeps_the_smallest_sphere():
     # A perfect fit can score -ln D = 1e-16 instead of 0 by rounding; that must still tie
     # with an exact 0 so the smallest R0 wins. Invented points: the three goods lie on a
     # sphere of Ra = 2 around (18, 10, 7), the bads far outside.
-    from solsphere.fit import fit_sphere
+    from solsphere.models.classic import fit_sphere
     goods = [(17, 10, 7), (19, 10, 7), (18, 10, 9)]
     bads = [(10, 30, 30), (25, 0, 0), (14, 2, 20), (12, 25, 2)]
     X = np.array(goods + bads, dtype=float)

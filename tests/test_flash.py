@@ -8,7 +8,7 @@ import math
 import numpy as np
 import pytest
 
-from solsphere.flash import blend_flash_point, clausius_clapeyron_B, vapour_pressure
+from solsphere.mixtures.flash import blend_flash_point, clausius_clapeyron_B, vapour_pressure
 
 K = 273.15
 # Approximate data for two invented-but-realistic components (not a reference check):

@@ -37,12 +37,16 @@ import pytest
 from hypothesis import HealthCheck, event, given, settings
 from hypothesis import strategies as st
 
-from solsphere import fileio, project as P, trials as T
+from solsphere.io import files as fileio
+
+from solsphere.io import project as P
+
+from solsphere.io import trials as T
 from solsphere.errors import FitError, InputError
-from solsphere.fit import SphereModel, best_radius
-from solsphere.hsp import ra
-from solsphere.library import load_library
-from solsphere.shelf import read_shelf
+from solsphere.models.classic import SphereModel, best_radius
+from solsphere.hansen import ra
+from solsphere.library.table import load_library
+from solsphere.io.shelf import read_shelf
 
 _HC = [HealthCheck.too_slow, HealthCheck.data_too_large, HealthCheck.filter_too_much]
 settings.register_profile("solsphere-fast", max_examples=40, deadline=None,

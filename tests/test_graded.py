@@ -13,9 +13,9 @@ import pytest
 from scipy.optimize import approx_fprime
 
 from solsphere.errors import FitError, NotFittedError
-from solsphere.fit import fit_sphere
-from solsphere.graded import GradedModel, graded_nll
-from solsphere.hsp import ra
+from solsphere.models.classic import fit_sphere
+from solsphere.models.graded import GradedModel, graded_nll
+from solsphere.hansen import ra
 
 C, R = np.array([17.5, 8.0, 9.0]), 6.5
 

@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from solsphere.hsp import (GAS_CONSTANT, flory_huggins_chi, ra, shift_to_temperature,
+from solsphere.hansen import (GAS_CONSTANT, flory_huggins_chi, ra, shift_to_temperature,
                            thermal_expansion)
 
 TOLUENE = [18.0, 1.4, 2.0]  # Hansen's table values for toluene, from memory

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from solsphere.errors import InputError, UnknownSolventError
-from solsphere.library import (GHS_FLASH_CATEGORY_2_C, LOW_EXPOSURE_LIMIT_PPM, Library,
+from solsphere.library.table import (GHS_FLASH_CATEGORY_2_C, LOW_EXPOSURE_LIMIT_PPM, Library,
                                Solvent, hazard_flags, load_library, normalise)
 
 DATA = Path(__file__).resolve().parent.parent / "data"

@@ -11,10 +11,10 @@ from collections import Counter
 import numpy as np
 import pytest
 
-from solsphere.confidence import Bootstrap, bootstrap
-from solsphere.hsp import ra
-from solsphere.library import Library, Solvent
-from solsphere.nexttrial import CAUTION, select_informative, suggest_next
+from solsphere.uncertainty.bootstrap import Bootstrap, bootstrap
+from solsphere.hansen import ra
+from solsphere.library.table import Library, Solvent
+from solsphere.uncertainty.nexttrials import CAUTION, select_informative, suggest_next
 
 
 def entropy_of_patterns(rows) -> float:

@@ -7,12 +7,12 @@ import json
 import numpy as np
 import pytest
 
-from solsphere.confidence import bootstrap
+from solsphere.uncertainty.bootstrap import bootstrap
 from solsphere.errors import FitError
-from solsphere.graded import graded_nll
-from solsphere.hsp import ra
-from solsphere.nexttrial import suggest_next
-from solsphere.posterior import _stretch_sampler, log_posterior, sample_posterior
+from solsphere.models.graded import graded_nll
+from solsphere.hansen import ra
+from solsphere.uncertainty.nexttrials import suggest_next
+from solsphere.uncertainty.posterior import _stretch_sampler, log_posterior, sample_posterior
 
 from test_confidence import synthetic
 
@@ -172,5 +172,5 @@ def test_suggest_next_posterior_engine(lib_liquids):
 
 @pytest.fixture(scope="module")
 def lib_liquids():
-    from solsphere.library import load_library
+    from solsphere.library.table import load_library
     return list(load_library().liquids())

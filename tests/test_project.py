@@ -9,9 +9,13 @@ import os
 import numpy as np
 import pytest
 
-from solsphere import fileio, project as P, trials as T
+from solsphere.io import files as fileio
+
+from solsphere.io import project as P
+
+from solsphere.io import trials as T
 from solsphere.errors import InputError, UnknownSolventError
-from solsphere.library import Solvent
+from solsphere.library.table import Solvent
 
 # Test inputs of our own (close to handbook values, from memory).
 RECORDS = [
@@ -39,7 +43,7 @@ class FakeLibrary:
 
 def make_library(records):
     try:
-        from solsphere.library import Library
+        from solsphere.library.table import Library
         return Library.from_records(list(records))
     except (ImportError, AttributeError, NotImplementedError):
         return FakeLibrary(records)

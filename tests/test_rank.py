@@ -13,8 +13,8 @@ import math
 
 import pytest
 
-from solsphere.library import Solvent, hazard_flags
-from solsphere.rank import CAUTION, Ranking, format_table, rank_solvents
+from solsphere.library.table import Solvent, hazard_flags
+from solsphere.design.ranking import CAUTION, Ranking, format_table, rank_solvents
 
 POOL = [
     Solvent("alpha", 18.0, 1.4, 2.0, cas="1-00-1", flash_point=4.0, boiling_point=111.0,

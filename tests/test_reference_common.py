@@ -15,8 +15,8 @@ from __future__ import annotations
 
 import pytest
 
-from solsphere.common import common_cas
-from solsphere.library import load_library
+from solsphere.library.pools import common_cas
+from solsphere.library.table import load_library
 
 # name -> normal boiling point [°C], CRC Handbook of Chemistry and Physics, from memory
 CRC_BOILING_POINTS = {

@@ -23,7 +23,7 @@ import pytest
 
 chemicals = pytest.importorskip("chemicals")
 
-from solsphere.library import load_library  # noqa: E402
+from solsphere.library.table import load_library  # noqa: E402
 
 ROOT = Path(__file__).resolve().parent.parent
 # The winner rule of data/README.md, written out again here on purpose (not imported from

@@ -27,10 +27,10 @@ import pytest
 
 from clirun import run_cli
 from solsphere import cli
-from solsphere.library import load_library
+from solsphere.library.table import load_library
 
 ROOT = Path(__file__).resolve().parent.parent
-SOURCES = sorted([*ROOT.glob("solsphere/*.py"), *ROOT.glob("app/*.py"), *ROOT.glob("data/*.py")])
+SOURCES = sorted([*ROOT.glob("solsphere/**/*.py"), *ROOT.glob("app/*.py"), *ROOT.glob("data/*.py")])
 EVIL_NAME = "<script>alert(1)</script>"
 EVIL_NOTE = "<img src=x onerror=alert(2)>"
 EVIL_TITLE = "<b onmouseover=alert(3)>binder</b>"
@@ -43,7 +43,7 @@ run = run_cli
 
 
 def test_loopback_is_the_default_everywhere():
-    from app import server
+    from solsphere.app import server
     assert cli.build_parser().parse_args(["app"]).host == "127.0.0.1"
     assert inspect.signature(server.serve).parameters["host"].default == "127.0.0.1"
 
@@ -55,7 +55,7 @@ def test_loopback_is_the_default_everywhere():
     ("lab-server.example", False), ("", False), ("127.0.0.1.nip.io", False),
 ])
 def test_loopback_detection(host, loopback):
-    from app.server import is_loopback, network_warning
+    from solsphere.app.server import is_loopback, network_warning
     assert is_loopback(host) is loopback
     warning = network_warning(host, 8050)
     assert (warning is None) is loopback
@@ -75,7 +75,7 @@ class _FakeApp:
                                          (["app", "--host", "0.0.0.0", "--port", "8123"], True),
                                          (["app", "--host", "::1"], False)])
 def test_the_command_warns_on_public_binding(argv, warned, monkeypatch):
-    from app import server
+    from solsphere.app import server
     calls = []
     monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp(calls))
     rc, out, err = run(argv)
@@ -91,7 +91,7 @@ def test_the_command_warns_on_public_binding(argv, warned, monkeypatch):
 
 
 def test_upload_limit_is_enforced_at_the_boundary():
-    from app import logic
+    from solsphere.app import logic
     from solsphere.errors import InputError
     limit = logic.UPLOAD_LIMIT
     assert limit == 5_000_000
@@ -103,12 +103,12 @@ def test_upload_limit_is_enforced_at_the_boundary():
 
 
 def test_the_browser_check_uses_the_same_limit():
-    from app import bench, logic
+    from solsphere.app import bench, logic
     assert f"size > {logic.UPLOAD_LIMIT}" in bench.CHECK_UPLOAD_JS
 
 
 def test_the_http_server_refuses_huge_request_bodies():
-    from app.server import MAX_REQUEST_BYTES, create_app
+    from solsphere.app.server import MAX_REQUEST_BYTES, create_app
     app = create_app()
     assert app.server.config["MAX_CONTENT_LENGTH"] == MAX_REQUEST_BYTES
     client = app.server.test_client()
@@ -207,8 +207,9 @@ def test_share_page_escapes_user_names_notes_and_title(evil_bench, tmp_path):
 
 
 def test_figure_hover_text_is_escaped(evil_bench):
-    from solsphere import figures, trials as T
-    from solsphere.fit import SphereModel
+    from solsphere.report import figures
+    from solsphere.io import trials as T
+    from solsphere.models.classic import SphereModel
     lib = load_library()
     fit = SphereModel().fit(T.read(evil_bench, library=lib)).result_.to_dict()
     fig = figures.map3d(fit, highlight=[{"name": EVIL_NAME, "dD": 17, "dP": 6, "dH": 7}])
@@ -225,7 +226,7 @@ def test_figure_hover_text_is_escaped(evil_bench):
 
 def test_share_html_escapes_every_text_argument():
     import plotly.graph_objects as go
-    from solsphere.figures import share_html
+    from solsphere.report.figures import share_html
     page = share_html(go.Figure(), go.Figure(), report=EVIL_NAME, title=EVIL_TITLE,
                       extra_sections=[(EVIL_NOTE, EVIL_NAME)], caution=EVIL_NOTE)
     for raw in (EVIL_NAME, EVIL_NOTE, EVIL_TITLE):
@@ -247,7 +248,7 @@ def test_the_app_has_no_raw_html_components():
 def test_app_messages_carry_user_text_as_plain_strings(evil_bench):
     """The summary and the problem list get the name as a string child (text), and the
     download name made from a hostile file name is harmless."""
-    from app import logic, sphere
+    from solsphere.app import logic, sphere
     lib = load_library()
     st = logic.open_upload("data:text/csv;base64," + base64.b64encode(evil_bench.read_bytes())
                            .decode(), f"{EVIL_NOTE}.csv", lib)

@@ -11,11 +11,11 @@ from pathlib import Path
 
 import pytest
 
-from solsphere import session
+from solsphere import workflows as session
 from solsphere.errors import FitError, InputError, UnknownSolventError
-from solsphere.library import load_library
-from solsphere.project import Project
-from solsphere.trials import read as read_trials
+from solsphere.library.table import load_library
+from solsphere.io.project import Project
+from solsphere.io.trials import read as read_trials
 
 ROOT = Path(__file__).resolve().parent.parent
 DEMO = ROOT / "data" / "demo" / "varnish_binder.csv"

@@ -5,8 +5,8 @@ from __future__ import annotations
 import pytest
 
 from solsphere.errors import InputError, UnknownSolventError
-from solsphere.library import load_library
-from solsphere.shelf import read_shelf
+from solsphere.library.table import load_library
+from solsphere.io.shelf import read_shelf
 
 
 @pytest.fixture(scope="module")

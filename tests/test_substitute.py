@@ -2,9 +2,9 @@
 
 import pytest
 
-from solsphere import hsp
-from solsphere.library import Solvent
-from solsphere.substitute import find_substitutes
+from solsphere import hansen as hsp
+from solsphere.library.table import Solvent
+from solsphere.design.substitution import find_substitutes
 
 # Invented points with round numbers (not real solvents).
 POOL = [

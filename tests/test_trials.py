@@ -13,9 +13,9 @@ import re
 import numpy as np
 import pytest
 
-from solsphere import trials as T
+from solsphere.io import trials as T
 from solsphere.errors import InputError, UnknownSolventError
-from solsphere.library import Solvent
+from solsphere.library.table import Solvent
 
 RECORDS = [
     Solvent("toluene", 18.0, 1.4, 2.0, cas="108-88-3", synonyms=("methylbenzene",)),
@@ -59,7 +59,7 @@ class FakeLibrary:
 
 def make_library(records=RECORDS):
     try:
-        from solsphere.library import Library
+        from solsphere.library.table import Library
         return Library.from_records(list(records))
     except (ImportError, AttributeError, NotImplementedError):
         return FakeLibrary(records)
@@ -457,7 +457,7 @@ def test_trials_dict_round_trip():
 
 def test_real_library_integration(tmp_path):
     try:
-        from solsphere.library import load_library
+        from solsphere.library.table import load_library
         lib = load_library()
         tol, eth = lib.lookup("toluene"), lib.lookup("ethanol")
     except Exception as exc:  # not built yet

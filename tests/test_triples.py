@@ -17,11 +17,11 @@ import numpy as np
 import pytest
 from scipy.optimize import minimize
 
-import solsphere.triples as triples_mod
-from solsphere.blend import CAUTION, Blend, BlendScreen, best_fraction, screen_blends
-from solsphere.hsp import mix, ra
-from solsphere.library import Solvent
-from solsphere.triples import (Blend3, TripleScreen, best_fractions3, inside_area_fraction,
+import solsphere.design.triples as triples_mod
+from solsphere.design.pairs import CAUTION, Blend, BlendScreen, best_fraction, screen_blends
+from solsphere.hansen import mix, ra
+from solsphere.library.table import Solvent
+from solsphere.design.triples import (Blend3, TripleScreen, best_fractions3, inside_area_fraction,
                                mass_fractions3, screen_triples, triple_screen)
 
 # ---- the hand-worked example --------------------------------------------------------
@@ -570,7 +570,7 @@ def test_doctests():
 def test_packaged_library_smoke():
     """Optional: screen a few packaged liquids if the library loads (else skip)."""
     try:
-        from solsphere.library import load_library
+        from solsphere.library.table import load_library
         lib = load_library()
         liquids = [s for s in lib.liquids()][:12]
     except Exception as exc:  # the library is being written by another helper
@@ -582,7 +582,7 @@ def test_packaged_library_smoke():
 
 
 def test_triple_shortlist_keeps_nearest_partners_and_named():
-    from solsphere.triples import triple_shortlist
+    from solsphere.design.triples import triple_shortlist
     rng = np.random.default_rng(7)
     pts = rng.uniform([14, 0, 0], [21, 20, 30], size=(200, 3))  # invented points
     pool = [Solvent(name=f"s{k}", dD=p[0], dP=p[1], dH=p[2]) for k, p in enumerate(pts)]

@@ -10,8 +10,8 @@ import math
 import numpy as np
 import pytest
 
-from solsphere.hsp import ra
-from solsphere.twosphere import fit_two_spheres, union_loss
+from solsphere.hansen import ra
+from solsphere.models.twosphere import fit_two_spheres, union_loss
 
 A, B, R = (16.5, 4.5, 5.0), (18.5, 16.0, 17.0), 6.0
 

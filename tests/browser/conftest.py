@@ -42,7 +42,7 @@ def pytest_collection_modifyitems(config, items):
 def server():
     """The app on a free loopback port (werkzeug, threaded, in a daemon thread)."""
     from werkzeug.serving import make_server
-    from app.server import create_app
+    from solsphere.app.server import create_app
     logging.getLogger("werkzeug").setLevel(logging.ERROR)  # no request log in test output
     dash_app = create_app()
     srv = make_server("127.0.0.1", 0, dash_app.server, threaded=True)

@@ -146,7 +146,7 @@ def main(argv=None) -> int:
     ap.add_argument("--no-baseline", dest="baseline", action="store_false",
                     help="skip the information run with --workers 1 (about 15 s)")
     args = ap.parse_args(argv)
-    from solsphere.library import load_library
+    from solsphere.library.table import load_library
     library = load_library()
     projects = make_projects(library, CLIENTS)
     expected = [expected_fit(rows, library) for rows in projects]

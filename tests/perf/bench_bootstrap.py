@@ -28,8 +28,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from bench_fit import panel  # noqa: E402
 from benchtime import timed  # noqa: E402
-from solsphere.confidence import bootstrap, resample_counts  # noqa: E402
-from solsphere.fit import default_bounds, fit_sphere  # noqa: E402
+from solsphere.uncertainty.bootstrap import bootstrap, resample_counts  # noqa: E402
+from solsphere.models.classic import default_bounds, fit_sphere  # noqa: E402
 
 TARGET = 2.0
 GOAL_S = 10.0

@@ -20,8 +20,8 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
 from benchtime import timed  # noqa: E402
-from solsphere.fit import default_bounds, fit_sphere, grid_search  # noqa: E402
-from solsphere.hsp import ra  # noqa: E402
+from solsphere.models.classic import default_bounds, fit_sphere, grid_search  # noqa: E402
+from solsphere.hansen import ra  # noqa: E402
 
 TARGET = 30.0
 

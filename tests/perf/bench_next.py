@@ -49,12 +49,12 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
 
-from solsphere.confidence import bootstrap  # noqa: E402
-from solsphere.posterior import sample_posterior  # noqa: E402
-from solsphere.fit import default_bounds  # noqa: E402
-from solsphere.hsp import ra  # noqa: E402
-from solsphere.library import load_library  # noqa: E402
-from solsphere.nexttrial import suggest_next  # noqa: E402
+from solsphere.uncertainty.bootstrap import bootstrap  # noqa: E402
+from solsphere.uncertainty.posterior import sample_posterior  # noqa: E402
+from solsphere.models.classic import default_bounds  # noqa: E402
+from solsphere.hansen import ra  # noqa: E402
+from solsphere.library.table import load_library  # noqa: E402
+from solsphere.uncertainty.nexttrials import suggest_next  # noqa: E402
 
 TARGET = 1.3
 ENGINE = sys.argv[1] if len(sys.argv) > 1 else "posterior"  # engine of suggest_next

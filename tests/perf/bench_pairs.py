@@ -24,10 +24,10 @@ from scipy.optimize import minimize_scalar
 from benchtime import median_time
 
 try:
-    from solsphere.blend import pair_screen
+    from solsphere.design.pairs import pair_screen
 except ModuleNotFoundError:  # run from a checkout without installing
     sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-    from solsphere.blend import pair_screen
+    from solsphere.design.pairs import pair_screen
 
 N_POINTS = 800
 N_SUBSET = 3000

@@ -30,12 +30,12 @@ from scipy.optimize import minimize
 from benchtime import median_time
 
 try:
-    from solsphere.triples import screen_triples, triple_screen
+    from solsphere.design.triples import screen_triples, triple_screen
 except ModuleNotFoundError:  # run from a checkout without installing
     sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
-    from solsphere.triples import screen_triples, triple_screen
-from solsphere.hsp import SCALE, ra
-from solsphere.library import Solvent
+    from solsphere.design.triples import screen_triples, triple_screen
+from solsphere.hansen import SCALE, ra
+from solsphere.library.table import Solvent
 
 N_CANDIDATES = 60
 N_SUBSET = 500
@@ -49,7 +49,7 @@ R0 = 6.0
 
 def candidates() -> tuple[list[Solvent], str]:
     try:
-        from solsphere.library import load_library
+        from solsphere.library.table import load_library
         liquids = list(load_library().liquids())
         if len(liquids) < N_CANDIDATES:
             raise ValueError(f"only {len(liquids)} liquids")

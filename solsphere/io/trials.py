@@ -50,9 +50,9 @@ from typing import Any, Iterable, Iterator, Protocol
 
 import numpy as np
 
-from solsphere import hsp
+from solsphere import hansen as hsp
 from solsphere.errors import InputError, UnknownSolventError
-from solsphere.fileio import MAX_FIELD, read_text as _read_file_text
+from solsphere.io.files import MAX_FIELD, read_text as _read_file_text
 
 __all__ = ["Trial", "Trials", "read", "read_text", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
@@ -530,7 +530,7 @@ class _CellProblem(Exception):
 def _get_library(library):
     if library is not None:
         return library
-    from solsphere.library import load_library
+    from solsphere.library.table import load_library
     return load_library()
 
 

@@ -54,9 +54,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .confidence import SampledSpheres, binary_data, edge_notes, percentile_intervals
-from .fit import AXES, MIN_ADVISED, desirability
-from .hsp import SCALE, ra
+from solsphere.uncertainty.bootstrap import SampledSpheres, binary_data, edge_notes, percentile_intervals
+from solsphere.models.classic import AXES, MIN_ADVISED, desirability
+from solsphere.hansen import SCALE, ra
 
 __all__ = ["Posterior", "sample_posterior", "log_posterior"]
 
@@ -275,7 +275,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     >>> p.centres.shape, sorted(p.intervals)
     ((256, 3), ['R0', 'dD', 'dH', 'dP', 'width'])
     """
-    from .graded import GradedModel, _theta_bounds
+    from solsphere.models.graded import GradedModel, _theta_bounds
 
     if partial not in ("good", "bad", "skip"):
         raise ValueError(f"partial must be 'good', 'bad' or 'skip'; found {partial!r}")

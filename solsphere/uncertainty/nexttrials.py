@@ -57,11 +57,11 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.special import expit
 
-from . import confidence
-from .confidence import binary_data
-from .fit import _box
-from .hsp import ra
-from .library import hazard_flags, normalise
+from solsphere.uncertainty import bootstrap as confidence
+from solsphere.uncertainty.bootstrap import binary_data
+from solsphere.models.classic import _box
+from solsphere.hansen import ra
+from solsphere.library.table import hazard_flags, normalise
 
 __all__ = ["Suggestion", "Suggestions", "suggest_next", "select_informative"]
 
@@ -318,7 +318,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     -------
     Suggestions
     """
-    from .posterior import Posterior, sample_posterior
+    from solsphere.uncertainty.posterior import Posterior, sample_posterior
 
     if uncertainty not in ("posterior", "bootstrap"):
         raise ValueError(f"uncertainty must be 'posterior' or 'bootstrap'; found "

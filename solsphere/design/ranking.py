@@ -12,8 +12,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import hsp
-from .library import Solvent, hazard_flags
+from solsphere import hansen as hsp
+from solsphere.library.table import Solvent, hazard_flags
 
 CAUTION = ("Predictions are guides: confirm at the bench. Solvents are flammable and toxic: "
            "read each safety data sheet, work with ventilation and protection; local "

@@ -318,7 +318,7 @@ def share_html(fig3d, fig2d, report: str, title: str = "Hansen solubility sphere
     """One self-contained HTML page (plotly.js inlined, no network) with both figures and
     the plain-text report. All user text is HTML-escaped."""
     from plotly.offline import get_plotlyjs
-    from . import __version__
+    from solsphere import __version__
     extra = "".join(f"<h2>{html.escape(h)}</h2>\n<pre>{html.escape(body)}</pre>\n"
                     for h, body in (extra_sections or []))
     return SHARE_TEMPLATE.format(

@@ -104,7 +104,7 @@ def read_common(text: str, source: str = "common_solvents.csv") -> tuple[CommonS
 @lru_cache(maxsize=1)
 def load_common() -> tuple[CommonSolvent, ...]:
     """The packaged common list, read once per process (cached)."""
-    from .library import _data_dir
+    from solsphere.library.table import _data_dir
     return read_common(_data_dir().joinpath("common_solvents.csv").read_text(encoding="utf-8"))
 
 

@@ -30,9 +30,9 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 from solsphere.errors import InputError
-from solsphere.fileio import atomic_write_text, read_text
-from solsphere import trials as _trials
-from solsphere.trials import Trials
+from solsphere.io.files import atomic_write_text, read_text
+from solsphere.io import trials as _trials
+from solsphere.io.trials import Trials
 
 __all__ = ["Project", "save", "load", "load_any", "is_project_file", "FORMAT",
            "SCHEMA_VERSION", "PROJECT_MAX_BYTES"]

@@ -51,7 +51,7 @@ from typing import Sequence
 import numpy as np
 from scipy.optimize import brentq
 
-from .hsp import as_points, mix, red
+from solsphere.hansen import as_points, mix, red
 
 __all__ = ["DryingPath", "drying_path", "volume_to_mole_fractions",
            "mole_to_volume_fractions"]

@@ -33,8 +33,8 @@ from itertools import product
 import numpy as np
 from scipy.stats import qmc
 
-from .errors import FitError, NotFittedError
-from .hsp import as_points, ra
+from solsphere.errors import FitError, NotFittedError
+from solsphere.hansen import as_points, ra
 
 AXES = ("dD", "dP", "dH")
 WORDS = {"good": "dissolves", "bad": "does not", "partial": "partly"}

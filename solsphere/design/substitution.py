@@ -23,10 +23,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import hsp
-from .blend import pair_screen, _make_blend
-from .library import Solvent, hazard_flags
-from .rank import CAUTION, format_table
+from solsphere import hansen as hsp
+from solsphere.design.pairs import pair_screen, _make_blend
+from solsphere.library.table import Solvent, hazard_flags
+from solsphere.design.ranking import CAUTION, format_table
 
 
 @dataclass

@@ -6,7 +6,7 @@ recomputes what the library returns.
 
 from __future__ import annotations
 
-from .errors import InputError
+from solsphere.errors import InputError
 
 SPREAD_WARN = 1.0  # MPa½: compilations disagreeing by more than this earn a warning (common practice, no source)
 
@@ -32,7 +32,7 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
     -------
     SphereFit or GradedFit
     """
-    from .fit import SphereModel
+    from solsphere.models.classic import SphereModel
     if method not in ("classic", "graded"):
         raise ValueError(f"method must be 'classic' or 'graded'; found {method!r}")
     if method == "graded":
@@ -45,7 +45,7 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
             warnings.append(f"the compilations disagree by {s.spread:.1f} MPa½ for {t.name} "
                             f"(line {t.line}); its coordinates are less certain")
     if method == "graded":
-        from .graded import GradedModel
+        from solsphere.models.graded import GradedModel
         result = GradedModel(partial=partial, seed=seed).fit(project.trials).result_
         result.warnings.extend(warnings)
         return result
@@ -93,9 +93,9 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     filters : dict
         What was applied, for the record.
     """
-    from .common import POOLS
-    from .library import Library
-    from .shelf import read_shelf
+    from solsphere.library.pools import POOLS
+    from solsphere.library.table import Library
+    from solsphere.io.shelf import read_shelf
     if pool not in POOLS:
         raise ValueError(f"pool must be one of {', '.join(map(repr, POOLS))}; found {pool!r}")
     common = pool == "common" and not shelf
@@ -143,9 +143,9 @@ def _describe(filters: dict) -> str:
 def share_page(project, fit, library, title: str | None = None, n_blends: int = 5) -> str:
     """The standalone HTML page for a fitted project: 3D map (with the best blends and
     their drying paths), the projections, and the reports."""
-    from . import figures
-    from .blend import screen_blends
-    from .rank import CAUTION, rank_solvents
+    from solsphere.report import figures
+    from solsphere.design.pairs import screen_blends
+    from solsphere.design.ranking import CAUTION, rank_solvents
     pool, _ = candidate_pool(library)
     tested = set(project.trials.names)
     centre = (fit.dD, fit.dP, fit.dH)
@@ -183,7 +183,7 @@ def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0)
 
     import numpy as np
 
-    from . import hsp
+    from solsphere import hansen as hsp
     if temperature_C is None or abs(temperature_C - reference_C) < 1e-12:
         return list(pool), []
     out, missing = [], []
@@ -220,9 +220,9 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
     list of dict
         The blends as dicts, in the final order.
     """
-    from .blend import may_not_mix
-    from .drying import drying_path, volume_to_mole_fractions
-    from .flash import blend_flash_point, vapour_pressure
+    from solsphere.design.pairs import may_not_mix
+    from solsphere.mixtures.drying import drying_path, volume_to_mole_fractions
+    from solsphere.mixtures.flash import blend_flash_point, vapour_pressure
     by_name = {s.name: s for s in pool}
     out = []
     for b in screen.blends:

@@ -86,11 +86,11 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
 
-from solsphere.blend import (CAUTION, Blend, BlendScreen, _apply_filters, _as_xyz,
+from solsphere.design.pairs import (CAUTION, Blend, BlendScreen, _apply_filters, _as_xyz,
                              _centred, _check_radius, _component_flags, _f, _num, _pct,
                              _plain, _top_order, blend_table, pair_screen)
-from solsphere.hsp import mix, ra
-from solsphere.library import Solvent
+from solsphere.hansen import mix, ra
+from solsphere.library.table import Solvent
 
 __all__ = ["triple_screen", "best_fractions3", "inside_area_fraction", "mass_fractions3",
            "Blend3", "TripleScreen", "screen_triples"]

@@ -71,9 +71,9 @@ from typing import Callable
 
 import numpy as np
 
-from .errors import FitError
-from .fit import AXES, EDGE, MIN_ADVISED, _box, _outcomes, desirability, fit_sphere
-from .hsp import as_points, ra
+from solsphere.errors import FitError
+from solsphere.models.classic import AXES, EDGE, MIN_ADVISED, _box, _outcomes, desirability, fit_sphere
+from solsphere.hansen import as_points, ra
 
 __all__ = ["Bootstrap", "SampledSpheres", "Influence", "bootstrap", "influence", "resample_counts",
            "WARM_SEARCH", "binary_data"]
@@ -184,7 +184,7 @@ def _refit_chunk(X, box, W, G, seeds, search):
             C[i], R[i], D[i] = fit_sphere(X, G[i], weights=W[i], bounds=box,
                                           seed=int(seeds[i]), **search)
         return C, R, D, E
-    from .graded import fit_theta, start_thetas
+    from solsphere.models.graded import fit_theta, start_thetas
 
     for i in range(k):
         y, w = G[i], W[i].astype(float)
@@ -442,7 +442,7 @@ class Bootstrap(SampledSpheres):
 
 def _graded_data(data, good, partial, names, bounds):
     """Points, class codes (2/1/0), names, box and ordinal flag for the graded fit."""
-    from .graded import classes
+    from solsphere.models.graded import classes
 
     if good is None:
         if not hasattr(data, "points"):
@@ -542,7 +542,7 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
         labels, G = g, np.broadcast_to(g, (n_bootstrap, len(g)))
         search = dict(WARM_SEARCH, start=c0[None, :]) if refit == "warm" else {}
     else:
-        from .graded import GradedModel
+        from solsphere.models.graded import GradedModel
 
         partial = "ordinal" if partial is None else partial
         X, y, names, box, ordinal = _graded_data(data, good, partial, names, bounds)

@@ -47,7 +47,7 @@ from typing import Iterable, Iterator, Mapping
 
 import numpy as np
 
-from .errors import UnknownSolventError
+from solsphere.errors import UnknownSolventError
 
 __all__ = [
     "Solvent", "Library", "load_library", "hazard_flags", "normalise",
@@ -299,7 +299,7 @@ class Library:
         number; it leaves out reagents, monomers and intermediates. Being on it says
         nothing about safety.
         """
-        from .common import common_cas
+        from solsphere.library.pools import common_cas
         keep = common_cas()
         return self._subset(i for i, r in enumerate(self.records) if r.cas in keep)
 
@@ -450,7 +450,7 @@ def _data_dir():
     try:
         return files("solsphere.data")
     except ModuleNotFoundError:
-        return Path(__file__).resolve().parent.parent / "data"
+        return Path(__file__).resolve().parents[2] / "data"
 
 
 @lru_cache(maxsize=1)

@@ -53,11 +53,11 @@ import numpy as np
 from scipy.optimize import minimize
 from scipy.special import expit
 
-from .errors import FitError
-from .fit import (AXES, MIN_ADVISED, SURFACE, WORDS, _box, _edge_warnings, _outcomes,
+from solsphere.errors import FitError
+from solsphere.models.classic import (AXES, MIN_ADVISED, SURFACE, WORDS, _box, _edge_warnings, _outcomes,
                   FittedSphere, _unboundable, desirability, fit_sphere,
                   model_inputs)
-from .hsp import SCALE, ra
+from solsphere.hansen import SCALE, ra
 
 __all__ = ["GradedModel", "GradedFit", "graded_nll", "fit_theta", "start_thetas", "classes"]
 

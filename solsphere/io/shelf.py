@@ -27,9 +27,9 @@ import dataclasses
 import math
 import re
 
-from .errors import InputError
-from .fileio import MAX_FIELD, read_text
-from .trials import _COORDS, _CellProblem, _Context, _coordinate, _parse_number, _resolve, _sniff
+from solsphere.errors import InputError
+from solsphere.io.files import MAX_FIELD, read_text
+from solsphere.io.trials import _COORDS, _CellProblem, _Context, _coordinate, _parse_number, _resolve, _sniff
 
 #: shelf column -> (Solvent field, lowest, highest accepted value)
 PROPERTY_COLUMNS = {
@@ -161,7 +161,7 @@ def read_shelf(path, library) -> list:
                                  line=line, column=col, hint="check the value and its unit")
             props[fld] = v
         if sol is None:
-            from .library import Solvent
+            from solsphere.library.table import Solvent
             sol = Solvent(name=label, dD=p[0], dP=p[1], dH=p[2], liquid=True)
         sol = dataclasses.replace(sol, dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), **props)
         ident = sol.cas or sol.name.casefold()

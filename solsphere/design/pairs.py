@@ -58,8 +58,8 @@ from typing import Any, Iterable, Sequence
 
 import numpy as np
 
-from solsphere.hsp import SCALE, flory_huggins_chi, mix, ra
-from solsphere.library import Solvent, hazard_flags
+from solsphere.hansen import SCALE, flory_huggins_chi, mix, ra
+from solsphere.library.table import Solvent, hazard_flags
 
 __all__ = ["pair_screen", "best_fraction", "inside_window", "mass_fractions",
            "Blend", "BlendScreen", "screen_blends", "CAUTION"]

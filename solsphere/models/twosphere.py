@@ -42,9 +42,9 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from .confidence import binary_data
-from .fit import MIN_ADVISED, SURFACE, WORDS, _edge_warnings, fit_sphere
-from .hsp import SCALE, as_points, ra
+from solsphere.uncertainty.bootstrap import binary_data
+from solsphere.models.classic import MIN_ADVISED, SURFACE, WORDS, _edge_warnings, fit_sphere
+from solsphere.hansen import SCALE, as_points, ra
 
 __all__ = ["TwoSphereFit", "fit_two_spheres", "union_loss"]
 

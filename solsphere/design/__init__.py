@@ -1,0 +1,1 @@
+"""Designing with a sphere: ranking untried solvents, pair and triple blends, replacements."""

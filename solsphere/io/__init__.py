@@ -1,0 +1,1 @@
+"""Reading and writing: file decoding and atomic writes, bench results, shelves, projects."""

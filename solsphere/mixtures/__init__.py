@@ -1,0 +1,1 @@
+"""The liquid mixture around a blend: drying path and flash point."""

@@ -1,0 +1,1 @@
+"""Sphere models fitted to bench results: classic, graded and two-sphere."""

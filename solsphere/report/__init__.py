@@ -1,0 +1,1 @@
+"""Presentation: text tables, figures and the share page."""

@@ -1,0 +1,1 @@
+"""How sure a fit is: bootstrap, influence of single results, posterior, next trials."""
