@@ -79,15 +79,16 @@ def _add_bootstrap(p, what: str):
                    help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
-def _add_pool(p, pool: str = "liquids"):
+def _add_pool(p, pool: str = "working"):
     p.add_argument("--candidates", metavar="SHELF",
                    help="CSV of the solvents you have (column 'solvent', optional dD,dP,dH); "
                         "overrides --pool")
-    p.add_argument("--pool", choices=("common", "liquids"), default=pool,
-                   help="candidates without a shelf: 'common' = our curated list of about "
-                        "150 solvents in common industrial and lab use (no reagents; "
-                        "data/common_solvents.csv); 'liquids' = every liquid in the library "
-                        f"(reagents included). Default: {pool}")
+    p.add_argument("--pool", choices=("working", "all", "common", "liquids"), default=pool,
+                   help="candidates without a shelf: 'working' = our curated list of about "
+                        "170 solvents in use in industry and the lab (no reagents; "
+                        "data/working_solvents.csv); 'all' = every liquid in the library "
+                        "(reagents included). 'common' and 'liquids' are the older names. "
+                        f"Default: {pool}")
     p.add_argument("--top", type=_positive_int, default=20, help="how many to list (default 20)")
     p.add_argument("--exclude", action="append", default=[], metavar="NAMES",
                    help="leave these solvents out (comma-separated; repeatable)")
@@ -141,7 +142,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
     _add_input(p)
-    _add_pool(p, pool="common")  # a test campaign uses solvents on a shelf, not reagents
+    _add_pool(p)  # a test campaign uses solvents on a shelf, not reagents
     p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
     p.add_argument("--samples", type=_positive_int, metavar="N", default=1000,
                    help="plausible spheres sampled from the posterior to score the "
@@ -164,9 +165,15 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--drying", action="store_true",
                    help="simulate evaporation (Raoult's law) and report when the drying "
                         "liquid leaves the sphere")
-    p.add_argument("--rank-by", choices=("red", "drying", "cost"), default="red",
-                   help="order: RED (default); drying (with --drying: longest inside "
-                        "first); cost (inside blends, cheapest first; needs shelf prices)")
+    p.add_argument("--rank-by", choices=("hazard", "cost", "drying", "evaporation", "red"),
+                   default="hazard",
+                   help="the priority after feasibility (inside, one phase) and robustness "
+                        "(window width): hazard (default; safer first), cost (needs shelf "
+                        "prices), drying (with --drying: stays inside longest), evaporation "
+                        "(faster first); 'red' = the plain RED order of earlier versions")
+    p.add_argument("--all-combinations", action="store_true",
+                   help="list the top blends even when a solvent repeats (by default no "
+                        "solvent is in more than two of them)")
 
     p = sub.add_parser("replace", help="solvents and pairs that can replace a given solvent",
                        epilog=EPILOG)
@@ -177,6 +184,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="with --for-material: how to count 'partly' results")
     p.add_argument("--pairs", type=_count, default=5, metavar="N", help="pairs to list (default 5)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--allow-worse", action="store_true",
+                   help="also offer candidates that are worse than the solvent replaced on "
+                        "carcinogen class, reprotoxic/regulatory listing or flammability, "
+                        "or that are listed themselves")
     _add_pool(p)
 
     p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
@@ -304,9 +315,25 @@ def _posterior(args, project, fit, n: int):
                             bounds=fit.bounds)
 
 
+def _resolved_names(project) -> list[str]:
+    """"PM acetate → 1-methoxy-2-propyl acetate" for each name typed differently from the
+    library's name."""
+    out = []
+    for t in project.trials:
+        if t.source.startswith("library") and " ".join(t.text.split()).casefold() != t.name.casefold():
+            line = f"{t.text.strip()} → {t.name}"
+            if line not in out:
+                out.append(line)
+    return out
+
+
 def cmd_fit(args) -> int:
     project, fit, lib = load_session(args)
     obj, text = fit.to_dict(), str(fit)
+    resolved = _resolved_names(project)
+    obj["resolved_names"] = resolved
+    if resolved:
+        text += "\nNames resolved: " + "; ".join(resolved)
     if args.bootstrap:
         boot = _bootstrap(args, project, fit, args.bootstrap)
         obj["intervals"] = boot.intervals
@@ -375,10 +402,15 @@ def cmd_next(args) -> int:
 
 
 def _pool_line(filters: dict) -> str:
-    """Which candidates were used, for the human output."""
-    other = {"common solvents": " (--pool liquids: every library liquid)",
-             "library liquids": " (--pool common: the curated common solvents)"}
-    return f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
+    """Which candidates were used (and what a limit left out for lack of data)."""
+    other = {"working solvents": " (--pool all: every library liquid, reagents included)",
+             "library liquids": ": reagents, monomers and intermediates are included "
+                                "(--pool working: the curated working solvents)"}
+    line = f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
+    for what, names in (filters.get("left_out_for_lack_of_data") or {}).items():
+        line += (f"\nLeft out for lack of {what.replace('_', ' ')} data ({len(names)}): "
+                 + ", ".join(names[:15]) + (" …" if len(names) > 15 else ""))
+    return line
 
 
 def _temperature(args) -> float:
@@ -401,7 +433,7 @@ def cmd_blend(args) -> int:
         raise InputError("no candidate has a price: ranking by cost needs a shelf file with "
                          "a price column.", file="<command line>", column="--rank-by",
                          hint="give --candidates SHELF with columns solvent,price")
-    # ranking by cost or drying looks at every inside blend, not only the nearest
+    # ranking by a priority looks at every inside blend, not only the nearest
     top = None if args.rank_by != "red" else args.top
     limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
                   top=top, only_blends=not args.with_single)
@@ -419,6 +451,8 @@ def cmd_blend(args) -> int:
         if args.max_fraction or args.min_fraction:
             raise InputError("--max-fraction / --min-fraction apply to 3-component blends.",
                              file="<command line>", hint="add --components 3")
+        if args.rank_by != "red":
+            return _blend_ordered(args, project, fit, lib, filters)
         from solsphere.design.pairs import screen_blends
         screen = screen_blends(pool, centre, fit.R0, **limits)
     screen.filters.update(filters)
@@ -430,6 +464,43 @@ def cmd_blend(args) -> int:
                                    rank_by=args.rank_by, top=args.top)
     _emit(args, dict(screen.to_dict(), blends=blends),
           str(screen) + blend_notes(blends, args.drying))
+    return 0
+
+
+def _blend_ordered(args, project, fit, lib, filters) -> int:
+    """Two-solvent blends in the documented order (feasible → robust → priority → RED),
+    a diverse top; with --drying (or --rank-by drying) the top 50 are simulated."""
+    from solsphere.design.ordering import MAX_USES, order_rows, diverse
+    from solsphere.design.recommend import rank_pair_blends
+    from solsphere.workflows import add_safety_and_drying, blend_notes
+    pool, _ = candidate_pool(args, lib, project)
+    centre = (fit.dD, fit.dP, fit.dH)
+    by_drying = args.rank_by == "drying"
+    ranked = rank_pair_blends(pool, centre, fit.R0, top=50 if by_drying else args.top,
+                              priority=args.rank_by,
+                              diverse_top=not (args.all_combinations or by_drying),
+                              only_blends=not args.with_single, filters=filters,
+                              temperature_C=_temperature(args))
+    blends = add_safety_and_drying(ranked.screen, pool, centre, fit.R0, drying=args.drying,
+                                   temperature_C=_temperature(args), rank_by="red")
+    if by_drying:
+        rows = []
+        for b, d, c in zip(ranked.screen.blends, blends, ranked.criteria):
+            c["drying_inside_until"] = d.get("drying_inside_until")
+            c["priority_value"] = d.get("drying_inside_until")
+            rows.append(dict(c, _b=b, _d=d))
+        rows = order_rows(rows, "drying")
+        keep = diverse(range(len(rows)), lambda k: rows[k]["_b"].solvents, args.top,
+                       None if args.all_combinations else MAX_USES)
+        rows = [rows[k] for k in keep]
+        ranked.screen.blends = [r.pop("_b") for r in rows]
+        blends = [r.pop("_d") for r in rows]
+        ranked.criteria = rows
+    obj = ranked.to_dict()
+    for b, d in zip(obj["blends"], blends):
+        b.update({k: v for k, v in d.items() if k not in b})
+    _emit(args, obj, str(ranked) + blend_notes(blends, args.drying) + "\n"
+          + _pool_line(filters))
     return 0
 
 
@@ -447,8 +518,11 @@ def cmd_replace(args) -> int:
         material = ((fit.dD, fit.dP, fit.dH), fit.R0)
     pool, filters = candidate_pool(args, lib, None)
     result = find_substitutes(target, pool, top=args.top, n_pairs=max(args.pairs, 0),
-                              material=material)
-    _emit(args, dict(result.to_dict(), filters=filters), str(result))
+                              material=material, allow_worse=args.allow_worse)
+    text = str(result) + "\n" + _pool_line(filters)
+    if args.name.strip().casefold() != target.name.casefold():
+        text = f"Replacing {lib.resolved(args.name)}\n" + text
+    _emit(args, dict(result.to_dict(), filters=filters, resolved=lib.resolved(args.name)), text)
     return 0
 
 

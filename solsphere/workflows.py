@@ -56,7 +56,7 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
 def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_point=None,
                    max_boiling_point=None, exclude_carcinogens: bool = False,
                    min_boiling_point=None, min_exposure_limit=None, restricted: str | None = None,
-                   liquid_only: bool | None = None, pool: str = "liquids"):
+                   liquid_only: bool | None = None, pool: str = "working"):
     """The solvents to rank or blend: the library's liquids, the curated common solvents
     or a user's shelf, filtered.
 
@@ -82,10 +82,11 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         A file listing restricted solvents (column ``solvent``), all left out.
     liquid_only : bool or None
         Keep only liquids at 25 °C; None means yes for the library, no for a shelf.
-    pool : {"liquids", "common"}, default="liquids"
-        Without a shelf: every compound of the library (its liquids, with
-        ``liquid_only``), or only those on the curated list of common solvents
-        (:meth:`Library.common`; reagents left out). A shelf overrides it.
+    pool : {"working", "all"}, default="working"
+        Without a shelf: the curated working solvents (:meth:`Library.working`; reagents
+        left out), or every compound of the library (its liquids, with ``liquid_only``;
+        reagents included). The older names "common" and "liquids" are accepted.
+        A shelf overrides it.
 
     Returns
     -------
@@ -93,13 +94,11 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     filters : dict
         What was applied, for the record.
     """
-    from solsphere.library.pools import POOLS
+    from solsphere.library.pools import pool_name
     from solsphere.library.table import Library
     from solsphere.io.shelf import read_shelf
-    if pool not in POOLS:
-        raise ValueError(f"pool must be one of {', '.join(map(repr, POOLS))}; found {pool!r}")
-    common = pool == "common" and not shelf
-    filters = {"pool": shelf or ("common solvents" if common else "library liquids"),
+    common = pool_name(pool) == "working" and not shelf
+    filters = {"pool": shelf or ("working solvents" if common else "library liquids"),
                "exclude": list(exclude),
                "min_flash_point": min_flash_point, "max_boiling_point": max_boiling_point,
                "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
@@ -107,7 +106,7 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     if shelf:
         base = Library.from_records(read_shelf(shelf, library))
     else:
-        base = library.common() if common else library
+        base = library.working() if common else library
     if liquid_only is None:
         liquid_only = not shelf
     # a shelf's own solvents by their shelf names; everything else through the full
@@ -120,6 +119,16 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     pool = base.select(liquid_only=liquid_only, min_flash_point=min_flash_point,
                        max_boiling_point=max_boiling_point,
                        exclude_carcinogens=exclude_carcinogens, exclude=())
+    # never a silent drop: what a limit left out for lack of data is listed
+    no_data = {}
+    if min_flash_point is not None:
+        no_data["flash_point"] = [s.name for s in base.select(liquid_only=liquid_only)
+                                  if s.flash_point is None]
+    if max_boiling_point is not None or min_boiling_point is not None:
+        no_data["boiling_point"] = [s.name for s in base.select(liquid_only=liquid_only)
+                                    if s.boiling_point is None]
+    if any(no_data.values()):
+        filters["left_out_for_lack_of_data"] = {k: v for k, v in no_data.items() if v}
     pool = [s for s in pool if s.name not in names]
     if min_boiling_point is not None:
         pool = [s for s in pool if s.boiling_point is not None and s.boiling_point >= min_boiling_point]
@@ -131,7 +140,7 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
                          hint="relax --min-flash-point / --max-boiling-point / "
                               "--min-boiling-point / --min-exposure-limit / --exclude / "
                               "--restricted, or add solvents to the shelf"
-                              + (" (or use --pool liquids)" if common else ""))
+                              + (" (or use --pool all)" if common else ""))
     return list(pool), filters
 
 

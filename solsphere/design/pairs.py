@@ -776,7 +776,7 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
     order = keep[_top_order(res["red"][keep], width, None if top is None else int(top))]
 
     red_alone = ra(points, c) / R0 if n else np.empty(0)
-    blends = [_make_blend(kept[res["i"][k]], kept[res["j"][k]], float(res["phi"][k]),
+    blends = [make_blend(kept[res["i"][k]], kept[res["j"][k]], float(res["phi"][k]),
                           float(res["red"][k]), float(res["lo"][k]), float(res["hi"][k]),
                           float(red_alone[res["i"][k]]), float(red_alone[res["j"][k]]),
                           bool(single[k]), R0)
@@ -786,8 +786,11 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
                        centre=(float(c[0]), float(c[1]), float(c[2])), R0=R0)
 
 
-def _make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi: float,
-                red_a: float, red_b: float, single: bool, R0: float) -> Blend:
+def make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi: float,
+               red_a: float, red_b: float, single: bool, R0: float) -> Blend:
+    """The :class:`Blend` of ``sa`` (volume fraction ``phi``) and ``sb`` from one row of
+    :func:`pair_screen` (``red``, window ``lo``-``hi`` of ``phi``, NaN without one; the
+    components' own RED ``red_a``, ``red_b``)."""
     window = None if np.isnan(lo) else [lo, hi]
     if phi < 0.5:  # list the larger part first; the window follows the first solvent
         sa, sb, red_a, red_b, phi = sb, sa, red_b, red_a, 1.0 - phi
@@ -810,3 +813,6 @@ def _make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi:
         best_is_single=single,
         component_points=[sa.point, sb.point],
     )
+
+
+_make_blend = make_blend  # the former private name
