@@ -62,7 +62,7 @@ def parse_fraction_limits(text: str | None, names, library, what: str) -> dict[s
     return out
 
 
-def _pool(library, pool_choice, shelf, ticked, restricted, kw, common_only: bool = False):
+def _pool(library, pool_choice, shelf, ticked, restricted, kw, common_only: bool = True):
     """(pool, where) for the chosen pool under the constraints ``kw``."""
     from solsphere.library.table import Library
     from solsphere.workflows import candidate_pool
@@ -93,7 +93,7 @@ def _pool(library, pool_choice, shelf, ticked, restricted, kw, common_only: bool
         if not kept:
             raise InputError("every ticked solvent is left out or restricted.",
                              file="<blends>", hint="tick other solvents")
-        pool, _ = candidate_pool(Library.from_records(kept), liquid_only=False,
+        pool, _ = candidate_pool(Library.from_records(kept), liquid_only=False, pool="all",
                                  **dict(kw, exclude=()))
         if len(pool) < 2:
             raise InputError("fewer than two ticked solvents pass the constraints.",
@@ -113,7 +113,7 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
                    restricted: dict | None = None, components: int = 2,
                    max_fraction: str | None = None, min_fraction: str | None = None,
                    temperature=None, rank_by: str = "red", top: int = 15,
-                   common_only: bool = False) -> dict:
+                   common_only: bool = True) -> dict:
     """Top blends of two or three solvents for the fitted sphere (``solsphere blend``
     with its constraints, ``--drying`` always on).
 
@@ -122,9 +122,10 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
     pool_choice : {"library", "shelf", "ticked"}
         All library liquids, the uploaded shelf file (``shelf`` = {"filename",
         "contents"}), or the ticked library solvents (``ticked`` = names).
-    common_only : bool, default=False
-        With ``pool_choice="library"``: only the curated common solvents
-        (``solsphere blend --pool common``); a shelf or ticked solvents ignore it.
+    common_only : bool, default=True
+        With ``pool_choice="library"``: only the curated working solvents (as
+        ``solsphere blend`` by default); False takes every library liquid (reagents
+        included); a shelf or ticked solvents ignore it.
     restricted : dict or None
         An uploaded list of restricted solvents ({"filename", "contents"}), left out.
     components : {2, 3}

@@ -466,7 +466,7 @@ def split_names(text: str | None) -> list[str]:
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
               exclude: str | None = None, top: int = 30, bootstrap=None,
-              common_only: bool = False) -> dict:
+              common_only: bool = True) -> dict:
     """Untried solvents nearest the sphere, with their safety facts.
 
     ``bootstrap`` (a :class:`solsphere.confidence.Bootstrap` of the same results) adds

@@ -459,11 +459,24 @@ def cmd_blend(args) -> int:
     if top is None:  # keep the work bounded: the inside blends (or the nearest 500)
         inside = [b for b in screen.blends if b.red <= 1.0]
         screen.blends = (inside or screen.blends)[:max(500, args.top)]
+    ordered = args.rank_by != "red"
     blends = add_safety_and_drying(screen, pool, centre, fit.R0, drying=args.drying,
                                    temperature_C=_temperature(args),
-                                   rank_by=args.rank_by, top=args.top)
+                                   rank_by="red" if ordered else args.rank_by,
+                                   top=None if ordered else args.top)
+    if ordered:  # the documented order (feasible → robust → priority → RED), diverse
+        from solsphere.design.ordering import MAX_USES, ORDER_TEXT, blend_rows, order_blends
+        by_name = {s.name: s for s in pool}
+        keep = order_blends(blends, by_name, args.rank_by, args.top,
+                            None if args.all_combinations else MAX_USES)
+        blends = [blends[k] for k in keep]
+        screen.blends = [screen.blends[k] for k in keep]
+        for d, c in zip(blends, blend_rows(blends, by_name, args.rank_by)):
+            d["criteria"] = c
+        screen.filters["order"] = ORDER_TEXT.format(priority=args.rank_by)
     _emit(args, dict(screen.to_dict(), blends=blends),
-          str(screen) + blend_notes(blends, args.drying))
+          str(screen) + blend_notes(blends, args.drying)
+          + (("\n" + ORDER_TEXT.format(priority=args.rank_by)) if ordered else ""))
     return 0
 
 
@@ -474,6 +487,20 @@ def _blend_ordered(args, project, fit, lib, filters) -> int:
     from solsphere.design.recommend import rank_pair_blends
     from solsphere.workflows import add_safety_and_drying, blend_notes
     pool, _ = candidate_pool(args, lib, project)
+    if args.min_flash_point is not None or args.max_boiling_point is not None:
+        # say what each limit removed (below the limit, or unknown), as the screen does
+        every, _ = candidate_pool(args, lib, project, limits=False)
+        for key, lim, val, low in (("flash_point", args.min_flash_point, "flash_point", True),
+                                   ("boiling_point", args.max_boiling_point, "boiling_point",
+                                    False)):
+            if lim is None:
+                continue
+            side = "low" if low else "high"
+            filters[f"min_{key}" if low else f"max_{key}"] = lim
+            filters[f"removed_{side}_{key}"] = [
+                s.name for s in every if getattr(s, val) is not None
+                and (getattr(s, val) < lim if low else getattr(s, val) > lim)]
+            filters[f"removed_unknown_{key}"] = [s.name for s in every if getattr(s, val) is None]
     centre = (fit.dD, fit.dP, fit.dH)
     by_drying = args.rank_by == "drying"
     ranked = rank_pair_blends(pool, centre, fit.R0, top=50 if by_drying else args.top,

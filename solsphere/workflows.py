@@ -145,7 +145,8 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
 
 
 def _describe(filters: dict) -> str:
-    parts = [f"{k}={v}" for k, v in filters.items() if v not in (None, False, [], ())]
+    parts = [f"{k}={v}" for k, v in filters.items()
+             if v not in (None, False, [], ()) and k != "left_out_for_lack_of_data"]
     return ", ".join(parts) or "none"
 
 

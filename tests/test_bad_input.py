@@ -511,7 +511,7 @@ CLI_REFUSED = [
      ["--pool", "invalid choice", "common", "liquids"]),
     ("pool-empty-after-filters", ["rank", "{bench}", "--pool", "common",
                                   "--min-flash-point", "300"], None, None,
-     ["no candidate solvent is left", "--pool liquids"]),
+     ["no candidate solvent is left", "--pool all"]),
     ("unknown-subcommand", ["fitt", "{bench}"], "<command line>", None, ["invalid choice"]),
     ("unknown-option", ["fit", "{bench}", "--frobnicate"], "<command line>", None,
      ["unrecognized arguments"]),

@@ -166,6 +166,8 @@ def test_aliases_file_all_resolve(lib):
     assert len(rows) >= 40
     assert list(rows[0]) == ["alias", "cas", "note"]
     for row in rows:
+        if row["cas"] == "AMBIGUOUS":  # refused, listing the readings (tested below)
+            continue
         assert lib.lookup(row["alias"]).cas == row["cas"], row
         assert lib.lookup(row["alias"].lower()).cas == row["cas"]
         assert "common practice" in row["note"]
@@ -290,11 +292,11 @@ def test_checksum_of_packaged_table():
     these numbers on purpose, with the reason in the commit message)."""
     with open(DATA / "solvents.csv", newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
-    assert len(rows) == 1225
-    assert sum(Decimal(r["dD"]) for r in rows) == Decimal("20844.88")
-    assert sum(Decimal(r["dP"]) for r in rows) == Decimal("9030.33")
-    assert sum(Decimal(r["dH"]) for r in rows) == Decimal("9139.81")
-    assert sum(r["liquid"] == "true" for r in rows) == 761
+    assert len(rows) == 1235
+    assert sum(Decimal(r["dD"]) for r in rows) == Decimal("21016.42")
+    assert sum(Decimal(r["dP"]) for r in rows) == Decimal("9071.63")
+    assert sum(Decimal(r["dH"]) for r in rows) == Decimal("9179.31")
+    assert sum(r["liquid"] == "true" for r in rows) == 777
 
 
 def test_table_columns_and_units(lib):

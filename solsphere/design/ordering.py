@@ -182,3 +182,37 @@ def sort_key(row: dict, priority: str = "hazard") -> tuple:
 def order_rows(rows: list[dict], priority: str = "hazard") -> list[dict]:
     """``rows`` sorted by :func:`sort_key` (stable)."""
     return sorted(rows, key=lambda r: sort_key(r, priority))
+
+
+def blend_rows(blends: Sequence[dict], by_name: dict, priority: str = "hazard") -> list[dict]:
+    """The ordering criteria of blends given as dicts (``Blend.to_dict()`` plus the
+    ``may_not_mix``, ``price_per_litre`` and ``drying_inside_until`` keys that
+    :func:`solsphere.workflows.add_safety_and_drying` adds); ``by_name`` maps a component
+    name to its Solvent. Robustness is the window width for pairs, the margin 1 − RED
+    for blends of three."""
+    rows = []
+    for d in blends:
+        comps = [by_name[n] for n in d["solvents"]]
+        phis = d["volume_fractions"]
+        vps = [s.vapour_pressure for s in comps]
+        rob = (d.get("window_width") if len(comps) == 2 and d.get("inside_window") is not None
+               else max(0.0, 1.0 - d["red"]))
+        rows.append({"inside": d["red"] <= 1.0, "one_phase": not d.get("may_not_mix", False),
+                     "constraints_met": True, "robustness": rob,
+                     "robustness_kind": "window" if len(comps) == 2 else "margin",
+                     "hazard": max(hazard_score(s) for s in comps),
+                     "price": d.get("price_per_litre"),
+                     "drying_inside_until": d.get("drying_inside_until"),
+                     "evaporation": (None if any(v is None for v in vps) else
+                                     float(sum(f * v for f, v in zip(phis, vps)))),
+                     "red": d["red"], "priority": priority})
+    return rows
+
+
+def order_blends(blends: Sequence[dict], by_name: dict, priority: str = "hazard",
+                 top: int | None = 10, max_uses: int | None = MAX_USES) -> list[int]:
+    """Indices of ``blends`` (dicts) in the documented order, diverse, cut to ``top``."""
+    rows = blend_rows(blends, by_name, priority)
+    order = sorted(range(len(rows)), key=lambda k: sort_key(rows[k], priority))
+    return diverse(order, lambda k: blends[k]["solvents"], len(order) if top is None else top,
+                   max_uses)

@@ -76,6 +76,18 @@ class RankedBlends:
                 ("hazard = the worse component's score: 3 × carcinogen class + 3 × reprotoxic "
                  "class + GHS flammability (0 none … 4 category 1)." if self.priority == "hazard"
                  else ""), ""]
+        f = s.filters
+        lim = []
+        if f.get("min_flash_point") is not None and "removed_low_flash_point" in f:
+            lim.append(f"flash point at least {f['min_flash_point']:g} °C "
+                       f"({len(f['removed_low_flash_point'])} removed below it, "
+                       f"{len(f['removed_unknown_flash_point'])} with unknown flash point)")
+        if f.get("max_boiling_point") is not None and "removed_high_boiling_point" in f:
+            lim.append(f"boiling point at most {f['max_boiling_point']:g} °C "
+                       f"({len(f['removed_high_boiling_point'])} removed above it, "
+                       f"{len(f['removed_unknown_boiling_point'])} with unknown boiling point)")
+        if lim:
+            head.insert(2, "Filters: " + "; ".join(lim))
         body = self.table() if s.blends else "No blends to show."
         return "\n".join([h for h in head if h is not None] + [body, "", CAUTION])
 
