@@ -360,3 +360,13 @@ def test_pool_names():
     assert pool_name("common") == "working" and pool_name("liquids") == "all"
     with pytest.raises(ValueError):
         pool_name("reagents")
+
+
+def test_doctests_of_the_new_modules():
+    import doctest
+
+    from solsphere.design import ordering, recommend, substitution
+    from solsphere.library import hazards, pools, table
+    for mod in (ordering, recommend, substitution, hazards, pools, table):
+        failures, _ = doctest.testmod(mod)
+        assert failures == 0, mod.__name__

@@ -475,7 +475,7 @@ def read_aliases(text: str) -> tuple[dict[str, str], dict[str, tuple[str, ...]]]
     A row whose ``cas`` cell is ``AMBIGUOUS`` marks an abbreviation with several common
     readings; its note lists them separated by ``|`` (the lookup refuses to guess).
 
-    >>> read_aliases("alias,cas,note\nMEK,78-93-3,x\nDBE,AMBIGUOUS,dibasic esters|dibutyl ether\n")
+    >>> read_aliases("alias,cas,note\\nMEK,78-93-3,x\\nDBE,AMBIGUOUS,dibasic esters|dibutyl ether\\n")
     ({'MEK': '78-93-3'}, {'DBE': ('dibasic esters', 'dibutyl ether')})
     """
     aliases: dict[str, str] = {}
