@@ -56,7 +56,7 @@ from solsphere.errors import InputError, UnknownSolventError
 from solsphere.io.files import MAX_FIELD, read_text as _read_file_text
 from solsphere.library.table import load_library
 
-__all__ = ["Trial", "Trials", "read", "read_text", "from_rows", "validate_rows",
+__all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
            "COLUMNS", "MAX_COORDINATE"]
 
@@ -415,6 +415,39 @@ def read_text(text: str, source: str = "<text>", library: LibraryLike | None = N
     if errors:
         raise _first(errors)
     return Trials(trials=trials, source=source, warnings=ctx.warnings)
+
+
+def read_trials(source, library: LibraryLike | None = None) -> Trials:
+    """Bench results from a file path or a table (a pandas DataFrame or a list of dicts).
+
+    A table is read exactly like a file with the same columns (``solvent``, ``outcome``,
+    optional ``dD``, ``dP``, ``dH``, ``note``; the header words a file may use), so its
+    problems get the same messages, with the row's line as in the CSV it stands for
+    (the header is line 1).
+
+    Parameters
+    ----------
+    source : str, os.PathLike, pandas.DataFrame or list of dict
+    library : Library or None, default=None
+
+    Examples
+    --------
+    >>> t = read_trials([{"solvent": "toluene", "outcome": "dissolves"},
+    ...                  {"solvent": "water", "outcome": "does not"}])
+    >>> t.names, t.outcomes
+    (['toluene', 'water'], ['good', 'bad'])
+    """
+    if hasattr(source, "to_csv") and hasattr(source, "columns"):  # a DataFrame
+        return read_text(source.to_csv(index=False), source="<DataFrame>", library=library)
+    if isinstance(source, (list, tuple)):
+        cols = list(dict.fromkeys(k for row in source for k in row))
+        buf = io.StringIO()
+        w = csv.DictWriter(buf, fieldnames=cols, lineterminator="\n")
+        w.writeheader()
+        w.writerows({k: ("" if row.get(k) is None else row.get(k)) for k in cols}
+                    for row in source)
+        return read_text(buf.getvalue(), source="<rows>", library=library)
+    return read(source, library=library)
 
 
 def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,

@@ -264,6 +264,17 @@ class SphereEstimator:
             setattr(self, k, v)
         return self
 
+    def __sklearn_tags__(self):
+        """scikit-learn's estimator tags: a classifier (inside = dissolves) that needs y.
+
+        Called only by scikit-learn (``cross_val_score`` and friends), so scikit-learn is
+        imported here and is never a run-time dependency of solsphere.
+        """
+        from sklearn.utils import ClassifierTags, InputTags, Tags, TargetTags  # only sklearn calls this
+
+        return Tags(estimator_type="classifier", target_tags=TargetTags(required=True),
+                    classifier_tags=ClassifierTags(), input_tags=InputTags())
+
     def __repr__(self) -> str:
         defaults = {p.name: p.default for p in inspect.signature(type(self).__init__)
                     .parameters.values() if p.name != "self"}
