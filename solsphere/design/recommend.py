@@ -18,7 +18,8 @@ from solsphere import hansen as hsp
 from solsphere.design.ordering import (MAX_USES, ORDER_TEXT, diverse, order_pairs,
                                        pair_arrays, robustness_bin)
 from solsphere.design.pairs import BlendScreen, make_blend, pair_screen
-from solsphere.design.ranking import CAUTION, format_table
+from solsphere.design.ranking import CAUTION
+from solsphere.formatting import format_table
 from solsphere.library.hazards import ghs_category, is_listed
 from solsphere.library.table import Solvent
 

@@ -39,10 +39,12 @@ import numpy as np
 from solsphere import hansen as hsp
 from solsphere.design.ordering import MAX_USES, diverse, pair_arrays, robustness_bin
 from solsphere.design.pairs import make_blend, pair_screen
-from solsphere.design.ranking import CAUTION, format_table
-from solsphere.library.hazards import (HAZARDS, LISTING_CAUTION, compare, ghs_category,
+from solsphere.design.ranking import CAUTION
+from solsphere.formatting import format_table, plain
+from solsphere.library.hazards import (LISTING_CAUTION, compare, ghs_category,
                                        hazard_score, listing_of, never_worse)
 from solsphere.library.table import Solvent, hazard_flags
+from solsphere.results import Result
 
 #: Closeness to the old solvent is compared in steps of this Hansen distance [MPa½]
 #: (about the disagreement between compilations, SPREAD_FLAG_MPA; our choice, no source).
@@ -78,7 +80,7 @@ class Substitute:
 
 
 @dataclass
-class Substitution:
+class Substitution(Result):
     """Ranked replacements for one solvent."""
 
     target: Solvent
@@ -90,6 +92,13 @@ class Substitution:
     allow_worse: bool = False
     priority: str = "hazard"
     pair_criteria: list = field(default_factory=list)
+    filters: dict = field(default_factory=dict)
+
+    def records(self) -> list[dict]:
+        """The single solvents, then the pairs, each row marked with its ``kind``."""
+        d = self.to_dict()
+        return ([dict(s, kind="single") for s in d["singles"]]
+                + [dict(p, kind="pair") for p in d["pairs"]])
 
     def to_dict(self) -> dict:
         t = self.target
@@ -103,11 +112,8 @@ class Substitution:
                 "singles": [s.to_dict() for s in self.singles],
                 "pairs": [dict(p.to_dict(), criteria=c)
                           for p, c in zip(self.pairs, self.pair_criteria)],
-                "caution": CAUTION, "listing_caution": LISTING_CAUTION}
-
-    def to_frame(self):
-        import pandas as pd  # deferred: pandas is optional for the library
-        return pd.DataFrame([s.to_dict() for s in self.singles])
+                "caution": CAUTION, "listing_caution": LISTING_CAUTION,
+                "filters": plain(self.filters)}
 
     def __str__(self) -> str:
         t = self.target

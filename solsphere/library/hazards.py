@@ -30,9 +30,10 @@ import re
 from dataclasses import dataclass
 from functools import lru_cache
 
+from solsphere.library.data import data_dir
 from solsphere.library.table import (GHS_BOILING_CATEGORY_1_C, GHS_FLASH_CATEGORY_2_C,
                                      GHS_FLASH_CATEGORY_3_C, GHS_FLASH_CATEGORY_4_C,
-                                     Solvent, data_dir)
+                                     Solvent)
 
 __all__ = ["Listing", "HAZARDS", "read_listings", "load_listings", "listing_of",
            "carcinogen_level", "reprotoxic_level", "flammability_level", "ghs_category",
