@@ -386,22 +386,9 @@ def read(path, library: LibraryLike | None = None) -> Trials:
 def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None) -> Trials:
     """Read bench results from the text of a results file.
 
-    Parameters
-    ----------
-    text : str
-        The whole file (any line endings; a leading BOM is ignored).
-    source : str, default="<text>"
-        Name used in messages.
-    library : Library or None, default=None
-        None means :func:`solsphere.library.load_library`.
-
-    Returns
-    -------
-    Trials
-
-    Raises
-    ------
-    InputError
+    ``text`` is the whole file (any line endings; a leading BOM is ignored); ``source``
+    names it in messages; ``library`` and the result are as for :func:`read`, and so is
+    the error raised for the first problem.
     """
     text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
     records, decimal_comma, header_warnings, header_line = _parse_table(text, source)
