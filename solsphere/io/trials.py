@@ -1,6 +1,6 @@
 """Bench results: read, validate and resolve the trials a sphere is fitted to.
 
-A results file (CSV or TSV, see CONVENTIONS.md) has one row per trial::
+A results file (CSV or TSV, see DEVELOPERS.md, "Conventions") has one row per trial::
 
     solvent,outcome,dD,dP,dH,note
     toluene,good,,,,clear after 1 h
@@ -62,7 +62,7 @@ __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
-#: Words shown to people for each outcome (CONVENTIONS.md).
+#: Words shown to people for each outcome (DEVELOPERS.md, "Conventions"): the one table.
 DISPLAY = {"good": "dissolves", "partial": "partly", "bad": "does not"}
 #: How :meth:`Trials.binary` counts a partial result unless told otherwise.
 DEFAULT_PARTIAL = "good"
