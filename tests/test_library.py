@@ -279,7 +279,12 @@ def test_hazard_flags_packaged(lib):
     assert any("exposure limit" in f for f in hazard_flags(lib.lookup("benzene")))
     assert any(f.startswith("carcinogen: IARC group 1") for f in hazard_flags(lib.lookup("benzene")))
     assert any("disagree" in f for f in hazard_flags(lib.lookup("tetrachloroethylene")))
-    assert "no flash point data" in hazard_flags(lib.lookup("water"))
+    # water is marked not flammable in data/curated_solvents.csv: no flash-point flag
+    assert not any("flash point" in f for f in hazard_flags(lib.lookup("water")))
+    nmp = hazard_flags(lib.lookup("dimethyl carbonate"))  # no measured flash point
+    assert nmp[0].startswith("flash point estimated")
+    # the library's exposure limits are the Ontario table's, and the flag says so
+    assert any("(Ontario; ≤ 10 ppm)" in f for f in hazard_flags(lib.lookup("benzene")))
 
 
 # --------------------------------------------------------------------------- the table itself

@@ -287,13 +287,20 @@ def test_pairs_that_may_not_mix_come_last_and_are_diverse(lib):
     assert max(counts.values()) <= MAX_USES
 
 
-def test_a_filter_lists_what_it_left_out_for_lack_of_data():
-    rc, out, err = run(["rank", DEMO, "--min-flash-point", "30", "--top", "3"])
+def test_a_filter_lists_what_it_left_out_for_lack_of_data(lib):
+    rc, out, err = run(["rank", DEMO, "--min-flash-point", "30", "--top", "3", "--pool", "all"])
     assert rc == 0, err
     m = re.search(r"Left out for lack of flash point data \((\d+)\): ([^\n]+)", out)
-    assert m and "water" in m.group(2)
-    d = run_json(["rank", DEMO, "--min-flash-point", "30", "--top", "3"])
-    assert "water" in d["filters"]["left_out_for_lack_of_data"]["flash_point"]
+    assert m and int(m.group(1)) > 0
+    d = run_json(["rank", DEMO, "--min-flash-point", "30", "--top", "3", "--pool", "all"])
+    left = d["filters"]["left_out_for_lack_of_data"]["flash_point"]
+    assert len(left) == int(m.group(1))
+    assert all(lib.lookup(n).flash_point is None for n in left)
+    # marked not flammable (curated): passes a minimum flash point, is not "left out"
+    assert "water" not in left and "dichloromethane" not in left
+    # the working pool has a flash point (or "not flammable") for every member
+    w = run_json(["rank", DEMO, "--min-flash-point", "30", "--top", "3"])
+    assert "left_out_for_lack_of_data" not in w["filters"]
 
 
 # ----------------------------------------------------------------------------- blends

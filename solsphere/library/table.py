@@ -540,7 +540,12 @@ def hazard_flags(solvent: Solvent) -> list[str]:
     """
     flags = []
     fp, bp = solvent.flash_point, solvent.boiling_point
-    if fp is None:
+    if fp is not None and str(solvent.sources.get("flash_point", "")).startswith("estimated"):
+        flags.append(f"flash point estimated ({short(fp)} °C, on the safe side): no "
+                     "measured value in the data")
+    if fp is None and str(solvent.sources.get("flash_point", "")).startswith("none"):
+        pass  # not flammable by the curated data: no flash-point flag
+    elif fp is None:
         flags.append("no flash point data")
     elif fp < GHS_FLASH_CATEGORY_2_C:
         if bp is None:
@@ -555,8 +560,11 @@ def hazard_flags(solvent: Solvent) -> list[str]:
     elif fp <= GHS_FLASH_CATEGORY_4_C:
         flags.append(f"flash point {short(fp)} °C (combustible, GHS category 4)")
     if solvent.twa_ppm is not None and solvent.twa_ppm <= LOW_EXPOSURE_LIMIT_PPM:
+        # the library's limits are the Ontario table's (chemicals.safety.TWA): say so,
+        # since limits differ between jurisdictions (NMP's about tenfold)
+        where = "Ontario; " if "Ontario" in str(solvent.sources.get("twa_ppm", "")) else ""
         flags.append(f"exposure limit {solvent.twa_ppm:.3g} ppm "
-                     f"(≤ {short(LOW_EXPOSURE_LIMIT_PPM)} ppm)")
+                     f"({where}≤ {short(LOW_EXPOSURE_LIMIT_PPM)} ppm)")
     if solvent.carcinogen:
         flags.append(f"carcinogen: {solvent.carcinogen}")
     if solvent.spread is not None and solvent.spread > SPREAD_FLAG_MPA:
