@@ -181,7 +181,9 @@ def _pool_line(filters: dict) -> str:
                                 "(--pool working: the curated working solvents)"}
     line = f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
     for what, names in (filters.get("left_out_for_lack_of_data") or {}).items():
-        line += (f"\nLeft out for lack of {what.replace('_', ' ')} data ({len(names)}): "
+        why = ("with no flash point to compare (not flammable by the data)"
+               if what == "not_flammable" else f"for lack of {what.replace('_', ' ')} data")
+        line += (f"\nLeft out {why} ({len(names)}): "
                  + ", ".join(names[:15]) + (" …" if len(names) > 15 else ""))
     return line
 

@@ -183,7 +183,12 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
                             min_exposure_limit=min_exposure_limit)
     from_filter = checked.kept
     # never a silent drop: what a limit left out for lack of data is listed
-    no_data = {"flash_point": checked.removed.get("removed_unknown_flash_point", []),
+    no_fp = checked.removed.get("removed_unknown_flash_point", [])
+    by_name = {s.name: s for s in kept}
+    not_flammable = [n for n in no_fp if str(by_name[n].sources.get("flash_point", "")
+                                               ).startswith("none")]
+    no_data = {"flash_point": [n for n in no_fp if n not in not_flammable],
+               "not_flammable": not_flammable,
                "boiling_point": (checked.removed.get("removed_unknown_boiling_point", [])
                                  + checked.removed.get("removed_unknown_boiling_point_min", []))}
     if any(no_data.values()):

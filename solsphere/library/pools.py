@@ -167,9 +167,7 @@ class Filtered:
     ``"removed_high_boiling_point"``, ``"removed_unknown_boiling_point"``,
     ``"removed_low_boiling_point"``, ``"removed_unknown_boiling_point_min"``,
     ``"removed_low_exposure_limit"``, ``"removed_carcinogen"``) to the names removed for it;
-    a solvent whose value is unknown is never dropped silently. A solvent marked not
-    flammable (``sources["flash_point"]`` "none ...", data/curated_solvents.csv) passes a
-    minimum flash point.
+    a solvent whose value is unknown is never dropped silently.
     """
 
     kept: list
@@ -250,9 +248,6 @@ def apply_filters(solvents: Iterable[Any], *, exclude_names: Iterable[str] = (),
             out("not_liquid", s)
             continue
         fp, bp = s.flash_point, s.boiling_point
-        if fp is None and str((getattr(s, "sources", None) or {}).get("flash_point", "")
-                              ).startswith("none"):
-            fp = float("inf")  # not flammable (curated): passes any minimum flash point
         if min_flash_point is not None and unknown_or(
                 fp, fp is not None and fp < min_flash_point, "removed_low_flash_point",
                 "removed_unknown_flash_point", s):
