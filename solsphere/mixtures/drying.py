@@ -179,19 +179,29 @@ class DryingPath(Result):
     def to_dict(self) -> dict:
         """Plain JSON-safe types (lists, floats, None)."""
         def floats(a):
-            return [None if not math.isfinite(v) else float(v) for v in np.ravel(a)]
+            # one array conversion, then None for the non-finite entries (rare)
+            a = np.asarray(a, dtype=float)
+            out = a.tolist()
+            if not np.isfinite(a).all():
+                bad = ~np.isfinite(a)
+                if a.ndim == 1:
+                    out = [None if b else v for v, b in zip(out, bad)]
+                else:
+                    out = [[None if b else v for v, b in zip(r, rb)]
+                           for r, rb in zip(out, bad)]
+            return out
 
         return {
             "method": self.method,
             "names": list(self.names),
-            "centre": floats(self.centre),
+            "centre": floats(np.ravel(self.centre)),
             "R0": float(self.R0),
-            "fractions_evaporated": floats(self.fractions_evaporated),
-            "compositions": [floats(row) for row in self.compositions],
-            "mole_fractions": [floats(row) for row in self.mole_fractions],
-            "points": [floats(row) for row in self.points],
-            "red": floats(self.red),
-            "relative_time": floats(self.relative_time),
+            "fractions_evaporated": floats(np.ravel(self.fractions_evaporated)),
+            "compositions": floats(np.atleast_2d(self.compositions)),
+            "mole_fractions": floats(np.atleast_2d(self.mole_fractions)),
+            "points": floats(np.atleast_2d(self.points)),
+            "red": floats(np.ravel(self.red)),
+            "relative_time": floats(np.ravel(self.relative_time)),
             "leaves_at": None if self.leaves_at is None else float(self.leaves_at),
             "stays_inside": self.stays_inside,
             "starts_inside": bool(self.starts_inside),
