@@ -62,8 +62,9 @@ def _number(text: str) -> float:
     return v
 
 
-def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)"):
-    p.add_argument("file", metavar="FILE", help=what)
+def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)",
+               optional: bool = False):
+    p.add_argument("file", metavar="FILE", help=what, nargs="?" if optional else None)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
                         "(default: good, or the project's setting)")
@@ -140,14 +141,27 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
-    _add_input(p)
+    _add_input(p, optional=True)  # no file with --smiles
     _add_pool(p, pool="common")  # a test campaign uses solvents on a shelf, not reagents
-    p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
+    p.add_argument("--n", type=_positive_int, default=None,
+                   help="how many to suggest (default 5; 16 with --smiles)")
+    p.add_argument("--smiles", metavar="SMILES", default=None,
+                   help="no results yet: plan the first trials from the material's "
+                        "structure (estimated centre ± its uncertainty, broad R0 prior; "
+                        "needs solsphere[structure])")
     p.add_argument("--samples", type=_positive_int, metavar="N", default=1000,
                    help="plausible spheres sampled from the posterior to score the "
                         "candidates (default 1000)")
     _add_bootstrap(p, "score the candidates by the disagreement among the resampled "
                       "spheres instead of the posterior samples")
+
+    p = sub.add_parser("estimate", help="dD, dP, dH, dT and molar volume estimated from "
+                                        "structures (SMILES), with 95 %% intervals",
+                       epilog=EPILOG)
+    p.add_argument("smiles", metavar="SMILES", nargs="*", help="SMILES strings")
+    p.add_argument("--from", dest="source", metavar="FILE",
+                   help="a file with one SMILES or compound name a line")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
     _add_input(p)
@@ -362,15 +376,76 @@ def cmd_rank(args) -> int:
 
 def cmd_next(args) -> int:
     from solsphere.uncertainty.nexttrials import suggest_next
+    if args.smiles is not None:
+        return _next_from_structure(args)
+    if args.file is None:
+        raise InputError("next needs a results or project file, or --smiles for a first "
+                         "plan from a structure.", file="<command line>",
+                         hint="give FILE, or --smiles 'SMILES' when there are no results yet")
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(args, lib, project)
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
-    sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
+    sugg = suggest_next(project.trials, candidates=pool, n=args.n or 5, bootstrap=boot,
                         n_samples=args.samples, seed=args.seed,
                         partial=fit.partial if fit.partial != "ordinal" else "good",
                         progress=_progress(args, "resampling"))
     obj = dict(sugg.to_dict(), filters=filters)
     _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
+    return 0
+
+
+def _structure():
+    """The estimate package, or a one-line error naming the extra to install."""
+    try:
+        import solsphere.estimate as est  # deferred: RDKit is an optional extra
+    except ImportError as exc:
+        raise InputError(f"estimates from structure need RDKit ({exc}).",
+                         file="<command line>",
+                         hint="pip install 'solsphere[structure]'") from None
+    return est
+
+
+def _next_from_structure(args) -> int:
+    if args.file is not None:
+        raise InputError("--smiles plans the first trials when there are no results; "
+                         "with results, leave it out.", file="<command line>",
+                         column="--smiles", hint="drop FILE or drop --smiles")
+    est = _structure()
+    from solsphere.library.table import load_library
+    if est.features.parse_smiles(args.smiles) is None:
+        raise InputError(f"--smiles {args.smiles!r} is not a SMILES that RDKit can read.",
+                         file="<command line>", column="--smiles",
+                         hint="check brackets, ring-closure digits and element symbols; "
+                              "quote the SMILES in the shell")
+    e = est.estimate([args.smiles])[0]
+    if e.refused:
+        raise InputError(f"--smiles {args.smiles!r}: no estimate: {e.refused}.",
+                         file="<command line>", column="--smiles",
+                         hint="run 'solsphere fit' on bench results instead")
+    lib = load_library()
+    pool, filters = candidate_pool(args, lib, None)
+    plan = est.plan_from_structure(e, pool, n=args.n or 16, seed=args.seed)
+    _emit(args, dict(plan.to_dict(), filters=filters), str(plan) + "\n" + _pool_line(filters))
+    return 0
+
+
+def cmd_estimate(args) -> int:
+    est = _structure()
+    items = [(None, s) for s in args.smiles]
+    if args.source:
+        from solsphere.library.table import load_library
+        items += est.read_structures(args.source, load_library())
+    if not items:
+        raise InputError("no structure given.", file="<command line>",
+                         hint="give SMILES arguments or --from FILE")
+    for i, s in enumerate(args.smiles, 1):  # name the argument that is wrong
+        if est.features.parse_smiles(s) is None:
+            raise InputError(f"SMILES argument {i} ({s!r}) is not a SMILES that RDKit can "
+                             f"read.", file="<command line>",
+                             hint="check brackets, ring-closure digits and element symbols; "
+                                  "quote the SMILES in the shell")
+    result = est.estimate([s for _, s in items], labels=[lab for lab, _ in items])
+    _emit(args, result.to_dict(), str(result))
     return 0
 
 
@@ -496,7 +571,8 @@ def cmd_app(args) -> int:
 
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app,
+            "estimate": cmd_estimate}
 
 
 def main(argv: list[str] | None = None) -> int:
