@@ -229,7 +229,7 @@ def load_model() -> StructureModel:
         return StructureModel(fh)
 
 
-def _refusal(mol, smiles: str, model: StructureModel) -> str | None:
+def _refusal(mol, smiles: str, model: StructureModel, els: dict) -> str | None:
     if "*" in smiles or any(a.GetAtomicNum() == 0 for a in mol.GetAtoms()):
         return ("a polymer or a structure with attachment points ('*'): the compilations "
                 "hold small molecules only")
@@ -237,7 +237,7 @@ def _refusal(mol, smiles: str, model: StructureModel) -> str | None:
         return "several fragments (a salt or mixture): estimate each neutral compound"
     if Chem.GetFormalCharge(mol) != 0:
         return "a charged species: the compilations hold neutral compounds only"
-    missing = sorted(e for e in element_counts(mol) if e not in model.elements)
+    missing = sorted(e for e in els if e not in model.elements)
     if missing:
         return f"element(s) {', '.join(missing)} appear in no training compound"
     if mol.GetNumHeavyAtoms() > MAX_HEAVY_ATOMS:
@@ -246,9 +246,9 @@ def _refusal(mol, smiles: str, model: StructureModel) -> str | None:
     return None
 
 
-def _widen_notes(mol, sim: float, model: StructureModel) -> list[str]:
+def _widen_notes(mol, sim: float, model: StructureModel, els: dict) -> list[str]:
     notes = []
-    rare = sorted(e for e in element_counts(mol) if model.elements.get(e, 0) < RARE_ELEMENT)
+    rare = sorted(e for e in els if model.elements.get(e, 0) < RARE_ELEMENT)
     if rare:
         notes.append(f"unusual element(s) {', '.join(rare)} (fewer than {RARE_ELEMENT} "
                      f"training compounds): intervals widened x{WIDEN:g}")
@@ -308,8 +308,9 @@ def estimate(smiles, *, labels=None, model: StructureModel | None = None,
         mols.append(m)
     out: list[Estimate | None] = [None] * len(items)
     ok = []
+    els = [element_counts(m) for m in mols]
     for i, (s, m) in enumerate(zip(items, mols)):
-        why = _refusal(m, s, model)
+        why = _refusal(m, s, model, els[i])
         if why:
             out[i] = Estimate(smiles=s.strip(), in_domain=False, refused=why, label=labels[i])
         else:
@@ -319,7 +320,7 @@ def estimate(smiles, *, labels=None, model: StructureModel | None = None,
         for r, i in enumerate(ok):
             m = mols[i]
             sim = float(pred["similarity"][r])
-            notes = _widen_notes(m, sim, model)
+            notes = _widen_notes(m, sim, model, els[i])
             w = WIDEN if notes else 1.0
             p = [max(float(pred[t][r]), 0.0) for t in TARGETS]
             u = [float(pred[t + "_u95"][r]) * w for t in TARGETS]

@@ -14,6 +14,10 @@ column             meaning
 ``density``        g/cm³ at 25 °C
 ``vapour_pressure``  kPa at 25 °C
 ``twa_ppm``        8-hour exposure limit, ppm
+``smiles``         structure of a solvent the library lacks, when no dD, dP, dH are
+                   given: its coordinates are estimated from it (needs the extra
+                   ``solsphere[structure]``; ``sources`` records the estimate and its
+                   95 % half-widths)
 ``note``           free text, ignored
 =================  ==============================================
 
@@ -45,7 +49,8 @@ _ALIASES = {"solvent": "solvent", "solvents": "solvent", "name": "solvent",
             "price": "price", "priceperlitre": "price", "priceperliter": "price", "cost": "price",
             "flashpoint": "flash_point", "boilingpoint": "boiling_point", "bp": "boiling_point",
             "density": "density", "vapourpressure": "vapour_pressure",
-            "vaporpressure": "vapour_pressure", "twa": "twa_ppm", "twappm": "twa_ppm"}
+            "vaporpressure": "vapour_pressure", "twa": "twa_ppm", "twappm": "twa_ppm",
+            "smiles": "smiles", "structure": "smiles"}
 
 
 def _key(cell: str) -> str | None:
@@ -145,6 +150,10 @@ def read_shelf(path, library) -> list:
                              line=line, column=next(c for c in _COORDS if c not in coords),
                              hint="fill in the missing ones or clear them all")
         point = tuple(coords[c] for c in _COORDS) if coords else None
+        estimated = None
+        if point is None and cells.get("smiles") and library.find(name) is None:
+            estimated = _estimate_row(cells["smiles"], file, line)
+            point = estimated.point
         label, p, source, _, cas, sol = _resolve(name, point, ctx, line, None)
         props = {}
         for col, (fld, lo, hi) in PROPERTY_COLUMNS.items():
@@ -164,6 +173,8 @@ def read_shelf(path, library) -> list:
             from solsphere.library.table import Solvent
             sol = Solvent(name=label, dD=p[0], dP=p[1], dH=p[2], liquid=True)
         sol = dataclasses.replace(sol, dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), **props)
+        if estimated is not None:
+            sol = dataclasses.replace(sol, sources=_estimate_sources(estimated))
         ident = sol.cas or sol.name.casefold()
         if ident in seen:
             continue
@@ -173,3 +184,35 @@ def read_shelf(path, library) -> list:
         raise InputError("the shelf lists no usable solvent.", file=file, line=header_line + 1,
                          hint="add one solvent per line under the 'solvent' header")
     return out
+
+
+def _estimate_row(smiles: str, file: str, line: int):
+    """The structure estimate of a shelf row (InputError naming the cell when the SMILES
+    is unreadable or outside the model's domain)."""
+    try:
+        from solsphere.estimate import estimate  # deferred: RDKit is an optional extra
+    except ImportError:
+        raise InputError("a smiles column needs the structure extra (RDKit).", file=file,
+                         line=line, column="smiles",
+                         hint="pip install 'solsphere[structure]', or give dD, dP, dH") from None
+    try:
+        est = estimate([smiles], source=file)[0]
+    except InputError:
+        raise InputError(f"{smiles[:60]!r} is not a SMILES that RDKit can read.", file=file,
+                         line=line, column="smiles",
+                         hint="check the SMILES, or give dD, dP, dH instead") from None
+    if est.refused:
+        raise InputError(f"no estimate from this structure: {est.refused}.", file=file,
+                         line=line, column="smiles", hint="give dD, dP, dH instead")
+    return est
+
+
+def _estimate_sources(est) -> dict:
+    """``sources`` of a solvent whose coordinates were estimated from its structure."""
+    src = {k: f"estimated from structure ± {u:.1f} (95 %)"
+           for k, u in zip(("dD", "dP", "dH"), est.u95)}
+    src["u95"] = " / ".join(f"{u:.1f}" for u in est.u95)
+    src["smiles"] = est.smiles
+    if not est.in_domain:
+        src["estimate_notes"] = "; ".join(est.notes)
+    return src
