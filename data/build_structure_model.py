@@ -35,7 +35,7 @@ Model (see solsphere/estimate/model.py for how it is evaluated):
 The file is written deterministically (fixed zip timestamps, arrays in a fixed order), so
 a rebuild with the same numpy, scikit-learn and RDKit is byte-identical; the versions are
 stored in the file and ``tests/test_estimate.py`` pins its checksum. Nothing is pickled:
-``numpy.load(..., allow_pickle=False)`` reads it.
+plain ``numpy.load`` (which refuses pickled objects by default) reads it.
 """
 
 from __future__ import annotations
@@ -227,8 +227,11 @@ def to_bytes(arrays: dict) -> bytes:
     buf = io.BytesIO()
     with zipfile.ZipFile(buf, "w", compression=zipfile.ZIP_DEFLATED) as zf:
         for key in sorted(arrays):
+            arr = np.asarray(arrays[key])
+            if arr.dtype.hasobject:  # plain numbers and strings only: no pickled objects
+                raise TypeError(f"{key}: object arrays cannot be stored")
             body = io.BytesIO()
-            npformat.write_array(body, np.asarray(arrays[key]), allow_pickle=False)
+            npformat.write_array(body, arr)
             info = zipfile.ZipInfo(f"{key}.npy", date_time=(1980, 1, 1, 0, 0, 0))
             info.compress_type = zipfile.ZIP_DEFLATED
             info.external_attr = 0o644 << 16

@@ -54,6 +54,9 @@ ALLOWED = {
         "the atomic write itself: a private temporary file, fsync-ed, then os.replace",
     ("data/build_solvents.py", "main"):
         "developer script that regenerates the packaged solvents.csv (never a user's file)",
+    ("data/build_structure_model.py", "main"):
+        "developer script that regenerates the packaged structure_model.npz (never a "
+        "user's file)",
 }
 
 

@@ -177,7 +177,7 @@ class StructureModel:
 
     def __init__(self, path=None):
         src = path if path is not None else _model_path()
-        with np.load(src, allow_pickle=False) as z:
+        with np.load(src) as z:  # numpy's default refuses pickled objects
             a = {k: z[k] for k in z.files}
         self.feature_names = tuple(str(s) for s in a["feature_names"])
         self.forests = {t: _Forest(a, t) for t in TARGETS}
