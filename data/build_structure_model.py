@@ -1,9 +1,9 @@
 #!/usr/bin/env python3
-"""Train the structure model behind ``solsphere estimate`` and write ``data/structure_model.npz``.
+"""Train the structure model behind ``solsphere estimate`` and write ``data/structure_model.zip``.
 
 Run from the repository root (needs the extras ``structure`` and ``test``)::
 
-    .venv/bin/python data/build_structure_model.py          # writes data/structure_model.npz
+    .venv/bin/python data/build_structure_model.py          # writes data/structure_model.zip
     .venv/bin/python data/build_structure_model.py --check  # retrains in memory, compares
 
 Training data: only the three journal / data-repository compilations that
@@ -59,7 +59,7 @@ from solsphere.estimate.features import (count_features, cv_group,  # noqa: E402
                                          feature_names, featurise, fingerprints,
                                          parse_smiles)
 
-OUT = HERE / "structure_model.npz"
+OUT = HERE / "structure_model.zip"
 TARGETS = ("dD", "dP", "dH")
 N_TREES, MIN_LEAF, MAX_FEATURES, SEED = 40, 3, 0.3, 0
 FOLDS = 5
@@ -222,7 +222,8 @@ def build(verbose: bool = True) -> dict:
 
 
 def to_bytes(arrays: dict) -> bytes:
-    """A .npz (zip of .npy) with fixed timestamps and order: byte-identical rebuilds."""
+    """numpy's .npz layout (a zip of .npy files; named .zip) with fixed timestamps and
+    order: byte-identical rebuilds."""
     from numpy.lib import format as npformat
     buf = io.BytesIO()
     with zipfile.ZipFile(buf, "w", compression=zipfile.ZIP_DEFLATED) as zf:
@@ -242,15 +243,15 @@ def to_bytes(arrays: dict) -> bytes:
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--check", action="store_true",
-                    help="retrain in memory and compare with data/structure_model.npz")
+                    help="retrain in memory and compare with data/structure_model.zip")
     ap.add_argument("-q", "--quiet", action="store_true")
     args = ap.parse_args(argv)
     blob = to_bytes(build(verbose=not args.quiet))
     digest = hashlib.sha256(blob).hexdigest()
     if args.check:
         same = OUT.exists() and OUT.read_bytes() == blob
-        print("structure_model.npz is up to date" if same
-              else f"structure_model.npz differs from a rebuild (sha256 {digest})")
+        print("structure_model.zip is up to date" if same
+              else f"structure_model.zip differs from a rebuild (sha256 {digest})")
         return 0 if same else 1
     OUT.write_bytes(blob)
     print(f"wrote {OUT} ({len(blob) / 1024:.0f} KiB, sha256 {digest})")

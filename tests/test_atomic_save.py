@@ -55,7 +55,7 @@ ALLOWED = {
     ("data/build_solvents.py", "main"):
         "developer script that regenerates the packaged solvents.csv (never a user's file)",
     ("data/build_structure_model.py", "main"):
-        "developer script that regenerates the packaged structure_model.npz (never a "
+        "developer script that regenerates the packaged structure_model.zip (never a "
         "user's file)",
 }
 

@@ -29,7 +29,7 @@ from solsphere.library.table import hazard_flags, load_library  # noqa: E402
 from solsphere.workflows import candidate_pool  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[1]
-MODEL = ROOT / "data" / "structure_model.npz"
+MODEL = ROOT / "data" / "structure_model.zip"
 #: Pinned so that any change of the shipped model is noticed (rebuild with
 #: data/build_structure_model.py, then update this on purpose, saying why).
 MODEL_SHA256 = "d69e14983403010f17fae5c42aeda964379aa397467337b2458f1fe226b25d6d"

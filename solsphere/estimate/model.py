@@ -1,6 +1,6 @@
 """δD, δP, δH (and δt, molar volume) estimated from a structure, with 95 % intervals.
 
-The model (``data/structure_model.npz``, built by ``data/build_structure_model.py`` from
+The model (``data/structure_model.zip``, built by ``data/build_structure_model.py`` from
 the three compilations of the library only) is a forest of randomised regression trees
 per parameter on RDKit descriptors and group counts, stored as plain arrays and evaluated
 here with numpy (no pickle, no scikit-learn needed at run time). Each estimate comes with
@@ -216,9 +216,9 @@ class StructureModel:
 
 def _model_path():
     try:
-        return files("solsphere.data").joinpath("structure_model.npz")
+        return files("solsphere.data").joinpath("structure_model.zip")
     except ModuleNotFoundError:  # a source checkout that was never installed
-        return Path(__file__).resolve().parents[2] / "data" / "structure_model.npz"
+        return Path(__file__).resolve().parents[2] / "data" / "structure_model.zip"
 
 
 @lru_cache(maxsize=1)
