@@ -23,6 +23,7 @@ pytest.importorskip("rdkit")
 from clirun import run_cli  # noqa: E402
 from solsphere.errors import InputError  # noqa: E402
 from solsphere.estimate import estimate, load_model, plan_from_structure, read_structures  # noqa: E402
+from solsphere.estimate.model import estimate_one  # noqa: E402
 from solsphere.estimate.features import featurise, parse_smiles  # noqa: E402
 from solsphere.io.shelf import read_shelf  # noqa: E402
 from solsphere.library.table import hazard_flags, load_library  # noqa: E402
@@ -274,7 +275,7 @@ def test_shelf_smiles_column(tmp_path, lib):
     p = tmp_path / "shelf.csv"
     p.write_text("solvent,smiles,price\ntoluene,CCO,3\nmy lactone,CC1CCC(=O)O1,10\n",
                  encoding="utf-8")
-    got = {s.name: s for s in read_shelf(p, lib)}
+    got = {s.name: s for s in read_shelf(p, lib, structure=estimate_one)}
     # the library's (compilation) values win over any structure
     assert got["toluene"].point == lib.lookup("toluene").point
     assert got["toluene"].sources == lib.lookup("toluene").sources
@@ -285,15 +286,30 @@ def test_shelf_smiles_column(tmp_path, lib):
     assert mine.price == 10
 
 
+def test_cli_rank_with_a_shelf_smiles_column(tmp_path):
+    """Through the command line, the workflow passes the estimator to the shelf reader."""
+    shelf = tmp_path / "shelf.csv"
+    shelf.write_text("solvent,smiles\ntoluene,\nmy lactone,CC1CCC(=O)O1\n", encoding="utf-8")
+    demo = ROOT / "data" / "demo" / "varnish_binder.csv"
+    rc, out, err = run_cli(["rank", demo, "--candidates", shelf, "--json"])
+    assert rc == 0, err
+    rows = {r["name"]: r for r in json.loads(out)["solvents"]}
+    assert any("estimated from structure" in f for f in rows["my lactone"]["flags"])
+
+
 def test_shelf_bad_smiles_names_line_and_column(tmp_path, lib):
     p = tmp_path / "shelf.csv"
     p.write_text("solvent,smiles\nmine,C1CC\n", encoding="utf-8")
     with pytest.raises(InputError) as info:
-        read_shelf(p, lib)
+        read_shelf(p, lib, structure=estimate_one)
     assert (info.value.line, info.value.column) == (2, "smiles")
+    p.write_text("solvent,smiles\nmine,CCO\n", encoding="utf-8")
+    with pytest.raises(InputError) as info:  # no estimator given: say what to do
+        read_shelf(p, lib)
+    assert info.value.column == "smiles" and "structure" in str(info.value)
     p.write_text("solvent,smiles\nsalt,[Na+].[Cl-]\n", encoding="utf-8")
     with pytest.raises(InputError) as info:
-        read_shelf(p, lib)
+        read_shelf(p, lib, structure=estimate_one)
     assert "no estimate" in str(info.value) and re.search(r"dD, dP, dH", str(info.value))
 
 

@@ -34,10 +34,11 @@ import numpy as np
 from rdkit import Chem
 
 from solsphere.errors import InputError
+from solsphere.results import Result
 from solsphere.estimate.features import (element_counts, featurise, fingerprints,
                                          parse_smiles, tanimoto_max)
 
-__all__ = ["Estimate", "Estimates", "StructureModel", "load_model", "estimate",
+__all__ = ["Estimate", "Estimates", "StructureModel", "load_model", "estimate", "estimate_one",
            "MAX_HEAVY_ATOMS", "WIDEN", "RARE_ELEMENT", "LOW_SIMILARITY"]
 
 TARGETS = ("dD", "dP", "dH")
@@ -117,20 +118,19 @@ class Estimate:
 
 
 @dataclass
-class Estimates:
+class Estimates(Result):
     """Result of :func:`estimate`: one :class:`Estimate` per input, in input order."""
 
     estimates: list
+    rows_key = "estimates"
 
     def to_dict(self) -> dict:
         """JSON-safe (the ``solsphere estimate --json`` object)."""
         return {"estimates": [e.to_dict() for e in self.estimates], "caution": CAUTION,
                 "interval": "95 % (value ± u95)"}
 
-    def to_frame(self):
-        import pandas as pd  # deferred: pandas is only needed for this view
-        return pd.DataFrame([{k: v for k, v in e.to_dict().items() if k != "notes"}
-                             | {"notes": "; ".join(e.notes)} for e in self.estimates])
+    def records(self) -> list[dict]:
+        return [dict(e.to_dict(), notes="; ".join(e.notes)) for e in self.estimates]
 
     def __iter__(self):
         return iter(self.estimates)
@@ -259,6 +259,12 @@ def _widen_notes(mol, sim: float, model: StructureModel, els: dict) -> list[str]
         notes.append(f"unlike every training compound (similarity {sim:.2f} < "
                      f"{LOW_SIMILARITY:g}): intervals widened x{WIDEN:g}")
     return notes
+
+
+def estimate_one(smiles: str) -> Estimate:
+    """:func:`estimate` of one SMILES with the packaged model (what a shelf's ``smiles``
+    column uses)."""
+    return estimate([smiles])[0]
 
 
 def estimate(smiles, *, labels=None, model: StructureModel | None = None,

@@ -28,6 +28,7 @@ import numpy as np
 
 from solsphere.hansen import ra
 from solsphere.library.table import hazard_flags
+from solsphere.results import Result
 from solsphere.uncertainty.nexttrials import Suggestion, select_informative
 
 __all__ = ["StructurePlan", "plan_from_structure", "prior_spheres", "R0_RANGE"]
@@ -40,8 +41,10 @@ CAUTION = ("A plan from an estimated centre: it chooses informative first trials
 
 
 @dataclass
-class StructurePlan:
+class StructurePlan(Result):
     """Result of :func:`plan_from_structure`: the first trials in order."""
+
+    rows_key = "suggestions"
 
     suggestions: list
     estimate: object
@@ -63,10 +66,6 @@ class StructurePlan:
                 "prior": {"centre": "estimate ± u95 (normal, sd u95/1.96)",
                           "R0_range": list(self.r0_range), "R0": "log-uniform"},
                 "warnings": list(self.warnings), "caution": CAUTION}
-
-    def to_frame(self):
-        import pandas as pd  # deferred: pandas is only needed for this view
-        return pd.DataFrame([s.to_dict() for s in self.suggestions])
 
     def __str__(self) -> str:
         e = self.estimate
