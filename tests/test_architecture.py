@@ -31,7 +31,9 @@ LAYERS = (
 # Function-level imports are allowed only to defer a heavy optional dependency.
 DEFERRABLE = ("plotly", "dash", "dash_ag_grid", "scipy.stats", "rdkit", "thermo", "gunicorn",
               "pandas", "sklearn", "kaleido", "openpyxl", "python_calamine", "odf", "emcee",
-              "diskcache", "solsphere.app", "solsphere.commands", "solsphere.report.share")
+              "diskcache", "solsphere.app", "solsphere.commands", "solsphere.report.share",
+              "solsphere.estimate", "chemicals")
+# (solsphere.estimate loads RDKit and chemicals its identifier database: optional extras)
 
 
 def _module_name(path: Path) -> str:
