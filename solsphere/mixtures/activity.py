@@ -96,13 +96,15 @@ class _GroupSet:
                     self.a[p, q], self.b[p, q], self.c[p, q] = v
                 else:
                     self.a[p, q] = v
-        has = self.nu > 0  # (k, S)
-        missing = (~known).astype(float)
+        has = (self.nu > 0).astype(float)  # (k, S)
+        miss = (~known).astype(float)
         # components i and j can be mixed when every pair of their groups has parameters
-        g_any = (has[:, None, :] | has[None, :, :]).astype(float)  # (k, k, S)
-        bad = np.einsum("ijp,pq,ijq->ij", g_any, missing, g_any) > 0
+        own = np.einsum("ip,pq,iq->i", has, miss, has) > 0
+        cross = (has @ miss @ has.T > 0) | (has @ miss.T @ has.T > 0)
         self.usable = np.array(usable)
-        self.pair_ok = ~bad & self.usable[:, None] & self.usable[None, :]
+        self.pair_ok = (~cross & ~own[:, None] & ~own[None, :]
+                        & self.usable[:, None] & self.usable[None, :])
+        self._cache: dict = {}
 
     def rows_ok(self, idx: np.ndarray, present: np.ndarray) -> np.ndarray:
         """Rows whose present components all pair up with known parameters."""
@@ -115,7 +117,6 @@ class _GroupSet:
         R, Q = self.R, self.Q
         r = nu @ R
         q = nu @ Q
-        tiny = 1e-300
         # combinatorial part
         xr = np.einsum("nk,nk->n", x, r)[:, None]
         xq = np.einsum("nk,nk->n", x, q)[:, None]
@@ -129,29 +130,53 @@ class _GroupSet:
             Vp = V
         ln_c = 1.0 - Vp + np.log(Vp) - 5.0 * q * (1.0 - V / F + np.log(V / F))
         # residual part
-        Tn = T[:, None, None]
-        psi = np.exp(-(self.a[None] + self.b[None] * Tn + self.c[None] * Tn ** 2) / Tn)
-
-        def ln_Gamma(X):  # X (n, ..., S) group mole fractions; psi (n, S, S)
-            th = X * Q
-            th = th / np.maximum(th.sum(axis=-1, keepdims=True), tiny)
-            if th.ndim == 2:
-                s1 = np.einsum("nm,nmk->nk", th, psi)
-                s2 = np.einsum("nm,nkm->nk", th / s1, psi)
-            else:
-                s1 = np.einsum("njm,nmk->njk", th, psi)
-                s2 = np.einsum("njm,nkm->njk", th / s1, psi)
-            return Q * (1.0 - np.log(s1) - s2)
-
-        xn = np.einsum("nk,nks->ns", x, nu)
-        X = xn / np.maximum(xn.sum(axis=1, keepdims=True), tiny)
-        tot = nu.sum(axis=2, keepdims=True)
-        Xp = nu / np.where(tot > 0, tot, 1.0)
-        lnG = ln_Gamma(X)  # (n, S)
-        lnGp = ln_Gamma(Xp)  # (n, K, S)
+        if np.all(T == T[0]):  # one temperature: psi and the pure parts once (cached)
+            psi, pure = self._at(float(T[0]))
+            lnG = self._ln_Gamma(np.einsum("nk,nks->ns", x, nu), psi)  # (n, S)
+            lnGp = pure[idx]  # (n, K, S)
+        else:
+            Tn = T[:, None, None]
+            psi = np.exp(-(self.a[None] + self.b[None] * Tn + self.c[None] * Tn ** 2) / Tn)
+            lnG = self._ln_Gamma(np.einsum("nk,nks->ns", x, nu), psi)
+            lnGp = self._ln_Gamma(nu, psi)
         ln_r = np.einsum("nks,nks->nk", nu, lnG[:, None, :] - lnGp)
         out = ln_c + ln_r
         return np.where(r > 0, out, 0.0)
+
+    def _at(self, T: float):
+        """(psi, pure-component ln Γ of every component) at one temperature, cached."""
+        key = round(T, 9)
+        hit = self._cache.get(key)
+        if hit is None:
+            psi = np.exp(-(self.a + self.b * T + self.c * T ** 2) / T)
+            pure = self._ln_Gamma(self.nu, psi)
+            if len(self._cache) > 64:
+                self._cache.clear()
+            hit = self._cache[key] = (psi, pure)
+        return hit
+
+    def _ln_Gamma(self, counts, psi):
+        """Group activity coefficients ln Γ_k for group counts (..., S); psi (S, S) or
+        (n, S, S) with counts (n, S) or (n, K, S)."""
+        Q = self.Q
+        with np.errstate(divide="ignore", invalid="ignore"):  # components without groups
+            out = self._ln_Gamma_raw(counts, psi, Q)
+        return np.nan_to_num(out, nan=0.0, posinf=0.0, neginf=0.0)
+
+    @staticmethod
+    def _ln_Gamma_raw(counts, psi, Q):
+        th = counts * Q
+        th = th / np.maximum(th.sum(axis=-1, keepdims=True), 1e-300)
+        if psi.ndim == 2:
+            s1 = th @ psi
+            s2 = (th / s1) @ psi.T
+        elif th.ndim == 2:
+            s1 = np.einsum("nm,nmk->nk", th, psi)
+            s2 = np.einsum("nm,nkm->nk", th / s1, psi)
+        else:
+            s1 = np.einsum("njm,nmk->njk", th, psi)
+            s2 = np.einsum("njm,nkm->njk", th / s1, psi)
+        return Q * (1.0 - np.log(s1) - s2)
 
 
 class ActivityModel:
