@@ -71,7 +71,7 @@ from scipy.optimize import brentq
 
 __all__ = ["blend_flash_point", "clausius_clapeyron_B", "vapour_pressure",
            "liaw_flash_points", "mixture_flash_point", "NON_FLASHING_CAS", "SAFETY_MARGIN_C",
-           "component_flash_points"]
+           "component_flash_points", "blend_flash_results"]
 
 KELVIN = 273.15
 ATMOSPHERE_KPA = 101.325
@@ -356,43 +356,59 @@ def mixture_flash_point(solvents, mole_fractions, *, model=None, vapour=None) ->
     >>> r["minimum_flash_point"], r["estimate"] < min(4.0, 13.0)
     (True, True)
     """
-    from solsphere.mixtures.activity import METHODS, ActivityModel
+    from solsphere.mixtures.activity import ActivityModel
     from solsphere.mixtures.vapour import VapourPressures
     solvents = list(solvents)
     k = len(solvents)
     x = np.asarray(mole_fractions, dtype=float).reshape(-1)
     if x.shape[0] != k or not np.all(np.isfinite(x)) or np.any(x < 0) or not x.sum() > 0:
         raise ValueError("mole fractions: one non-negative value per component, sum > 0")
-    x = x / x.sum()
     model = model or ActivityModel(solvents)
     vapour = vapour or VapourPressures(solvents)
-    fp = component_flash_points(solvents)
-    T, method, why = liaw_flash_points(model, vapour, fp, np.arange(k)[None], x[None])
-    present = x > 0
-    flam = [i for i in range(k) if present[i] and math.isfinite(fp[i])]
-    notes: list[str] = []
-    out = {"estimate": None, "model": None, "conservative": None,
-           "conservative_component": None, "minimum_flash_point": False,
-           "activity_model": METHODS[int(method[0])],
-           "method": ("Liaw's model with activity coefficients "
-                      f"({METHODS[int(method[0])]}), vapour pressures from chemicals "
-                      f"correlations; estimate = model - {SAFETY_MARGIN_C:g} °C"),
-           "caveat": LIAW_CAVEAT, "safety_margin": SAFETY_MARGIN_C, "notes": notes}
-    if flam:
-        low = min(flam, key=lambda i: fp[i])
-        out["conservative"] = float(fp[low])
-        out["conservative_component"] = int(low)
-    if why[0] is not None:
-        notes.append(f"no estimate: {why[0]}")
-        return out
-    root = float(T[0])
-    out["model"] = root
-    out["estimate"] = math.floor(root - SAFETY_MARGIN_C)  # whole degrees, rounded down
-    if out["conservative"] is not None and root < out["conservative"] - 0.5:
-        out["minimum_flash_point"] = True
-        notes.append("minimum-flash-point behaviour: the blend is estimated to flash below "
-                     "its lowest-flashing component")
-    if int(method[0]) >= 2:
-        notes.append("no UNIFAC groups for every component: activity coefficients from "
-                     "the rough fallback; treat the estimate with extra caution")
+    return blend_flash_results(model, vapour, np.arange(k)[None], x[None])[0]
+
+
+def blend_flash_results(model, vapour, idx, x) -> list[dict]:
+    """:func:`mixture_flash_point`'s dict for many blends at once (one Liaw solve).
+
+    ``idx`` (n, K) indexes ``model.solvents`` (the same pool as ``vapour``); ``x`` (n, K)
+    are liquid mole fractions.
+    """
+    from solsphere.mixtures.activity import METHODS
+    idx = np.atleast_2d(np.asarray(idx, dtype=int))
+    x = np.atleast_2d(np.asarray(x, dtype=float))
+    x = x / x.sum(axis=1, keepdims=True)
+    fp_pool = component_flash_points(model.solvents)
+    T, method, why = liaw_flash_points(model, vapour, fp_pool, idx, x)
+    out = []
+    for r in range(idx.shape[0]):
+        fp = fp_pool[idx[r]]
+        label = METHODS[int(method[r])]
+        notes: list[str] = []
+        d = {"estimate": None, "model": None, "conservative": None,
+             "conservative_component": None, "minimum_flash_point": False,
+             "activity_model": label,
+             "method": (f"Liaw's model with activity coefficients ({label}), vapour "
+                        f"pressures from chemicals correlations; estimate = model - "
+                        f"{SAFETY_MARGIN_C:g} °C, rounded down"),
+             "caveat": LIAW_CAVEAT, "safety_margin": SAFETY_MARGIN_C, "notes": notes}
+        flam = [i for i in range(idx.shape[1]) if x[r, i] > 0 and math.isfinite(fp[i])]
+        if flam:
+            low = min(flam, key=lambda i: fp[i])
+            d["conservative"] = float(fp[low])
+            d["conservative_component"] = int(low)
+        if why[r] is not None:
+            notes.append(f"no estimate: {why[r]}")
+        else:
+            root = float(T[r])
+            d["model"] = root
+            d["estimate"] = float(math.floor(root - SAFETY_MARGIN_C))
+            if d["conservative"] is not None and root < d["conservative"] - 0.5:
+                d["minimum_flash_point"] = True
+                notes.append("minimum-flash-point behaviour: the blend is estimated to "
+                             "flash below its lowest-flashing component")
+            if int(method[r]) >= 2:
+                notes.append("no UNIFAC groups for every component: activity coefficients "
+                             "from the rough fallback; treat the estimate with extra caution")
+        out.append(d)
     return out

@@ -27,14 +27,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Sequence
 
 import numpy as np
 
 from solsphere.mixtures.activity import METHODS, REGULAR, ActivityModel
 
-__all__ = ["WATER_SOLUBILITY", "PairSplit", "pair_splits", "blend_phases", "PhaseCheck",
-           "check_phases"]
+__all__ = ["WATER_SOLUBILITY", "PairSplit", "pair_splits", "pair_split", "blend_phases",
+           "PhaseCheck", "check_phases", "volume_gap"]
 
 WATER_CAS = "7732-18-5"
 
@@ -185,6 +186,30 @@ def pair_splits(model: ActivityModel, pairs, T_C: float = 25.0, *,
             gap = _lower_hull_gap(_GRID, g[k]) if maybe[k] else None
             out[r] = PairSplit(gap is not None, gap, label)
     return out  # type: ignore[return-value]
+
+
+@lru_cache(maxsize=4096)
+def pair_split(a, b, T_C: float = 25.0) -> PairSplit:
+    """:func:`pair_splits` for one pair of solvents (cached: the blend screens ask often).
+
+    ``method`` is "ideal solution ..." when no activity model applies to the pair.
+
+    >>> from solsphere.library.table import load_library
+    >>> lib = load_library()
+    >>> s = pair_split(lib.lookup("water"), lib.lookup("ethyl acetate"))
+    >>> s.splits, s.method.startswith("published")
+    (True, True)
+    """
+    return pair_splits(ActivityModel([a, b]), [[0, 1]], T_C)[0]
+
+
+def volume_gap(split: PairSplit, a, b) -> tuple[float, float] | None:
+    """The gap of a pair split as volume fractions of ``a`` (None without molar volumes)."""
+    if split.gap is None or not a.molar_volume or not b.molar_volume:
+        return None
+    lo, hi = split.gap
+    return tuple(float(x * a.molar_volume / (x * a.molar_volume + (1 - x) * b.molar_volume))
+                 for x in (lo, hi))  # type: ignore[return-value]
 
 
 def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int = 30):
