@@ -45,6 +45,7 @@ bench: $(STAMP)
 
 data: $(STAMP)
 	$(PY) data/build_solvents.py
+	$(PY) data/build_mixtures.py
 
 clean:
 	rm -rf $(VENV) $(OUT) build *.egg-info

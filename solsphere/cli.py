@@ -162,11 +162,24 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
                    help="lower volume-fraction limit (repeatable)")
     p.add_argument("--drying", action="store_true",
-                   help="simulate evaporation (Raoult's law) and report when the drying "
-                        "liquid leaves the sphere")
+                   help="simulate evaporation (activity coefficients, evaporative cooling) "
+                        "and report when the drying liquid leaves the sphere")
     p.add_argument("--rank-by", choices=("red", "drying", "cost"), default="red",
                    help="order: RED (default); drying (with --drying: longest inside "
                         "first); cost (inside blends, cheapest first; needs shelf prices)")
+
+    p = sub.add_parser("mixture", help="flash point, vapour pressure, phases and drying path "
+                       "of one blend (activity coefficients)", epilog=EPILOG)
+    p.add_argument("spec", metavar="SPEC",
+                   help="the blend as in a bench file, volume parts: \"ethanol 10 + water 90\" "
+                        "(one solvent alone is a mixture of one)")
+    p.add_argument("--material", metavar="PROJECT",
+                   help="results or project file: say when the drying liquid leaves its sphere")
+    p.add_argument("--temperature", type=_number, default=25.0, metavar="°C",
+                   help="temperature of the liquid and the air (default 25)")
+    p.add_argument("--humidity", type=_number, default=0.0, metavar="%",
+                   help="relative humidity of the air for the drying path, 0-100 (default 0)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = sub.add_parser("replace", help="solvents and pairs that can replace a given solvent",
                        epilog=EPILOG)
@@ -433,6 +446,29 @@ def cmd_blend(args) -> int:
     return 0
 
 
+def cmd_mixture(args) -> int:
+    from solsphere.library.table import load_library
+    from solsphere.mixtures.mixture import analyse_mixture
+    if not 0.0 <= args.humidity <= 100.0:
+        raise InputError(f"--humidity {args.humidity:g} is not a relative humidity.",
+                         file="<command line>", column="--humidity",
+                         hint="give a percentage from 0 to 100")
+    if not -60.0 <= args.temperature <= 300.0:
+        raise InputError(f"--temperature {args.temperature:g} °C is outside -60 to 300 °C.",
+                         file="<command line>", column="--temperature",
+                         hint="give the process temperature in °C")
+    lib = load_library()
+    material = None
+    if args.material:
+        from solsphere.io.project import load_any
+        from solsphere.workflows import fit_project
+        material = fit_project(load_any(args.material, library=lib), library=lib)
+    report = analyse_mixture(args.spec, library=lib, material=material,
+                             temperature_C=args.temperature, humidity=args.humidity / 100.0)
+    _emit(args, report.to_dict(), str(report))
+    return 0
+
+
 def cmd_replace(args) -> int:
     from solsphere.library.table import load_library
     from solsphere.design.substitution import find_substitutes
@@ -496,7 +532,7 @@ def cmd_app(args) -> int:
 
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app, "mixture": cmd_mixture}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -509,7 +545,8 @@ def main(argv: list[str] | None = None) -> int:
         return COMMANDS[args.command](args)
     except SolsphereError as exc:
         text = str(exc)
-        where = getattr(args, "file", None) or getattr(args, "for_material", None)
+        where = (getattr(args, "file", None) or getattr(args, "for_material", None)
+                 or getattr(args, "material", None))
         if isinstance(exc, FitError) and where and where not in text:
             text = f"{where}: {text}"  # name the file whose results cannot be fitted
         print(f"solsphere: error: {text}", file=sys.stderr)

@@ -223,7 +223,8 @@ class DryingPath:
                                else self.names[self.last_component]),
             "last_component_index": self.last_component,
             "residue": floats(self.residue),
-            "red_at_end": float(self.red_at_end),
+            "red_at_end": (float(self.red_at_end) if math.isfinite(self.red_at_end)
+                           else None),
             "exit_composition": (None if self.exit_composition is None
                                  else floats(self.exit_composition)),
             "max_fraction_evaporated": float(self.max_fraction_evaporated),

@@ -368,11 +368,14 @@ def mixture_flash_point(solvents, mole_fractions, *, model=None, vapour=None) ->
     return blend_flash_results(model, vapour, np.arange(k)[None], x[None])[0]
 
 
-def blend_flash_results(model, vapour, idx, x) -> list[dict]:
+def blend_flash_results(model, vapour, idx, x, *, split=None) -> list[dict]:
     """:func:`mixture_flash_point`'s dict for many blends at once (one Liaw solve).
 
     ``idx`` (n, K) indexes ``model.solvents`` (the same pool as ``vapour``); ``x`` (n, K)
-    are liquid mole fractions.
+    are liquid mole fractions. ``split`` (optional, one entry per row): None, or the
+    mole fractions of the two liquid phases of a blend that separates
+    (:func:`solsphere.mixtures.phases.phase_compositions`); such a blend gets the lower
+    of its two phases' flash points (the safe side).
     """
     from solsphere.mixtures.activity import METHODS
     idx = np.atleast_2d(np.asarray(idx, dtype=int))
@@ -380,6 +383,14 @@ def blend_flash_results(model, vapour, idx, x) -> list[dict]:
     x = x / x.sum(axis=1, keepdims=True)
     fp_pool = component_flash_points(model.solvents)
     T, method, why = liaw_flash_points(model, vapour, fp_pool, idx, x)
+    two = [r for r in range(idx.shape[0]) if split is not None and split[r] is not None]
+    if two:
+        ph = np.array([y for r in two for y in split[r]])
+        T2, _, _ = liaw_flash_points(model, vapour, fp_pool, np.repeat(idx[two], 2, axis=0), ph)
+        for k, r in enumerate(two):
+            lowest = np.nanmin(T2[2 * k:2 * k + 2]) if np.isfinite(T2[2 * k:2 * k + 2]).any() else np.nan
+            if np.isfinite(lowest):
+                T[r] = lowest if not np.isfinite(T[r]) else min(T[r], lowest)
     out = []
     for r in range(idx.shape[0]):
         fp = fp_pool[idx[r]]
@@ -407,6 +418,8 @@ def blend_flash_results(model, vapour, idx, x) -> list[dict]:
                 d["minimum_flash_point"] = True
                 notes.append("minimum-flash-point behaviour: the blend is estimated to "
                              "flash below its lowest-flashing component")
+            if r in two:
+                notes.append("two liquid phases: the lower of the phases' flash points")
             if int(method[r]) >= 2:
                 notes.append("no UNIFAC groups for every component: activity coefficients "
                              "from the rough fallback; treat the estimate with extra caution")

@@ -35,7 +35,8 @@ import numpy as np
 from solsphere.mixtures.activity import METHODS, REGULAR, ActivityModel
 
 __all__ = ["WATER_SOLUBILITY", "PairSplit", "pair_splits", "pair_split", "blend_phases",
-           "PhaseCheck", "check_phases", "volume_gap"]
+           "PhaseCheck", "check_phases", "volume_gap",
+           "phase_compositions"]
 
 WATER_CAS = "7732-18-5"
 
@@ -263,6 +264,29 @@ def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int =
             # published water data override the model on the water-solvent edges only
             # when the third component is absent; with three present the model decides
     return phases, methods
+
+
+def phase_compositions(model: ActivityModel, idx, x, T_C: float = 25.0) -> list:
+    """For each two-component blend that separates: the mole fractions of its two
+    liquid phases (rows of shape (K,)); None for every other blend."""
+    idx = np.atleast_2d(np.asarray(idx, dtype=int))
+    x = np.atleast_2d(np.asarray(x, dtype=float))
+    x = x / x.sum(axis=1, keepdims=True)
+    out: list = [None] * idx.shape[0]
+    present = x > 0
+    rows = np.flatnonzero(present.sum(axis=1) == 2)
+    if rows.size == 0:
+        return out
+    cols = np.array([np.flatnonzero(present[r])[:2] for r in rows])
+    for r, c, s in zip(rows, cols, pair_splits(model, idx[rows[:, None], cols], T_C)):
+        if s.gap is not None and s.gap[0] < x[r, c[0]] < s.gap[1]:
+            pair = []
+            for g in s.gap:
+                y = np.zeros(idx.shape[1])
+                y[c[0]], y[c[1]] = g, 1.0 - g
+                pair.append(y)
+            out[r] = tuple(pair)
+    return out
 
 
 @dataclass
