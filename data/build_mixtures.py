@@ -13,11 +13,12 @@ For every compound of ``data/solvents.csv``:
   ``chemicals.identifiers``); where the tables have none, derived from the structure
   (SMILES from ``chemicals``) by ``thermo``'s SMARTS fragmentation with RDKit, kept only
   when every heavy atom is matched exactly once. The ``groups_source`` column says which.
-- **Vapour pressure as a function of temperature**: ``thermo.VaporPressure`` (at each
-  temperature the first of its ranked ``chemicals`` correlations valid there; the
+- **Vapour pressure as a function of temperature**: ``thermo.VaporPressure`` (the first
+  of its ranked ``chemicals`` correlations valid at 25 °C, else the widest; the
   Ambrose–Walton corresponding-states estimate only where none exists) evaluated on 80 temperatures between
   ``vp_tmin`` and ``vp_tmax`` and refitted by linear least squares to
-  ``ln(P/Pa) = A + B/T + C ln T + D T²`` (the DIPPR 101 form with exponent 2), so the
+  ``ln(P/Pa) = A + B/T + C ln T + D T²`` (the DIPPR 101 form with exponent 2; only the
+  first two or three terms when the range is narrower than 80 or 150 K), so the
   runtime evaluates it for many blends at once without importing ``chemicals``. The
   fit's largest error in ln P over the range is kept in ``vp_fit_err``.
 
@@ -44,6 +45,7 @@ COLUMNS = ["cas", "inchikey", "dortmund", "unifac", "groups_source", "vp_method"
 #: Fitting range limits [K]: not below 200 K, not above 0.95 Tc nor 700 K (our choice:
 #: the range of processing and flash-point temperatures with margin).
 T_LOW, T_HIGH = 200.0, 700.0
+T25 = 298.15
 
 
 def groups_text(groups: dict | None) -> str:
@@ -81,9 +83,9 @@ ESTIMATES = ("AMBROSE_WALTON", "LEE_KESLER_PSAT", "EDALAT", "BOILING_CRITICAL", 
 def vapour_fit(cas: str):
     """(method, tmin, tmax, A, B, C, D, max error in ln P) or None.
 
-    At each temperature the first of ``thermo``'s ranked methods valid there is used
-    (so a narrow fit does not hide a wider one); with no correlation at all, the
-    Ambrose–Walton corresponding-states estimate from Tb, Tc, Pc, ω (``chemicals``).
+    One method per compound: the first of ``thermo``'s ranked methods valid at 25 °C,
+    else the one with the widest range; with no correlation at all, the Ambrose–Walton
+    corresponding-states estimate from Tb, Tc, Pc, ω (``chemicals``).
     """
     from chemicals import acentric, critical, phase_change
     from thermo.vapor_pressure import VaporPressure
@@ -105,8 +107,12 @@ def vapour_fit(cas: str):
         if not methods:
             return None
     limits = {m: vp.T_limits[m] for m in methods}
-    lo = max(min(l[0] for l in limits.values()), T_LOW)
-    hi = min(max(l[1] for l in limits.values()), T_HIGH)
+    # one method, so correlations that disagree are never stitched together: the first
+    # ranked method valid at 25 °C, else the one with the widest range
+    at25 = [m for m in methods if limits[m][0] <= T25 <= limits[m][1]]
+    method = at25[0] if at25 else max(methods, key=lambda m: limits[m][1] - limits[m][0])
+    lo = max(limits[method][0], T_LOW)
+    hi = min(limits[method][1], T_HIGH)
     Tc = getattr(vp, "Tc", None)
     if Tc:
         hi = min(hi, 0.95 * Tc)
@@ -114,25 +120,24 @@ def vapour_fit(cas: str):
         return None
     T = np.linspace(lo, hi, 80)
     P = np.full_like(T, np.nan)
-    used = []
     for i, t in enumerate(T):
-        for m in methods:
-            a, b = limits[m]
-            if a <= t <= b:
-                try:
-                    P[i] = vp.calculate(float(t), m)
-                except Exception:
-                    continue
-                if m not in used:
-                    used.append(m)
-                break
+        try:
+            P[i] = vp.calculate(float(t), method)
+        except Exception:
+            continue
+    used = [method]
     ok = np.isfinite(P) & (P > 0)
     if ok.sum() < 20:
         return None
     T, lnP = T[ok], np.log(P[ok])
-    X = np.column_stack([np.ones_like(T), 1.0 / T, np.log(T), T ** 2])
+    # fewer terms over a narrow range, so extrapolation (to 25 °C or a flash point)
+    # stays tame: 2 terms (Clausius-Clapeyron) below 80 K of range, 3 below 150 K
+    width = T[-1] - T[0]
+    n_terms = 2 if width < 80.0 else 3 if width < 150.0 else 4
+    X = np.column_stack([np.ones_like(T), 1.0 / T, np.log(T), T ** 2])[:, :n_terms]
     coef, *_ = np.linalg.lstsq(X, lnP, rcond=None)
     err = float(np.max(np.abs(X @ coef - lnP)))
+    coef = np.concatenate([coef, np.zeros(4 - n_terms)])
     label = "+".join(used) + (" (estimate from Tb, Tc, Pc, omega)" if used[0] in ESTIMATES else "")
     return label, float(T[0]), float(T[-1]), *map(float, coef), err
 
