@@ -529,29 +529,39 @@ def _k_rel(mw, vm):
     return (_diffusivity(mw, vm) / _diffusivity(*BUTYL_ACETATE)) ** (2.0 / 3.0)
 
 
-def _film_temperature(k, xg, coef, scale, p_inf, T_air, beta, iters: int = 40):
-    """Film temperature [K] per row by bisection on the heat balance.
+def _film_temperature(k, xg, coef, scale, p_inf, T_air, beta, T0=None, iters: int = 30):
+    """Film temperature [K] per row from the heat balance (safeguarded Newton).
 
     k, xg (= x γ), coef (..., 4) ln P fit, scale, p_inf [kPa]: arrays of shape (n, K).
+    ``T0`` (n,) is a starting guess (the previous step's film temperature).
     """
+    A, B, C, D = (coef[..., i] for i in range(4))
+    xg = np.nan_to_num(xg)
     lo = np.full(T_air.shape, 150.0)
     hi = T_air + 30.0
-    A, B, C, D = (coef[..., i] for i in range(4))
-
-    def balance(Ts):
+    Ts = np.clip(T_air - 5.0 if T0 is None else T0, lo, hi)
+    for _ in range(iters):
         t = Ts[:, None]
         with np.errstate(over="ignore", invalid="ignore"):
-            p = np.exp(A + B / t + C * np.log(t) + D * t ** 2) / 1000.0 * scale
+            p = np.nan_to_num(np.exp(A + B / t + C * np.log(t) + D * t ** 2) / 1000.0 * scale)
         dH = R_GAS * (-B + C * t + 2.0 * D * t ** 3)
-        q = np.nansum(k * (xg * p - p_inf) / P_TOTAL * dH, axis=1)
-        return beta * CP_AIR * (T_air - Ts) - q
-
-    for _ in range(iters):
-        mid = 0.5 * (lo + hi)
-        pos = balance(mid) > 0  # too cold: more heat in than out -> warmer
-        hi = np.where(pos, hi, mid)
-        lo = np.where(pos, mid, lo)
-    return 0.5 * (lo + hi)
+        drive = k * (xg * p - p_inf) / P_TOTAL
+        f = beta * CP_AIR * (T_air - Ts) - (drive * dH).sum(axis=1)
+        # d/dTs: dP/dT = P ΔH / (R T²); dΔH/dT = R (C + 6 D T²)
+        df = (-beta * CP_AIR
+              - (k * xg * p / P_TOTAL * dH * dH / (R_GAS * t * t)).sum(axis=1)
+              - (drive * R_GAS * (C + 6.0 * D * t * t)).sum(axis=1))
+        pos = f > 0  # heat in exceeds heat out: the root is warmer
+        lo = np.where(pos, Ts, lo)
+        hi = np.where(pos, hi, Ts)
+        step = np.where(df < 0, -f / np.where(df < 0, df, -1.0), 0.0)
+        new = Ts + step
+        bad = ~np.isfinite(new) | (new <= lo) | (new >= hi)
+        new = np.where(bad, 0.5 * (lo + hi), new)
+        if np.all(np.abs(new - Ts) < 1e-7):
+            return new
+        Ts = new
+    return Ts
 
 
 def relative_evaporation_rates(solvents, T_C: float = 25.0,
@@ -639,12 +649,15 @@ def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
     p_inf = np.where(is_water, humidity * p_w_air, 0.0)
     nmol = np.where(present, phi0 / Vm, 0.0)
 
+    Ts_last = [None]
+
     def rates(nm):
         tot = nm.sum(axis=1, keepdims=True)
         x = nm / np.where(tot > 0, tot, 1.0)
         lg, meth = model.ln_gamma(idx, np.where(x > 0, x, 0.0) + 1e-300, T_C)
         xg = x * np.exp(lg)
-        Ts = _film_temperature(k, xg, coef, scale, p_inf, T_air, beta)
+        Ts = _film_temperature(k, xg, coef, scale, p_inf, T_air, beta, T0=Ts_last[0])
+        Ts_last[0] = Ts
         t = Ts[:, None]
         A, B, C, D = (coef[..., i] for i in range(4))
         with np.errstate(over="ignore", invalid="ignore"):
@@ -694,14 +707,21 @@ def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
             continue
         fa = f_actual[:, b]
         last = int(np.searchsorted(fa, fa.max() - 1e-12)) if stuck[b] else steps
-        sel = np.clip(np.searchsorted(fa[:last + 1], f_grid), 0, last)
-        nmb = traj[sel, b]
+        fg = f_grid[f_grid <= fa[last] + 1e-12] if stuck[b] else f_grid
+        if fg.size < 2:
+            fg = fa[:last + 1][[0, -1]]
+
+        def on_grid(v):  # linear interpolation of a step quantity onto the report grid
+            return np.interp(fg, fa[:last + 1], v[:last + 1])
+        nmb = np.column_stack([on_grid(traj[:, b, c]) for c in range(K)])
+        ts_b = on_grid(Ts_traj[:, b])
+        time_b = on_grid(time_traj[:, b])
         phis = nmb * Vm[b]
         phis = phis / np.where(phis.sum(axis=1, keepdims=True) > 0, phis.sum(axis=1, keepdims=True), 1.0)
         xs = nmb / np.where(nmb.sum(axis=1, keepdims=True) > 0, nmb.sum(axis=1, keepdims=True), 1.0)
         P = pts_pool[idx[b]]
         pts = phis @ P
-        fr = fa[sel]
+        fr = fg
         notes = []
         if stuck[b]:
             notes.append(f"evaporation stops at {100 * fa[last]:.0f} % evaporated "
@@ -709,7 +729,7 @@ def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
         residue = phis[-1]
         dom = int(np.argmax(residue))
         last_comp = dom if residue[dom] > 0.98 else None
-        leaves, exit_phi, red_arr, red_end, starts = None, None, np.full(len(sel), np.nan), math.nan, True
+        leaves, exit_phi, red_arr, red_end, starts = None, None, np.full(len(fg), np.nan), math.nan, True
         if centre is not None:
             red_arr = red(pts, centre, R0)
             starts = bool(red_arr[0] <= 1.0)
@@ -733,14 +753,14 @@ def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
             notes.append(f"air at {100 * humidity:g} % relative humidity slows the water")
         path = DryingPath(
             fractions_evaporated=fr, compositions=phis, mole_fractions=xs, points=pts,
-            red=red_arr, relative_time=time_traj[sel, b], leaves_at=leaves,
+            red=red_arr, relative_time=time_b, leaves_at=leaves,
             starts_inside=starts, last_component=last_comp, residue=residue,
             red_at_end=red_end, exit_composition=exit_phi,
             max_fraction_evaporated=float(fa[last]), names=names, centre=centre,
             R0=R0, notes=notes,
             method=REAL_METHOD.format(model=label, beta=beta, T=T_C, rh=100 * humidity),
             title=f"activity coefficients by {label}, evaporative cooling",
-            film_temperature=Ts_traj[sel, b] - 273.15)
+            film_temperature=ts_b - 273.15)
         out.append(path)
     return out  # type: ignore[return-value]
 

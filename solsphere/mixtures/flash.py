@@ -292,8 +292,8 @@ def liaw_flash_points(model, vapour, flash_C, idx, x, *, T_min: float = -60.0,
     flam = present & np.isfinite(fp)
     why: list[str | None] = [None] * n
     unknown_fp = (present & np.isnan(fp)).any(axis=1)
-    pv_all = vapour.kpa(np.where(np.isfinite(fp), fp, 25.0).ravel())  # (n*K, C)
-    p_fp = pv_all[np.arange(n * idx.shape[1]), idx.ravel()].reshape(idx.shape)
+    p_fp = vapour.kpa_of(idx.reshape(-1, 1),
+                         np.where(np.isfinite(fp), fp, 25.0).ravel()).reshape(idx.shape)
     no_vp = (flam & ~np.isfinite(p_fp)).any(axis=1)
     nothing = ~flam.any(axis=1)
     bad = unknown_fp | no_vp | nothing
@@ -302,25 +302,32 @@ def liaw_flash_points(model, vapour, flash_C, idx, x, *, T_min: float = -60.0,
                   "no component of the blend flashes" if nothing[r] else
                   "a flammable component has no vapour-pressure data")
     p_fp = np.where(flam, p_fp, 1.0)
-    rows = np.arange(n)[:, None]
 
-    def h(T):
-        lg, _ = model.ln_gamma(idx, x, T)
-        p = vapour.kpa(T)[rows, idx]
+    def h(T, lg):
+        p = vapour.kpa_of(idx, T)
         terms = np.where(flam, x * np.exp(lg) * np.nan_to_num(p) / p_fp, 0.0)
         return terms.sum(axis=1) - 1.0
 
-    lo = np.full(n, T_min)
-    hi = np.full(n, T_max)
-    _, method = model.ln_gamma(idx, x, 25.0)
-    below = h(lo) > 0
-    above = h(hi) < 0
-    for _ in range(iterations):
-        mid = 0.5 * (lo + hi)
-        up = h(mid) < 0
-        lo = np.where(up, mid, lo)
-        hi = np.where(up, hi, mid)
-    T = 0.5 * (lo + hi)
+    # γ depends only weakly on T: solve with γ held at the last estimate (bisection on
+    # the vapour pressures alone), update γ at the new root, repeat until it settles
+    T = np.full(n, 25.0)
+    lg, method = model.ln_gamma(idx, x, T)
+    for _outer in range(8):
+        lo = np.full(n, T_min)
+        hi = np.full(n, T_max)
+        below = h(lo, lg) > 0
+        above = h(hi, lg) < 0
+        for _ in range(iterations):
+            mid = 0.5 * (lo + hi)
+            up = h(mid, lg) < 0
+            lo = np.where(up, mid, lo)
+            hi = np.where(up, hi, mid)
+        T_new = 0.5 * (lo + hi)
+        settled = np.nanmax(np.abs(T_new - T)) < 1e-5
+        T = T_new
+        if settled:
+            break
+        lg, _ = model.ln_gamma(idx, x, T)
     for r in np.flatnonzero(~bad & above):
         why[r] = f"the flammable part is too dilute to flash below {T_max:g} °C"
     for r in np.flatnonzero(~bad & below):

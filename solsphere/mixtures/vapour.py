@@ -99,6 +99,15 @@ class VapourPressures:
             p = np.exp(_ln_pa(self.coef, T)) / 1000.0 * self.scale
         return np.where(self.known, p, np.nan)
 
+    def kpa_of(self, idx, T_C) -> np.ndarray:
+        """Vapour pressures [kPa] of components ``idx`` (n, K) at per-row temperatures
+        ``T_C`` (n,) [°C]: shape (n, K), NaN where unknown."""
+        idx = np.asarray(idx, dtype=int)
+        T = (np.asarray(T_C, dtype=float) + KELVIN).reshape(-1, *([1] * (idx.ndim - 1)))
+        with np.errstate(over="ignore", invalid="ignore"):
+            p = np.exp(_ln_pa(self.coef[idx], T)) / 1000.0 * self.scale[idx]
+        return np.where(self.known[idx], p, np.nan)
+
     def out_of_range(self, T_C: float) -> list[str]:
         """Names of components whose correlation is extrapolated at ``T_C``."""
         T = T_C + KELVIN
