@@ -232,7 +232,7 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
     from solsphere.mixtures.activity import ActivityModel
     from solsphere.mixtures.drying import drying_paths
     from solsphere.mixtures.flash import blend_flash_results
-    from solsphere.mixtures.phases import blend_phases, phase_compositions
+    from solsphere.mixtures.phases import blend_phases
     from solsphere.mixtures.vapour import VapourPressures
     by_name = {s.name: s for s in pool}
     blends = list(screen.blends)
@@ -258,10 +258,9 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
         ii, ph = idx[rows], phi[rows]
         x = ph / np.where(np.isfinite(vm[ii]), vm[ii], 1.0)
         x = x / x.sum(axis=1, keepdims=True)
-        split = phase_compositions(model, ii, x, temperature_C)
+        p, m, split = blend_phases(model, ii, x, temperature_C, compositions=True)
         for r, f in zip(rows, blend_flash_results(model, vapour, ii, x, split=split)):
             flash[r] = f
-        p, m = blend_phases(model, ii, x, temperature_C)
         phases[rows] = p
         for r, label in zip(rows, m):
             phase_method[r] = label

@@ -222,7 +222,7 @@ class ActivityModel:
             out[ok] = code
         return out
 
-    def ln_gamma(self, idx, x, T_C) -> tuple[np.ndarray, np.ndarray]:
+    def ln_gamma(self, idx, x, T_C, *, method=None) -> tuple[np.ndarray, np.ndarray]:
         """ln γ for each row of a batch of blends.
 
         Parameters
@@ -233,6 +233,9 @@ class ActivityModel:
             Liquid mole fractions (rows normalised here; zeros allowed).
         T_C : float or array-like of shape (n,)
             Temperature [°C].
+        method : ndarray of int, shape (n,), optional
+            The codes of :meth:`methods` for these rows, when the caller already has
+            them (the same components present): saves recomputing them.
 
         Returns
         -------
@@ -246,7 +249,7 @@ class ActivityModel:
             raise ValueError(f"x has shape {x.shape}; expected {idx.shape} like idx")
         x = x / x.sum(axis=1, keepdims=True)
         T = np.broadcast_to(np.asarray(T_C, dtype=float) + 273.15, (idx.shape[0],)).copy()
-        method = self.methods(idx, x)
+        method = self.methods(idx, x) if method is None else np.asarray(method)
         out = np.zeros_like(x)
         for code in (DORTMUND, UNIFAC):
             rows = method == code

@@ -327,7 +327,7 @@ def liaw_flash_points(model, vapour, flash_C, idx, x, *, T_min: float = -60.0,
         T = T_new
         if settled:
             break
-        lg, _ = model.ln_gamma(idx, x, T)
+        lg, _ = model.ln_gamma(idx, x, T, method=method)
     for r in np.flatnonzero(~bad & above):
         why[r] = f"the flammable part is too dilute to flash below {T_max:g} °C"
     for r in np.flatnonzero(~bad & below):

@@ -72,8 +72,8 @@ WATER_SOURCE = "published mutual solubility with water (handbook values, from me
 
 #: Grid of the first component's mole fraction for the pair test: dense near both ends
 #: (solubilities of 0.01 mass % are mole fractions of about 1e-5).
-_GRID = np.unique(np.concatenate([np.geomspace(1e-6, 0.02, 40), np.linspace(0.02, 0.98, 97),
-                                  1.0 - np.geomspace(1e-6, 0.02, 40)]))
+_GRID = np.unique(np.concatenate([np.geomspace(1e-6, 0.02, 25), np.linspace(0.02, 0.98, 73),
+                                  1.0 - np.geomspace(1e-6, 0.02, 25)]))
 #: Convexity tolerance on g per RT (numerical noise is far below it).
 _TOL = 1e-9
 
@@ -213,7 +213,8 @@ def volume_gap(split: PairSplit, a, b) -> tuple[float, float] | None:
                  for x in (lo, hi))  # type: ignore[return-value]
 
 
-def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int = 30):
+def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int = 30,
+                 compositions: bool = False):
     """Number of liquid phases (1 or 2) of each blend at its own composition.
 
     Pairs by the gap of :func:`pair_splits`; three or more components by the
@@ -223,6 +224,8 @@ def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int =
     -------
     phases : ndarray of int, shape (n,)
     methods : list of str
+    split : list, only with ``compositions=True``
+        :func:`phase_compositions` of the same blends (computed once for both).
     """
     idx = np.atleast_2d(np.asarray(idx, dtype=int))
     x = np.atleast_2d(np.asarray(x, dtype=float))
@@ -230,6 +233,7 @@ def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int =
     n, K = idx.shape
     phases = np.ones(n, dtype=int)
     methods = [""] * n
+    split: list = [None] * n
     present = x > 0
     npres = present.sum(axis=1)
     # pairs (and blends with only two components present)
@@ -237,11 +241,16 @@ def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int =
     if two.size:
         cols = np.array([np.flatnonzero(present[r])[:2] for r in two])
         pr = idx[two[:, None], cols]
-        splits = pair_splits(model, pr, T_C)
-        for r, c, s in zip(two, cols, splits):
+        for r, c, s in zip(two, cols, pair_splits(model, pr, T_C)):
             methods[r] = s.method
             if s.gap is not None and s.gap[0] < x[r, c[0]] < s.gap[1]:
                 phases[r] = 2
+                ends = []
+                for g in s.gap:
+                    y = np.zeros(K)
+                    y[c[0]], y[c[1]] = g, 1.0 - g
+                    ends.append(y)
+                split[r] = tuple(ends)
     for r in np.flatnonzero(npres == 1):
         methods[r] = "a single liquid"
     many = np.flatnonzero(npres >= 3)
@@ -263,30 +272,13 @@ def blend_phases(model: ActivityModel, idx, x, T_C: float = 25.0, *, step: int =
             methods[r] = ("Flory–Huggins / " + label) if int(mz[0]) == REGULAR else label
             # published water data override the model on the water-solvent edges only
             # when the third component is absent; with three present the model decides
-    return phases, methods
+    return (phases, methods, split) if compositions else (phases, methods)
 
 
 def phase_compositions(model: ActivityModel, idx, x, T_C: float = 25.0) -> list:
     """For each two-component blend that separates: the mole fractions of its two
     liquid phases (rows of shape (K,)); None for every other blend."""
-    idx = np.atleast_2d(np.asarray(idx, dtype=int))
-    x = np.atleast_2d(np.asarray(x, dtype=float))
-    x = x / x.sum(axis=1, keepdims=True)
-    out: list = [None] * idx.shape[0]
-    present = x > 0
-    rows = np.flatnonzero(present.sum(axis=1) == 2)
-    if rows.size == 0:
-        return out
-    cols = np.array([np.flatnonzero(present[r])[:2] for r in rows])
-    for r, c, s in zip(rows, cols, pair_splits(model, idx[rows[:, None], cols], T_C)):
-        if s.gap is not None and s.gap[0] < x[r, c[0]] < s.gap[1]:
-            pair = []
-            for g in s.gap:
-                y = np.zeros(idx.shape[1])
-                y[c[0]], y[c[1]] = g, 1.0 - g
-                pair.append(y)
-            out[r] = tuple(pair)
-    return out
+    return blend_phases(model, idx, x, T_C, compositions=True)[2]
 
 
 @dataclass
