@@ -82,6 +82,10 @@ import numpy as np
 from scipy.optimize import brentq
 
 from solsphere.hansen import as_points, mix, red
+from solsphere.library.table import load_library
+from solsphere.mixtures.activity import METHODS, ActivityModel
+from solsphere.mixtures.vapour import VapourPressures
+from solsphere.results import Result
 
 __all__ = ["DryingPath", "drying_path", "volume_to_mole_fractions",
            "mole_to_volume_fractions", "drying_paths", "mixture_drying_path",
@@ -118,7 +122,7 @@ def mole_to_volume_fractions(mole_fractions, molar_volumes) -> np.ndarray:
 
 
 @dataclass
-class DryingPath:
+class DryingPath(Result):
     """The path of the remaining liquid while a blend evaporates.
 
     Attributes
@@ -198,6 +202,14 @@ class DryingPath:
         ``leaves_at``, or ``max_fraction_evaporated`` when it never leaves.
         """
         return self.max_fraction_evaporated if self.leaves_at is None else self.leaves_at
+
+    def records(self) -> list[dict]:
+        """One row per point of the path: fraction evaporated, composition, δ's, RED."""
+        return [dict({"evaporated": float(u)},
+                     **{f"phi_{n}": float(x) for n, x in zip(self.names, comp)},
+                     dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), red=float(r))
+                for u, comp, p, r in zip(self.fractions_evaporated, self.compositions,
+                                         self.points, self.red)]
 
     def to_dict(self) -> dict:
         """Plain JSON-safe types (lists, floats, None)."""
@@ -576,7 +588,6 @@ def relative_evaporation_rates(solvents, T_C: float = 25.0,
     ...     [lib.lookup("acetone"), lib.lookup("butyl acetate")])]
     [5.3, 1.0]
     """
-    from solsphere.mixtures.vapour import VapourPressures
     vp = VapourPressures(list(solvents))
     vm = np.array([s.molar_volume for s in solvents], dtype=float)
     mw = np.array([s.mw for s in solvents], dtype=float)
@@ -587,7 +598,6 @@ def relative_evaporation_rates(solvents, T_C: float = 25.0,
     p = np.array([vp.kpa(t - 273.15)[i] for i, t in enumerate(Ts)])
     rate = k[:, 0] * p * vm
     # butyl acetate under the same conditions
-    from solsphere.library.table import load_library
     ref = load_library().lookup("123-86-4")
     vr = VapourPressures([ref])
     kr = _k_rel(np.array([ref.mw]), np.array([ref.molar_volume]))[:, None]
@@ -708,7 +718,6 @@ def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
     if centre is not None:
         centre = np.asarray(centre, dtype=float).reshape(3)
         R0 = float(R0)
-    from solsphere.mixtures.activity import METHODS
     pts_pool = np.array([s.point for s in pool], dtype=float)
     for b in range(n):
         names = tuple(pool[i].name for i in idx[b])
@@ -777,8 +786,6 @@ def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
 
 def _pw(T_C: float) -> float:
     """Water's vapour pressure [kPa] at T_C (for the humidity of the air)."""
-    from solsphere.library.table import load_library
-    from solsphere.mixtures.vapour import VapourPressures
     return float(VapourPressures([load_library().lookup("7732-18-5")]).kpa(T_C)[0])
 
 
@@ -794,8 +801,6 @@ def mixture_drying_path(solvents, volume_fractions, centre=None, R0=None, *,
     >>> p.names[p.last_component]     # the glycol ether leaves first in humid air
     'water'
     """
-    from solsphere.mixtures.activity import ActivityModel
-    from solsphere.mixtures.vapour import VapourPressures
     solvents = list(solvents)
     k = len(solvents)
     return drying_paths(ActivityModel(solvents), VapourPressures(solvents), np.arange(k)[None],

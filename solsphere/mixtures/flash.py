@@ -69,6 +69,9 @@ from typing import Sequence
 import numpy as np
 from scipy.optimize import brentq
 
+from solsphere.mixtures.activity import METHODS, ActivityModel
+from solsphere.mixtures.vapour import VapourPressures
+
 __all__ = ["blend_flash_point", "clausius_clapeyron_B", "vapour_pressure",
            "liaw_flash_points", "mixture_flash_point", "NON_FLASHING_CAS", "SAFETY_MARGIN_C",
            "component_flash_points", "blend_flash_results"]
@@ -363,8 +366,6 @@ def mixture_flash_point(solvents, mole_fractions, *, model=None, vapour=None) ->
     >>> r["minimum_flash_point"], r["estimate"] < min(4.0, 13.0)
     (True, True)
     """
-    from solsphere.mixtures.activity import ActivityModel
-    from solsphere.mixtures.vapour import VapourPressures
     solvents = list(solvents)
     k = len(solvents)
     x = np.asarray(mole_fractions, dtype=float).reshape(-1)
@@ -384,7 +385,6 @@ def blend_flash_results(model, vapour, idx, x, *, split=None) -> list[dict]:
     (:func:`solsphere.mixtures.phases.phase_compositions`); such a blend gets the lower
     of its two phases' flash points (the safe side).
     """
-    from solsphere.mixtures.activity import METHODS
     idx = np.atleast_2d(np.asarray(idx, dtype=int))
     x = np.atleast_2d(np.asarray(x, dtype=float))
     x = x / x.sum(axis=1, keepdims=True)

@@ -14,11 +14,13 @@ from typing import Sequence
 
 import numpy as np
 
-from solsphere.mixtures.activity import ActivityModel
+from solsphere.io.trials import parse_blend_spec
+from solsphere.mixtures.activity import METHODS, ActivityModel
 from solsphere.mixtures.drying import DryingPath, drying_paths
 from solsphere.mixtures.flash import blend_flash_results
 from solsphere.mixtures.phases import PhaseCheck, check_phases, phase_compositions
 from solsphere.mixtures.vapour import VapourPressures
+from solsphere.results import Result
 
 __all__ = ["MixtureReport", "analyse_mixture"]
 
@@ -28,7 +30,7 @@ def _f(v):
 
 
 @dataclass
-class MixtureReport:
+class MixtureReport(Result):
     """What a liquid mixture does: the result of :func:`analyse_mixture`.
 
     Attributes
@@ -65,6 +67,8 @@ class MixtureReport:
     material: tuple | None = None
     notes: list[str] = field(default_factory=list)
 
+    rows_key = "components"  # to_frame(): one row per component
+
     def to_dict(self) -> dict:
         """JSON-safe: ``flash_point`` (°C or null), ``vapour_pressure_kpa``, ``phases``
         (1 or 2), ``path`` (the drying path or null), and the details."""
@@ -89,11 +93,6 @@ class MixtureReport:
                           "R0": float(self.material[1])}),
             "notes": list(self.notes),
         }
-
-    def to_frame(self):
-        """One row per component (pandas imported here)."""
-        import pandas as pd  # deferred: pandas is optional
-        return pd.DataFrame(self.to_dict()["components"])
 
     def __str__(self) -> str:
         label = " + ".join(f"{100 * v:.4g} % {n}" for n, v in
@@ -155,7 +154,6 @@ def analyse_mixture(components, volume_fractions: Sequence[float] | None = None,
     >>> r.to_dict()["phases"], 40 <= r.to_dict()["flash_point"] <= 49
     (1, True)
     """
-    from solsphere.io.trials import parse_blend_spec
     if isinstance(components, str):
         pairs = parse_blend_spec(components, library)
         solvents = [s for s, _ in pairs]
@@ -214,7 +212,6 @@ def analyse_mixture(components, volume_fractions: Sequence[float] | None = None,
     if phases.phases == 2:
         notes.append("the mixture separates into two liquid phases: the flash point and "
                      "drying path describe an average liquid that does not exist as such")
-    from solsphere.mixtures.activity import METHODS
     return MixtureReport(
         names=tuple(s.name for s in solvents), volume_fractions=phi, mole_fractions=x,
         temperature_C=float(temperature_C), humidity=float(humidity), flash_point=flash,

@@ -33,6 +33,7 @@ from typing import Sequence
 import numpy as np
 
 from solsphere.mixtures.activity import METHODS, REGULAR, ActivityModel
+from solsphere.results import Result
 
 __all__ = ["WATER_SOLUBILITY", "PairSplit", "pair_splits", "pair_split", "blend_phases",
            "PhaseCheck", "check_phases", "volume_gap",
@@ -282,13 +283,15 @@ def phase_compositions(model: ActivityModel, idx, x, T_C: float = 25.0) -> list:
 
 
 @dataclass
-class PhaseCheck:
+class PhaseCheck(Result):
     """Phase behaviour of one blend: at its composition and over its pairs' ranges."""
 
     names: tuple[str, ...]
     phases: int
     method: str
     pairs: list[dict] = field(default_factory=list)
+
+    rows_key = "pairs"  # to_frame(): one row per pair of components
 
     def to_dict(self) -> dict:
         return {"phases": int(self.phases), "method": self.method,
@@ -301,8 +304,8 @@ class PhaseCheck:
         for p in self.pairs:
             if p["splits"]:
                 lo, hi = p["gap_mole_fraction"]
-                lines.append(f"  {p['a']} + {p['b']}: splits between {100 * lo:.1f} and "
-                             f"{100 * hi:.1f} mol % {p['a']} ({p['method']})")
+                lines.append(f"  {p['a']} + {p['b']}: splits between {100 * lo:.3g} and "
+                             f"{100 * hi:.3g} mol % {p['a']} ({p['method']})")
             else:
                 lines.append(f"  {p['a']} + {p['b']}: mix in all proportions ({p['method']})")
         return "\n".join(lines)

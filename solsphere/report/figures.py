@@ -17,6 +17,8 @@ import html
 
 import numpy as np
 
+from solsphere import __version__
+
 STYLE = {
     "good": {"color": "#1b9e77", "symbol": "circle", "label": "dissolves"},
     "bad": {"color": "#d95f02", "symbol": "x", "label": "does not"},
@@ -229,7 +231,7 @@ def projections(fit: dict, blends: list[dict] | None = None, height: int = 340):
     (an ellipse with δD semi-axis R0/2) looks round.
     """
     go = _go()
-    from plotly.subplots import make_subplots
+    from plotly.subplots import make_subplots  # deferred: plotly is heavy to import
     fig = make_subplots(rows=1, cols=3, horizontal_spacing=0.08,
                         subplot_titles=[f"{AXIS[a][:2]}–{AXIS[b][:2]}" for a, b in PLANES])
     c = np.array([fit["dD"], fit["dP"], fit["dH"]])
@@ -317,8 +319,7 @@ def share_html(fig3d, fig2d, report: str, title: str = "Hansen solubility sphere
                extra_sections: list[tuple[str, str]] | None = None, caution: str = "") -> str:
     """One self-contained HTML page (plotly.js inlined, no network) with both figures and
     the plain-text report. All user text is HTML-escaped."""
-    from plotly.offline import get_plotlyjs
-    from solsphere import __version__
+    from plotly.offline import get_plotlyjs  # deferred: plotly is heavy to import
     extra = "".join(f"<h2>{html.escape(h)}</h2>\n<pre>{html.escape(body)}</pre>\n"
                     for h, body in (extra_sections or []))
     return SHARE_TEMPLATE.format(
