@@ -54,6 +54,8 @@ ALLOWED = {
         "the atomic write itself: a private temporary file, fsync-ed, then os.replace",
     ("data/build_solvents.py", "main"):
         "developer script that regenerates the packaged solvents.csv (never a user's file)",
+    ("data/build_mixtures.py", "main"):
+        "developer script that regenerates the packaged mixture_data.csv (never a user's file)",
 }
 
 
