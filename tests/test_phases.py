@@ -69,4 +69,5 @@ def test_pair_split_is_cached_and_ordered(lib):
     s1 = pair_split(a, b)
     assert pair_split(a, b) is s1 and s1.splits
     s2 = pair_split(b, a)
-    assert s2.gap[0] == pytest.approx(1 - s1.gap[1]) and s2.gap[1] == pytest.approx(1 - s1.gap[0])
+    assert s2.gap[0] == pytest.approx(1 - s1.gap[1], abs=0.01)
+    assert s2.gap[1] == pytest.approx(1 - s1.gap[0], abs=0.01)

@@ -380,7 +380,7 @@ def miscibility_warning(a: Solvent, b: Solvent) -> str | None:
         if not split.splits:
             return None
         gap = volume_gap(split, a, b)
-        where = (f" between {100 * gap[0]:.3g} and {100 * gap[1]:.3g} vol % {a.name}"
+        where = (f" between {_share(gap[0])} and {_share(gap[1])} vol % {a.name}"
                  if gap else "")
         return (f"{a.name} and {b.name} may not mix: two liquid phases{where} "
                 f"({split.method}); check that the blend is one clear phase")
@@ -396,6 +396,16 @@ def miscibility_warning(a: Solvent, b: Solvent) -> str | None:
         return (f"{a.name} and {b.name} are {d:.0f} MPa½ apart and may not mix: check that "
                 f"the blend is one clear phase")
     return None
+
+
+def _share(f: float) -> str:
+    """A volume fraction as a percentage that keeps small and near-100 % values apart."""
+    p = 100.0 * f
+    if p < 1.0:
+        return f"{p:.2g}"
+    if p > 99.0:
+        return f"{p:.2f}".rstrip("0").rstrip(".")
+    return f"{p:.0f}"
 
 
 def may_not_mix(solvents: Sequence[Solvent]) -> bool:

@@ -181,13 +181,36 @@ def pair_splits(model: ActivityModel, pairs, T_C: float = 25.0, *,
         d1 = np.diff(g, axis=1) / np.diff(_GRID)
         d2 = np.diff(d1, axis=1)
         maybe = (d2 < 0).any(axis=1)
+        gaps = [_lower_hull_gap(_GRID, g[k]) if maybe[k] else None for k in range(len(todo))]
+        # refine the ends of each gap on a fine grid between their neighbouring points
+        split_rows = [k for k, gp in enumerate(gaps) if gp is not None]
+        if split_rows:
+            grids = [_refined_grid(gaps[k]) for k in split_rows]
+            m2 = grids[0].size
+            idx2 = np.repeat(P[split_rows], m2, axis=0)
+            x1 = np.concatenate(grids)
+            x2 = np.column_stack([x1, 1.0 - x1])
+            lg2, _ = model.ln_gamma(idx2, x2, T_C)
+            g2 = (x2 * (np.log(x2) + lg2)).sum(axis=1).reshape(len(split_rows), m2)
+            for k, grid, gk in zip(split_rows, grids, g2):
+                gaps[k] = _lower_hull_gap(grid, gk) or gaps[k]
         for k, r in enumerate(todo):
             label = METHODS[int(meth[k])]
             if int(meth[k]) == REGULAR:
                 label = "Flory–Huggins / " + label
-            gap = _lower_hull_gap(_GRID, g[k]) if maybe[k] else None
-            out[r] = PairSplit(gap is not None, gap, label)
+            out[r] = PairSplit(gaps[k] is not None, gaps[k], label)
     return out  # type: ignore[return-value]
+
+
+def _refined_grid(gap: tuple[float, float], n: int = 60) -> np.ndarray:
+    """The coarse grid plus ``n`` points across the grid cells on each side of both ends
+    of a gap (the same size for every gap, so they batch)."""
+    parts = [_GRID]
+    for end in gap:
+        j = int(np.searchsorted(_GRID, end))
+        lo, hi = _GRID[max(j - 1, 0)], _GRID[min(j + 1, _GRID.size - 1)]
+        parts.append(np.geomspace(lo, hi, n) if lo > 0 else np.linspace(lo, hi, n))
+    return np.sort(np.concatenate(parts))
 
 
 @lru_cache(maxsize=4096)
