@@ -104,8 +104,8 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         Names, CAS numbers or abbreviations to leave out.
     min_flash_point, max_boiling_point, min_boiling_point : float or None
         Limits [°C]; a solvent whose value is unknown does not pass an active limit.
-        For blends a minimum flash point on every component is the conservative rule for
-        ideal mixtures (non-ideal blends can flash lower: see :mod:`solsphere.mixtures.flash`).
+        For blends the limit applies to every component; non-ideal blends can still flash
+        lower (:mod:`solsphere.mixtures.flash`), which the blend workflow flags.
     exclude_carcinogens : bool
         Leave out solvents with any carcinogen classification.
     min_exposure_limit : float or None
@@ -410,6 +410,17 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: 
     blends = add_safety_and_drying(screen, pool, centre, R0, drying=drying,
                                    temperature_C=pool_options.get("temperature") or 25.0,
                                    rank_by=rank_by, top=top)
+    low = limits["min_flash_point"]
+    if low is not None:  # every component passes; the blend itself may still flash lower
+        below = []
+        for b in blends:
+            est = (b.get("flash_point_estimate") or {}).get("estimate")
+            b["below_min_flash_point"] = est is not None and est < low
+            if b["below_min_flash_point"]:
+                below.append(blend_label(b["solvents"], b["volume_fractions"]))
+        if below:
+            notes.append(f"estimated to flash below the {low:g} °C limit although every "
+                         f"component passes it (non-ideal mixture): " + "; ".join(below))
     return BlendDesign(screen=screen, blends=blends, notes=notes, components=int(components),
                        rank_by=rank_by, drying=drying,
                        n_pool=len(apply_pool_filters(pool, (), limits["min_flash_point"],

@@ -144,3 +144,18 @@ def test_blend_json_carries_real_mixture_facts(tmp_path):
         if b["drying"] is not None:
             assert "activity coefficients" in b["drying"]["method"]
             assert all(math.isfinite(t) for t in b["drying"]["film_temperature"])
+
+
+def test_blend_flags_a_blend_that_flashes_below_the_component_limit(tmp_path):
+    # toluene (4 °C) and ethanol (12 °C) both pass a 0 °C limit; their blends are
+    # estimated to flash lower (minimum-flash-point behaviour) and must say so
+    shelf = tmp_path / "shelf.csv"
+    shelf.write_text("solvent\ntoluene\nethanol\n", encoding="utf-8")
+    rc, out, err = run_cli(["fit", DEMO, "--save", tmp_path / "p.json", "--json"])
+    assert rc == 0, err
+    d = _json(["blend", tmp_path / "p.json", "--candidates", shelf, "--min-flash-point", "0",
+               "--top", "1"])
+    b = d["blends"][0]
+    assert b["flash_point_estimate"]["estimate"] < 0
+    assert b["below_min_flash_point"] is True
+    assert any("below the 0 °C limit" in n for n in d["notes"])
