@@ -85,8 +85,13 @@ def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
 
+def _resamples(text: str) -> int:
+    """--bootstrap: a whole number of at least 2 (one resample gives no interval)."""
+    return _whole(text, 2)
+
+
 def _add_bootstrap(p, what: str):
-    p.add_argument("--bootstrap", type=_positive_int, metavar="N", default=None,
+    p.add_argument("--bootstrap", type=_resamples, metavar="N", default=None,
                    help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
