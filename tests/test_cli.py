@@ -1,4 +1,4 @@
-"""Tests for solsphere.cli: the command-line contract (CONVENTIONS.md, "Command line").
+"""Tests for solsphere.cli: the command-line contract (DEVELOPERS.md, "Conventions": the command line).
 
 Most calls run ``solsphere.cli.main([...])`` in-process; a few run the installed
 ``solsphere`` script in a subprocess to check real exit codes and imports. Every file
@@ -76,10 +76,6 @@ def one_error_line(err: str) -> str:
 def red_of(p, c, R0) -> float:
     return math.sqrt(4 * (p[0] - c[0]) ** 2 + (p[1] - c[1]) ** 2 + (p[2] - c[2]) ** 2) / R0
 
-
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
 
 
 @pytest.fixture(scope="module")

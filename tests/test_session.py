@@ -24,10 +24,6 @@ SMALL = ("solvent,outcome\ntoluene,good\nacetone,good\nethyl acetate,partly\neth
          "water,bad\nn-hexane,bad\nmethanol,bad\n")
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def small(tmp_path_factory, lib):

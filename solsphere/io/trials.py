@@ -1,6 +1,6 @@
 """Bench results: read, validate and resolve the trials a sphere is fitted to.
 
-A results file (CSV or TSV, see CONVENTIONS.md) has one row per trial::
+A results file (CSV or TSV, see DEVELOPERS.md, "Conventions") has one row per trial::
 
     solvent,outcome,dD,dP,dH,note
     toluene,good,,,,clear after 1 h
@@ -56,13 +56,13 @@ from solsphere.errors import InputError, UnknownSolventError
 from solsphere.io.files import MAX_FIELD, read_text as _read_file_text
 from solsphere.library.table import load_library
 
-__all__ = ["Trial", "Trials", "read", "read_text", "from_rows", "validate_rows",
+__all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
            "COLUMNS", "MAX_COORDINATE", "parse_blend_spec"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
-#: Words shown to people for each outcome (CONVENTIONS.md).
+#: Words shown to people for each outcome (DEVELOPERS.md, "Conventions"): the one table.
 DISPLAY = {"good": "dissolves", "partial": "partly", "bad": "does not"}
 #: How :meth:`Trials.binary` counts a partial result unless told otherwise.
 DEFAULT_PARTIAL = "good"
@@ -386,22 +386,9 @@ def read(path, library: LibraryLike | None = None) -> Trials:
 def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None) -> Trials:
     """Read bench results from the text of a results file.
 
-    Parameters
-    ----------
-    text : str
-        The whole file (any line endings; a leading BOM is ignored).
-    source : str, default="<text>"
-        Name used in messages.
-    library : Library or None, default=None
-        None means :func:`solsphere.library.load_library`.
-
-    Returns
-    -------
-    Trials
-
-    Raises
-    ------
-    InputError
+    ``text`` is the whole file (any line endings; a leading BOM is ignored); ``source``
+    names it in messages; ``library`` and the result are as for :func:`read`, and so is
+    the error raised for the first problem.
     """
     text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
     records, decimal_comma, header_warnings, header_line = _parse_table(text, source)
@@ -415,6 +402,39 @@ def read_text(text: str, source: str = "<text>", library: LibraryLike | None = N
     if errors:
         raise _first(errors)
     return Trials(trials=trials, source=source, warnings=ctx.warnings)
+
+
+def read_trials(source, library: LibraryLike | None = None) -> Trials:
+    """Bench results from a file path or a table (a pandas DataFrame or a list of dicts).
+
+    A table is read exactly like a file with the same columns (``solvent``, ``outcome``,
+    optional ``dD``, ``dP``, ``dH``, ``note``; the header words a file may use), so its
+    problems get the same messages, with the row's line as in the CSV it stands for
+    (the header is line 1).
+
+    Parameters
+    ----------
+    source : str, os.PathLike, pandas.DataFrame or list of dict
+    library : Library or None, default=None
+
+    Examples
+    --------
+    >>> t = read_trials([{"solvent": "toluene", "outcome": "dissolves"},
+    ...                  {"solvent": "water", "outcome": "does not"}])
+    >>> t.names, t.outcomes
+    (['toluene', 'water'], ['good', 'bad'])
+    """
+    if hasattr(source, "to_csv") and hasattr(source, "columns"):  # a DataFrame
+        return read_text(source.to_csv(index=False), source="<DataFrame>", library=library)
+    if isinstance(source, (list, tuple)):
+        cols = list(dict.fromkeys(k for row in source for k in row))
+        buf = io.StringIO()
+        w = csv.DictWriter(buf, fieldnames=cols, lineterminator="\n")
+        w.writeheader()
+        w.writerows({k: ("" if row.get(k) is None else row.get(k)) for k in cols}
+                    for row in source)
+        return read_text(buf.getvalue(), source="<rows>", library=library)
+    return read(source, library=library)
 
 
 def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,

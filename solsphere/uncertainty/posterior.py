@@ -54,6 +54,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from solsphere.formatting import warning_lines
 from solsphere.hansen import SCALE, ra
 from solsphere.models.base import AXES, MIN_ADVISED, binary_data
 from solsphere.models.classic import desirability
@@ -228,12 +229,8 @@ class Posterior(SampledSpheres):
                f"    results    = {self.n_good} good, {self.n_bad} bad (partly: "
                f"{self.partial})",
                f"[[Intervals]] ({100 * self.level:g} %, credible, equal-tailed)"]
-        full = dict(zip(_KEYS, (*self.centre, self.R0, self.width)))
-        for k in _KEYS:
-            lo, hi = self.intervals[k]
-            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
-                       f"(sd {self.sd[k]:.2f})")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += self.interval_lines(_KEYS)
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
