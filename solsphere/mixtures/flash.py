@@ -262,7 +262,11 @@ def component_flash_points(solvents) -> np.ndarray:
 
 def liaw_flash_points(model, vapour, flash_C, idx, x, *, T_min: float = -60.0,
                       T_max: float = 350.0, iterations: int = 48):
-    """Liaw's flash point of many blends at once (bisection on all rows together).
+    """Liaw's flash point of many blends at once.
+
+    All rows together: bisection in temperature on the vapour pressures with the
+    activity coefficients held, then γ updated at the new roots, until the roots move
+    by less than 1e-5 K (γ depends only weakly on temperature).
 
     Parameters
     ----------

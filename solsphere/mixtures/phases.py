@@ -25,7 +25,6 @@ References
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from functools import lru_cache
 from typing import Sequence
@@ -356,6 +355,3 @@ def check_phases(solvents: Sequence, mole_fractions, T_C: float = 25.0,
     return PhaseCheck(tuple(s.name for s in solvents), int(ph[0]),
                       meth[0] if meth[0] else "", out)
 
-
-def _finite(v) -> float | None:
-    return float(v) if v is not None and math.isfinite(v) else None
