@@ -81,8 +81,9 @@ def _number(text: str) -> float:
     return v
 
 
-def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)"):
-    p.add_argument("file", metavar="FILE", help=what)
+def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)",
+               optional: bool = False):
+    p.add_argument("file", metavar="FILE", help=what, nargs="?" if optional else None)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
                         "(default: good, or the project's setting)")
@@ -164,14 +165,27 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
-    _add_input(p)
+    _add_input(p, optional=True)  # no file with --smiles
     _add_pool(p, pool="common")  # a test campaign uses solvents on a shelf, not reagents
-    p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
+    p.add_argument("--n", type=_positive_int, default=None,
+                   help="how many to suggest (default 5; 16 with --smiles)")
+    p.add_argument("--smiles", metavar="SMILES", default=None,
+                   help="no results yet: plan the first trials from the material's "
+                        "structure (estimated centre ± its uncertainty, broad R0 prior; "
+                        "needs solsphere[structure])")
     p.add_argument("--samples", type=_positive_int, metavar="N", default=1000,
                    help="plausible spheres sampled from the posterior to score the "
                         "candidates (default 1000)")
     _add_bootstrap(p, "score the candidates by the disagreement among the resampled "
                       "spheres instead of the posterior samples")
+
+    p = sub.add_parser("estimate", help="dD, dP, dH, dT and molar volume estimated from "
+                                        "structures (SMILES), with 95 %% intervals",
+                       epilog=EPILOG)
+    p.add_argument("smiles", metavar="SMILES", nargs="*", help="SMILES strings")
+    p.add_argument("--from", dest="source", metavar="FILE",
+                   help="a file with one SMILES or compound name a line")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
     _add_input(p)

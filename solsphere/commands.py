@@ -147,14 +147,73 @@ def cmd_rank(args) -> int:
 
 
 def cmd_next(args) -> int:
+    if args.smiles is not None:
+        return _next_from_structure(args)
+    if args.file is None:
+        raise InputError("next needs a results or project file, or --smiles for a first "
+                         "plan from a structure.", file="<command line>",
+                         hint="give FILE, or --smiles 'SMILES' when there are no results yet")
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(lib, **pool_options(args))
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
-    sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
+    sugg = suggest_next(project.trials, candidates=pool, n=args.n or 5, bootstrap=boot,
                         n_samples=args.samples, seed=args.seed,
                         partial=_binary_partial(fit), progress=_progress(args, "resampling"))
     obj = dict(sugg.to_dict(), filters=filters)
     _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
+    return 0
+
+
+def _structure():
+    """The estimate package, or a one-line error naming the extra to install."""
+    try:
+        import solsphere.estimate as est  # deferred: RDKit is an optional extra
+    except ImportError as exc:
+        raise InputError(f"estimates from structure need RDKit ({exc}).",
+                         file="<command line>",
+                         hint="pip install 'solsphere[structure]'") from None
+    return est
+
+
+def _next_from_structure(args) -> int:
+    if args.file is not None:
+        raise InputError("--smiles plans the first trials when there are no results; "
+                         "with results, leave it out.", file="<command line>",
+                         column="--smiles", hint="drop FILE or drop --smiles")
+    est = _structure()
+    if est.features.parse_smiles(args.smiles) is None:
+        raise InputError(f"--smiles {args.smiles!r} is not a SMILES that RDKit can read.",
+                         file="<command line>", column="--smiles",
+                         hint="check brackets, ring-closure digits and element symbols; "
+                              "quote the SMILES in the shell")
+    e = est.estimate([args.smiles])[0]
+    if e.refused:
+        raise InputError(f"--smiles {args.smiles!r}: no estimate: {e.refused}.",
+                         file="<command line>", column="--smiles",
+                         hint="run 'solsphere fit' on bench results instead")
+    lib = load_library()
+    pool, filters = candidate_pool(lib, **pool_options(args))
+    plan = est.plan_from_structure(e, pool, n=args.n or 16, seed=args.seed)
+    _emit(args, dict(plan.to_dict(), filters=filters), str(plan) + "\n" + _pool_line(filters))
+    return 0
+
+
+def cmd_estimate(args) -> int:
+    est = _structure()
+    for i, s in enumerate(args.smiles, 1):  # name the argument that is wrong
+        if est.features.parse_smiles(s) is None:
+            raise InputError(f"SMILES argument {i} ({s!r}) is not a SMILES that RDKit can "
+                             f"read.", file="<command line>",
+                             hint="check brackets, ring-closure digits and element symbols; "
+                                  "quote the SMILES in the shell")
+    items = [(None, s) for s in args.smiles]
+    if args.source:
+        items += est.read_structures(args.source, load_library())
+    if not items:
+        raise InputError("no structure given.", file="<command line>",
+                         hint="give SMILES arguments or --from FILE")
+    result = est.estimate([s for _, s in items], labels=[lab for lab, _ in items])
+    _emit(args, result.to_dict(), str(result))
     return 0
 
 
@@ -248,4 +307,5 @@ def cmd_app(args) -> int:
 
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "next": cmd_next, "app": cmd_app, "mixture": cmd_mixture}
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app,
+            "estimate": cmd_estimate, "mixture": cmd_mixture}

@@ -56,6 +56,14 @@ RERANK_POOL = 500
 
 
 # ----------------------------------------------------------------------------- fit
+
+def estimate_structure(smiles: str):
+    """Estimated coordinates of a shelf solvent from its SMILES (the ``structure`` of
+    :func:`solsphere.io.shelf.read_shelf`); ImportError without the structure extra."""
+    from solsphere.estimate.model import estimate_one  # deferred: loads RDKit (optional)
+
+    return estimate_one(smiles)
+
 def fit_project(project, partial: str | None = None, library=None, seed: int = 0,
                 method: str = "classic"):
     """Fit the sphere to a project's trials.
@@ -155,7 +163,7 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
                "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
                "exclude_carcinogens": exclude_carcinogens, "restricted": restricted}
     if shelf:
-        base = Library.from_records(read_shelf(shelf, library))
+        base = Library.from_records(read_shelf(shelf, library, structure=estimate_structure))
     elif ticked is not None:
         base = Library.from_records([library.lookup(n) for n in ticked])
         if len(base) < 2:

@@ -58,6 +58,9 @@ ALLOWED = {
         "developer script that regenerates the packaged solvents.csv (never a user's file)",
     ("data/build_mixtures.py", "main"):
         "developer script that regenerates the packaged mixture_data.csv (never a user's file)",
+    ("data/build_structure_model.py", "main"):
+        "developer script that regenerates the packaged structure_model.zip (never a "
+        "user's file)",
 }
 
 
