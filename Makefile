@@ -46,6 +46,7 @@ bench: $(STAMP)
 
 data: $(STAMP)
 	$(PY) data/build_solvents.py
+	$(PY) data/build_mixtures.py
 	$(PY) data/build_structure_model.py
 
 clean:

@@ -94,8 +94,13 @@ def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
 
+def _resamples(text: str) -> int:
+    """--bootstrap: a whole number of at least 2 (one resample gives no interval)."""
+    return _whole(text, 2)
+
+
 def _add_bootstrap(p, what: str):
-    p.add_argument("--bootstrap", type=_positive_int, metavar="N", default=None,
+    p.add_argument("--bootstrap", type=_resamples, metavar="N", default=None,
                    help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
@@ -196,8 +201,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
                    help="lower volume-fraction limit (repeatable)")
     p.add_argument("--drying", action="store_true",
-                   help="simulate evaporation (Raoult's law) and report when the drying "
-                        "liquid leaves the sphere")
+                   help="simulate evaporation (activity coefficients, evaporative cooling) "
+                        "and report when the drying liquid leaves the sphere")
     p.add_argument("--rank-by", choices=RANK_CHOICES, default="hazard",
                    help="the priority after feasibility (inside, one phase) and robustness "
                         "(window width): hazard (default; safer first), cost (needs shelf "
@@ -206,6 +211,19 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--all-combinations", action="store_true",
                    help="list the top blends even when a solvent repeats (by default no "
                         "solvent is in more than two of them)")
+
+    p = sub.add_parser("mixture", help="flash point, vapour pressure, phases and drying path "
+                       "of one blend (activity coefficients)", epilog=EPILOG)
+    p.add_argument("spec", metavar="SPEC",
+                   help="the blend as in a bench file, volume parts: \"ethanol 10 + water 90\" "
+                        "(one solvent alone is a mixture of one)")
+    p.add_argument("--material", metavar="PROJECT",
+                   help="results or project file: say when the drying liquid leaves its sphere")
+    p.add_argument("--temperature", type=_number, default=25.0, metavar="°C",
+                   help="temperature of the liquid and the air (default 25)")
+    p.add_argument("--humidity", type=_number, default=0.0, metavar="%",
+                   help="relative humidity of the air for the drying path, 0-100 (default 0)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = sub.add_parser("replace", help="solvents and pairs that can replace a given solvent",
                        epilog=EPILOG)
@@ -281,7 +299,8 @@ def main(argv: list[str] | None = None) -> int:
         if isinstance(exc, InputError):
             exc = located(exc)
         text = str(exc)
-        where = getattr(args, "file", None) or getattr(args, "for_material", None)
+        where = (getattr(args, "file", None) or getattr(args, "for_material", None)
+                 or getattr(args, "material", None))
         if isinstance(exc, FitError) and where and where not in text:
             text = f"{where}: {text}"  # name the file whose results cannot be fitted
         print(f"solsphere: error: {text}", file=sys.stderr)

@@ -16,6 +16,7 @@ from solsphere.formatting import num, split_names
 from solsphere.io.files import atomic_write_text
 from solsphere.io.project import load_any, save
 from solsphere.library.table import load_library
+from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
 from solsphere.uncertainty.bootstrap import bootstrap, influence
 from solsphere.uncertainty.nexttrials import suggest_next
@@ -264,6 +265,25 @@ def cmd_blend(args) -> int:
     return 0
 
 
+def cmd_mixture(args) -> int:
+    if not 0.0 <= args.humidity <= 100.0:
+        raise InputError(f"--humidity {args.humidity:g} is not a relative humidity.",
+                         file="<command line>", column="--humidity",
+                         hint="give a percentage from 0 to 100")
+    if not -60.0 <= args.temperature <= 300.0:
+        raise InputError(f"--temperature {args.temperature:g} °C is outside -60 to 300 °C.",
+                         file="<command line>", column="--temperature",
+                         hint="give the process temperature in °C")
+    lib = load_library()
+    material = None
+    if args.material:
+        material = fit_project(load_any(args.material, library=lib), library=lib)
+    report = analyse_mixture(args.spec, library=lib, material=material,
+                             temperature_C=args.temperature, humidity=args.humidity / 100.0)
+    _emit(args, report.to_dict(), str(report))
+    return 0
+
+
 def cmd_replace(args) -> int:
     lib = load_library()
     fit = None
@@ -316,4 +336,4 @@ def cmd_app(args) -> int:
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
             "replace": cmd_replace, "next": cmd_next, "app": cmd_app,
-            "estimate": cmd_estimate}
+            "estimate": cmd_estimate, "mixture": cmd_mixture}
