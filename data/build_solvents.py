@@ -611,8 +611,40 @@ FLASH_SAFETY_OFFSET_K = 9.0
 _HALOGENS = ("F", "Cl", "Br", "I")
 
 
+#: thermo's own estimation methods, skipped: only its fitted correlations are used here.
+_THERMO_ESTIMATES = {"LEE_KESLER_PSAT", "AMBROSE_WALTON", "EDALAT", "BOILING_CRITICAL",
+                     "SANJARI"}
+_THERMO_VP: dict = {}
+
+
+def thermo_psat(cas, T):
+    """Vapour pressure [Pa] from thermo's VaporPressure: the first of its ranked fitted
+    correlations whose range includes T (no extrapolation, no estimation method)."""
+    if cas not in _THERMO_VP:
+        try:
+            from thermo.vapor_pressure import VaporPressure
+            _THERMO_VP[cas] = VaporPressure(CASRN=cas)
+        except Exception:  # thermo missing or the compound unknown to it
+            _THERMO_VP[cas] = None
+    vp = _THERMO_VP[cas]
+    if vp is None:
+        return None, None
+    for m in vp.ranked_methods:
+        if m in vp.all_methods and m not in _THERMO_ESTIMATES:
+            lo, hi = vp.T_limits[m]
+            if lo <= T <= hi:
+                try:
+                    v = _num(vp.calculate(T, m))
+                except Exception:
+                    continue
+                if v is not None and v > 0:
+                    return v, f"thermo {m}"
+    return None, None
+
+
 def psat_any(cas, T, tables, tb_C=None):
-    """Vapour pressure [Pa] at T: a coefficient table valid at T, else the Ambrose–Walton
+    """Vapour pressure [Pa] at T: a coefficient table valid at T, else a thermo correlation
+    valid at T (:func:`thermo_psat`), else the Ambrose–Walton
     corresponding-states estimate from Tc, Pc and ω (chemicals.vapor_pressure), else (with
     a boiling point) the Clausius–Clapeyron equation with Trouton's rule, ΔHvap = 88 J/(mol K)
     × Tb (from memory, e.g. Atkins' Physical Chemistry); with the method name."""
@@ -620,6 +652,9 @@ def psat_any(cas, T, tables, tb_C=None):
     from chemicals.acentric import omega
     from chemicals.vapor_pressure import Ambrose_Walton
     v, m = tables.vapour_pressure(cas, T)
+    if v is not None:
+        return v, m
+    v, m = thermo_psat(cas, T)
     if v is not None:
         return v, m
     Tc, Pc, w = critical.Tc(cas), critical.Pc(cas), omega(cas)
@@ -692,7 +727,10 @@ def add_estimates(row, cas, tables):
     src = row["sources"]
     if row["vapour_pressure"] is None:
         p, m = psat_any(cas, T25, tables, row["boiling_point"])
-        if p is not None and not m.startswith(("WAGNER", "ANTOINE", "DIPPR", "VDI", "LANDOLT")):
+        if p is not None and m.startswith("thermo"):
+            row["vapour_pressure"] = sig(p / 1000.0)  # a fitted correlation, not an estimate
+            src["vapour_pressure"] = m
+        elif p is not None and not m.startswith(("WAGNER", "ANTOINE", "DIPPR", "VDI", "LANDOLT")):
             row["vapour_pressure"] = sig(p / 1000.0)
             src["vapour_pressure"] = f"estimated: {m}"
     if row["flash_point"] is None and src.get("flash_point") is None:

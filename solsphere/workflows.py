@@ -498,13 +498,21 @@ def _ordered_pairs(pool, filters, centre, R0, top, rank_by, drying, diverse, wit
                               only_blends=not with_single, filters=filters, temperature_C=T)
     blends = add_safety_and_drying(ranked.screen, usable, centre, R0, drying=drying,
                                    temperature_C=T, rank_by="red")
-    if by_drying:
-        by_name = {s.name: s for s in usable}
-        keep = order_blends(blends, by_name, "drying", top, MAX_USES if diverse else None)
-        blends = [blends[k] for k in keep]
-        ranked.screen.blends = [ranked.screen.blends[k] for k in keep]
-        ranked.criteria = blend_rows(blends, by_name, "drying")
-        ranked.diverse = diverse
+    # re-order the listed blends with the phase test of add_safety_and_drying (the
+    # screen's own one-phase test is the quicker Flory–Huggins estimate) and, for
+    # "drying", the simulated paths
+    by_name = {s.name: s for s in usable}
+    keep = order_blends(blends, by_name, rank_by, top, MAX_USES if diverse else None)
+    blends = [blends[k] for k in keep]
+    ranked.screen.blends = [ranked.screen.blends[k] for k in keep]
+    old_crit = [ranked.criteria[k] for k in keep]
+    ranked.criteria = blend_rows(blends, by_name, rank_by)
+    for c, o in zip(ranked.criteria, old_crit):
+        c.update(robustness_step=o["robustness_step"], ghs_categories=o["ghs_categories"],
+                 notes=o["notes"], priority_value=(c.get("drying_inside_until")
+                                                   if rank_by == "drying" else
+                                                   o["priority_value"]))
+    ranked.diverse = diverse
     for d, c in zip(blends, ranked.criteria):
         d["criteria"] = c
     _flag_below_min_flash_point(blends, fp, notes)
