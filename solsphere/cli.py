@@ -299,9 +299,9 @@ def _bootstrap(args, project, fit, n: int):
 
 def _posterior(args, project, fit, n: int):
     from solsphere.uncertainty.posterior import sample_posterior
+    # the posterior's own prior (physically wide), not the classic fit's tested box
     return sample_posterior(project.trials, n_samples=n, seed=args.seed,
-                            partial=fit.partial if fit.partial != "ordinal" else "good",
-                            bounds=fit.bounds)
+                            partial=fit.partial if fit.partial != "ordinal" else "good")
 
 
 def cmd_fit(args) -> int:
