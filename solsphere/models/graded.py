@@ -368,7 +368,7 @@ class GradedModel(FittedSphere):
             if m < MIN_ADVISED:
                 notes.append(f"Only {m} result{'s count' if m != 1 else ' counts'} as {k} (at "
                              f"least {MIN_ADVISED} are advised): the sphere is poorly determined.")
-        notes += _edge_warnings(c, box)
+        notes += _edge_warnings(c, box, P[use])
         if width <= self.min_width * 1.001:
             notes.append(f"The boundary width is at its lower bound ({self.min_width:g} "
                          "MPa½): the results are perfectly separated and the width only says "
