@@ -128,6 +128,9 @@ def build_parser() -> argparse.ArgumentParser:
                         "the second earns its keep")
     p.add_argument("--no-influence", action="store_true",
                    help="skip the leave-one-out list of results to re-check first")
+    p.add_argument("--compare", action="store_true",
+                   help="compare classic and graded fits and the 'partly' readings on "
+                        "held-back results and say which to trust (a few seconds)")
 
     p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
     _add_input(p)
@@ -327,6 +330,16 @@ def cmd_fit(args) -> int:
         text += "\n[[Re-check first]] (results whose removal moves the sphere most)\n" + "\n".join(
             f"    {r['name']}: centre moves {r['shift']:.1f} MPa½, R0 {r['dR0']:+.1f}"
             for r in rows[:5])
+    if getattr(args, "compare", False):
+        from solsphere.models.comparison import compare_models
+        try:
+            cmp = compare_models(project.trials)
+        except FitError as exc:  # too few results to hold any back: say so, keep the fit
+            obj["model_comparison"] = {"error": str(exc)}
+            text += f"\n[[Which model?]]\n    not compared: {exc}"
+        else:
+            obj["model_comparison"] = cmp.to_dict()
+            text += "\n" + str(cmp)
     if args.spheres == 2:
         from solsphere.models.twosphere import fit_two_spheres
         two = fit_two_spheres(project.trials, partial=fit.partial if fit.partial != "ordinal"

@@ -350,7 +350,8 @@ class Posterior(SampledSpheres):
         full = dict(zip(_KEYS, (*self.centre, self.R0, self.width)))
         for k in _KEYS:
             lo, hi = self.intervals[k]
-            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
+            nd = 2 if k == "width" else 1  # sharp widths need the second decimal
+            out.append(f"    {k:5s} = {full[k]:5.{nd}f} MPa½   [{lo:.{nd}f}, {hi:.{nd}f}]   "
                        f"(sd {self.sd[k]:.2f})")
         out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
         return "\n".join(out)
