@@ -63,6 +63,7 @@ WORDS = {"good": "dissolves", "bad": "does not", "partial": "partly"}
 MIN_ADVISED = 5  # fewer good or bad results than this gives a warning (common practice, no source)
 EDGE = 0.05  # MPa½: a centre this close to a bound of the search box is "at the edge"
 _R0_FLOOR = 1e-9  # R0 must be positive
+POINT_R0 = 0.05  # MPa½: a fitted R0 below this is a point, not a sphere (a warning says so)
 SURFACE = 1e-5  # MPa½: a solvent this close to the fitted surface lies on it
 _CUBE = np.array([d for d in product((-1.0, 0.0, 1.0), repeat=3) if any(d)])
 
@@ -425,7 +426,7 @@ def _fit(points, good, weights, bounds, seed, **search):
         # the smallest perfect sphere runs through its farthest good solvent(s): R0 is
         # that Ra exactly (best_radius could pick a good 1e-14 closer, within rounding)
         c = exact[0]
-        R0 = float(ra(X[g & (w > 0)], c).max())
+        R0 = max(float(ra(X[g & (w > 0)], c).max()), _R0_FLOOR)
         return c, True, 1, R0, desirability(ra(X, c), g, R0, w)
     start = search.pop("start", None)
     if exact is not None:  # perfect but not certified (rare): the search competes
@@ -688,6 +689,11 @@ class SphereModel(FittedSphere):
                 notes.append(f"Only {m} result{'s count' if m != 1 else ' counts'} as {k} (at "
                              f"least {MIN_ADVISED} are advised): the sphere is poorly determined.")
         notes += _edge_warnings(c, box, P[use])
+        if R0 < POINT_R0:
+            notes.append(f"R0 = {R0:.2g} MPa½: the results counted as good sit at one point "
+                         "(or nearly), so the smallest sphere that fits is that point and the "
+                         "results say nothing yet about how far the dissolving region "
+                         "reaches; test solvents around them.")
         if not ok:
             notes.append("The centre search stopped at its iteration limit: a better fit may "
                          "exist.")

@@ -46,7 +46,7 @@ from solsphere.hansen import ra
 from solsphere.models.classic import default_bounds, fit_sphere, model_inputs
 from solsphere.models.graded import classes, fit_theta
 
-__all__ = ["ModelComparison", "compare_models", "MIN_GAIN", "CV_SEARCH"]
+__all__ = ["ModelComparison", "compare_models", "recommend", "MIN_GAIN", "CV_SEARCH"]
 
 #: Held-back results a reading must get right beyond the classic fit (with z >= 2).
 MIN_GAIN = 2
@@ -107,11 +107,12 @@ class ModelComparison:
 
 
 def _folds(y: np.ndarray, k: int) -> np.ndarray:
-    """Stratified, deterministic fold index per scored result (interleaved by class)."""
+    """Stratified, deterministic fold index per scored result: the results sorted by
+    class (good first) are dealt round-robin, so each fold gets its share of both; with
+    k equal to the number of results every result is its own fold (leave-one-out)."""
+    order = np.r_[np.flatnonzero(y), np.flatnonzero(~y)]
     f = np.empty(len(y), dtype=int)
-    for v in (True, False):
-        idx = np.flatnonzero(y == v)
-        f[idx] = np.arange(len(idx)) % k
+    f[order] = np.arange(len(y)) % k
     return f
 
 
@@ -143,6 +144,30 @@ def _predict_graded(X, outcomes, partial, train, test, start):
     p = expit((th[3] - ra(X[test], th[:3])) / np.exp(th[4]))
     p = np.clip(p, 1e-12, 1 - 1e-12)
     return p > 0.5, p
+
+
+def recommend(rows: list) -> tuple[dict, str]:
+    """The recommended row (the first row is the default) and the reason, by the rule of
+    the module doc: another reading only when ``gain >= MIN_GAIN`` and ``z >= MIN_Z``.
+
+    Examples
+    --------
+    >>> rows = [dict(label="default", gain=0, z=None, log_score=None, model="classic"),
+    ...         dict(label="other", gain=3, z=2.5, log_score=-0.3, model="graded")]
+    >>> recommend(rows)[0]["label"], recommend([rows[0], dict(rows[1], z=1.2)])[0]["label"]
+    ('other', 'default')
+    """
+    clearly = [r for r in rows[1:] if r["gain"] >= MIN_GAIN and r["z"] is not None
+               and r["z"] >= MIN_Z]
+    if clearly:
+        best = max(clearly, key=lambda r: (r["gain"], r["log_score"] if r["log_score"]
+                                           is not None else -np.inf, r["model"] == "classic"))
+        return best, (f"Recommended: {best['label']}: {best['gain']} more held-back results "
+                      f"right than the default classic fit (z = {best['z']:.1f}; 'clearly' "
+                      f"means at least {MIN_GAIN} more and z >= {MIN_Z:g}).")
+    return rows[0], (f"Recommended: the default classic fit; no other reading gets clearly "
+                     f"more held-back results right (at least {MIN_GAIN} more with z >= "
+                     f"{MIN_Z:g}).")
 
 
 def compare_models(X, good=None, names=None, *, folds: int = 10) -> ModelComparison:
@@ -230,19 +255,7 @@ def compare_models(X, good=None, names=None, *, folds: int = 10) -> ModelCompari
                          log_score=(float(logp[c][done].mean()) if c[0] == "graded" and m
                                     else None),
                          gain=gain, z=z, recommended=False))
-    clearly = [r for r in rows if r["gain"] >= MIN_GAIN and r["z"] is not None
-               and r["z"] >= MIN_Z]
-    if clearly:
-        best = max(clearly, key=lambda r: (r["gain"], r["log_score"] if r["log_score"]
-                                           is not None else -np.inf, r["model"] == "classic"))
-        reason = (f"Recommended: {best['label']}: {best['gain']} more held-back results "
-                  f"right than the default classic fit (z = {best['z']:.1f}; 'clearly' "
-                  f"means at least {MIN_GAIN} more and z >= {MIN_Z:g}).")
-    else:
-        best = rows[0]
-        reason = (f"Recommended: the default classic fit; no other reading gets clearly "
-                  f"more held-back results right (at least {MIN_GAIN} more with z >= "
-                  f"{MIN_Z:g}).")
+    best, reason = recommend(rows)
     best["recommended"] = True
     return ModelComparison(rows=rows, folds=k, n_scored=m, recommendation=best["label"],
                            reason=reason, warnings=notes)

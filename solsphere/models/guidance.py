@@ -1,5 +1,9 @@
 """Which solvents would pin down a coordinate the results cannot place.
 
+Suggestions come from the common solvents only (the working pool), each with its flash
+point and hazard flags; when none goes further, the advice says where to look
+(``solsphere next --pool liquids`` lists every library liquid with its hazards).
+
 When a fit's centre sits at the edge of the tested region, or the plausible centres run
 beyond it, the results say only "further than this" on that coordinate. The advice is
 then the same whichever fit noticed it: test solvents beyond the tested range on that
@@ -16,7 +20,7 @@ import numpy as np
 
 from solsphere.hansen import as_points
 from solsphere.library.pools import load_common
-from solsphere.library.table import load_library
+from solsphere.library.table import hazard_flags, load_library
 
 __all__ = ["pinning_solvents", "pinning_advice", "GREEK"]
 
@@ -52,10 +56,12 @@ def pinning_solvents(axis: str, side: str, points, centre, n: int = 3, pool=None
     >>> [s.dD > 15.8 for s in pinning_solvents("dD", "upper", tested, [15.6, 10, 10], 2)]
     [True, True]
     """
+    if pool is None:  # the working pool: the curated common solvents
+        pool = load_library().common()
     j = _AXES.index(axis)
     P = as_points(points)
     c = np.asarray(centre, dtype=float).reshape(3)
-    cands = list(load_library().common() if pool is None else pool)
+    cands = list(pool)
     if not cands:
         return []
     Q = np.array([s.point for s in cands], dtype=float)
@@ -70,6 +76,15 @@ def pinning_solvents(axis: str, side: str, points, centre, n: int = 3, pool=None
     step = np.abs(Q[keep, j] - edge)
     order = np.lexsort((-step, np.round(d_other, 1)))
     return [cands[keep[i]] for i in order[:n]]
+
+
+def _hazard(s) -> str:
+    """Hazard flags (they include the flash point when it matters), else the flash point:
+    safety facts beside every name."""
+    flags = hazard_flags(s)
+    if flags:
+        return ", ".join(flags)
+    return "flash point unknown" if s.flash_point is None else f"flash point {s.flash_point:.0f} °C"
 
 
 def _families() -> dict:
@@ -94,10 +109,11 @@ def pinning_advice(axis: str, side: str, points, centre, n: int = 3, pool=None) 
     head = (f"To pin it down, test solvents of {word} {sym} than any tested "
             f"({'above' if side == 'upper' else 'below'} {edge:.1f} MPa½)")
     if not picks:
-        return (head + "; no common solvent goes further on this side: try the full "
-                "library (--pool liquids) or a blend.")
+        return (head + "; no common solvent goes further on this side: see "
+                "'solsphere next --pool liquids' for every library liquid, with its "
+                "hazards, or test a blend.")
     fam = _families()
     kinds = sorted({fam.get(s.cas, "") for s in picks} - {""})
-    examples = ", ".join(f"{s.name} ({sym} {s.point[j]:.1f})" for s in picks)
+    examples = ", ".join(f"{s.name} ({sym} {s.point[j]:.1f}; {_hazard(s)})" for s in picks)
     kind = f", such as {' or '.join(kinds)} solvents" if kinds else ""
     return f"{head}{kind}: e.g. {examples}."

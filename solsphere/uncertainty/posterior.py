@@ -402,7 +402,8 @@ def _de_steps(logp, T, L, steps, rng):
                 prop = T[a] + gam[:, None] * (T[b[j]] - T[b[k]])
                 extra = 0.0
             Lp = logp(prop)
-            ok = np.log(rng.random(n)) < Lp - L[a] + extra
+            with np.errstate(invalid="ignore"):  # -inf - -inf: NaN, i.e. rejected
+                ok = np.log(rng.random(n)) < Lp - L[a] + extra
             T[a[ok]], L[a[ok]] = prop[ok], Lp[ok]
             accepted += int(ok.sum())
         out[s] = T
@@ -456,6 +457,8 @@ def _cannot_place(Cflat, R, intervals, prior_lo, prior_hi, X, centre) -> list[st
             limit, edge = (hi, t_hi) if up else (lo, t_lo)
             beyond = (i_hi - t_hi) if up else (t_lo - i_lo)
             word = "higher" if up else "lower"
+            if abs(limit - edge) <= BEYOND:
+                continue  # the tested solvents reach the prior's (physical) limit here
             if at > EDGE_SHARE:
                 head = (f"{sym} ({a}) cannot be placed: {100 * at:.0f} % of the plausible "
                         f"centres sit at the {side} limit of the prior ({limit:g} MPa½); "
