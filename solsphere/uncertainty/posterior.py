@@ -12,7 +12,10 @@ they explain the results (the posterior of the graded model of
           \prod_i \sigma\!\left(\pm\frac{R_0 - R_{a,i}}{w}\right) \, p(\theta),
           \qquad \theta = (\delta_D, \delta_P, \delta_H, R_0, \ln w)
 
-with + for a good result and − for a bad one.
+with + for a good result and − for a bad one, each factor softened by a lapse rate
+ε = 0.02 (ε + (1 − 2ε) σ: one result in 50 may be recorded the wrong way round whatever
+the sphere, so a single wrong vial far from the boundary does not force a soft, large
+sphere). ``p_good`` below is the sphere's own probability, without ε.
 
 Prior
 -----
@@ -22,9 +25,11 @@ polymers whose δD is above every common solvent's): δD 12–25, δP 0–30, δ
 The packaged library's 1,225 compounds span δD 10.6–22.6, δP 0–27.6 and δH 0–42.7
 (1st–99th percentiles 12.6–21.0, 0–19.4, 0–25.2); the box holds all but a handful of
 fluorinated liquids on the low δD side and leaves room above for polymers (handbook
-polystyrene δD 21.3, from memory). R0 is flat on (0, 25] MPa½ (spheres of ordinary
-materials are a few to about 15 MPa½; 25 lets "almost everything dissolves" show as
-mass at the limit rather than be hidden). The width w of the boundary is log-uniform on
+polystyrene δD 21.3, from memory). R0 is log-uniform on (0.001, 25] MPa½ (scale-free;
+spheres of ordinary materials are a few to about 15 MPa½, and 25 lets "almost everything
+dissolves" show as mass at the limit rather than be hidden; with a flat prior the large
+spheres whose surface merely passes between the results, with a centre far out in the
+wide box, took too much of the mass on poorly determined panels). The width w of the boundary is log-uniform on
 [0.01, 10] MPa½ (scale-free: sharp boundaries, the usual case of a clean panel, are as
 welcome as soft ones; the graded fit's ridge on 1/w forbade them). One constraint ties
 R0 and w: R0 >= ln 9 × w, so a solvent at the centre itself dissolves the material
@@ -57,7 +62,9 @@ spread over it are kept for plotting, ranking and next trials.
 
 A solvent's ``p_good`` is the posterior predictive probability that it dissolves the
 material: the mean over the sampled spheres of σ((R0 − Ra) / w), so the width's
-uncertainty is integrated, not only the sphere's.
+uncertainty is integrated, not only the sphere's. A result whose leave-one-out
+predictive probability (importance sampling over the samples [6]_) is below 5 % is named
+in a warning: a wrong result pulls the sphere and its intervals with it.
 
 How good are the intervals? ``tests/perf/bench_calibration.py`` runs 100 invented
 panels of 15–30 common solvents (centres inside, near the edge of and beyond the tested
@@ -82,6 +89,9 @@ References
 .. [5] C. J. F. ter Braak, "A Markov chain Monte Carlo version of the genetic algorithm
    differential evolution: easy Bayesian computing for real parameter spaces",
    Statistics and Computing 16(3), 239-249, 2006.
+.. [6] A. E. Gelfand, D. K. Dey, H. Chang, "Model determination using predictive
+   distributions with implementation via sampling-based methods", in *Bayesian
+   Statistics 4*, Oxford University Press, 1992, pp. 147-167 (reference from memory).
 
 (The affine-invariant stretch move of Goodman and Weare [2]_, used before, gave τ of
 about 100-160 steps on the demo panel; these moves 40-75, so the converged chain takes
@@ -117,8 +127,16 @@ CENTRE_Z = float(np.log(9.0))
 MIN_ACCEPTANCE = 0.1
 #: The physically wide flat prior on the centre [MPa½] (see the module doc).
 PRIOR_BOX = np.array([[12.0, 25.0], [0.0, 30.0], [0.0, 45.0]])
-#: Upper limit of the flat prior on R0 [MPa½].
+#: Upper limit of the prior on R0 [MPa½].
 R0_MAX = 25.0
+#: Prior density of R0 ∝ R0^-R0_POWER: 1 is log-uniform (scale-free, like the width's).
+R0_POWER = 1.0
+#: Probability that a bench result is recorded the wrong way round whatever the sphere
+#: (a vial mixed up, a warm vial, a misread haze): 1 in 50 (common practice, no source).
+#: Without it one wrong result far from the boundary can only be explained by a soft,
+#: large sphere, and the R0 and width intervals missed the truth in the calibration
+#: campaign's panels with a flipped result.
+LAPSE = 0.02
 #: Limits of the log-uniform prior on the width w [MPa½].
 MIN_WIDTH, MAX_WIDTH = 0.01, 10.0
 #: A chain shorter than this many autocorrelation times is not trusted (the rule of
@@ -129,6 +147,12 @@ TAU_MULTIPLE = 50
 EDGE_SHARE = 0.05
 #: An interval end this far beyond the tested solvents [MPa½] gets a warning.
 BEYOND = 1.0
+#: An R0 interval whose upper end is more than this many times its lower end gets a
+#: warning (common practice, no source).
+WIDE_R0 = 2.0
+#: A result whose observed outcome has a leave-one-out predictive probability below
+#: this is named as unlikely (re-check it; common practice, no source).
+SURPRISE = 0.05
 
 
 def autocorr_time(chain) -> np.ndarray:
@@ -151,7 +175,8 @@ def autocorr_time(chain) -> np.ndarray:
     return np.where(np.isfinite(tau) & (tau > 0), tau, float(len(x)))
 
 
-def log_posterior(thetas, X, good, lo, hi, prior=(1.0, 1.0)) -> np.ndarray:
+def log_posterior(thetas, X, good, lo, hi, prior=(1.0, 1.0), lapse: float = 0.0,
+                  r0_power: float = 0.0) -> np.ndarray:
     """Log posterior (up to a constant) of many graded spheres at once.
 
     Parameters
@@ -166,6 +191,11 @@ def log_posterior(thetas, X, good, lo, hi, prior=(1.0, 1.0)) -> np.ndarray:
         An optional ridge ``strength * (width_prior / w)**2`` (that of
         :func:`solsphere.models.graded.graded_nll`); strength 0 turns it off (the
         sampler's default).
+    lapse : float, default=0.0
+        Probability ε that a result is recorded the wrong way round whatever the
+        sphere: P(good) = ε + (1 − 2ε) σ(z) (the sampler uses :data:`LAPSE`).
+    r0_power : float, default=0.0
+        Prior density of R0 ∝ R0^-r0_power: 0 flat, 1 log-uniform (the sampler's).
 
     Returns
     -------
@@ -177,7 +207,12 @@ def log_posterior(thetas, X, good, lo, hi, prior=(1.0, 1.0)) -> np.ndarray:
     Ra = np.sqrt((d * d * _S2).sum(axis=-1) + 1e-12)
     w = np.exp(T[:, 4])
     z = (T[:, 3:4] - Ra) / w[:, None]
-    ll = -np.logaddexp(0.0, np.where(good[None, :], -z, z)).sum(axis=1)
+    log_sig = -np.logaddexp(0.0, np.where(good[None, :], -z, z))
+    if lapse:
+        log_sig = np.logaddexp(np.log(lapse), np.log1p(-2.0 * lapse) + log_sig)
+    ll = log_sig.sum(axis=1)
+    if r0_power:
+        ll = ll - r0_power * np.log(np.maximum(T[:, 3], 1e-300))
     lam, w0 = prior
     if lam:
         ll = ll - lam * (w0 / w) ** 2
@@ -343,7 +378,7 @@ class Posterior(SampledSpheres):
                f"{self.partial})",
                "    prior      = centre " + ", ".join(
                    f"{a} {lo:g} to {hi:g}" for a, (lo, hi) in zip(AXES, self.bounds))
-               + (f"; R0 up to {self.prior.get('R0_max', R0_MAX):g}; width log-uniform "
+               + (f"; R0 log-uniform up to {self.prior.get('R0_max', R0_MAX):g}; width log-uniform "
                   f"{self.prior.get('min_width', MIN_WIDTH):g} to "
                   f"{self.prior.get('max_width', MAX_WIDTH):g} MPa½"),
                f"[[Intervals]] ({100 * self.level:g} %, credible, equal-tailed)"]
@@ -472,7 +507,13 @@ def _cannot_place(Cflat, R, intervals, prior_lo, prior_hi, X, centre) -> list[st
             else:
                 continue
             out.append(f"{head} {pinning_advice(a, side, X, centre)}")
+    r_lo, r_hi = intervals["R0"]
     at = float(np.mean(R >= 0.98 * R0_MAX))
+    if at <= EDGE_SHARE and r_hi > WIDE_R0 * r_lo:
+        out.append(f"R0 is poorly determined: its interval runs from {r_lo:.1f} to "
+                   f"{r_hi:.1f} MPa½ (a small sphere near the dissolving results and a "
+                   "large one reaching beyond them both fit). Test solvents between the "
+                   "dissolving results and the nearest non-dissolving ones.")
     if at > EDGE_SHARE:
         out.append(f"R0 cannot be placed: {100 * at:.0f} % of the plausible spheres have R0 "
                    f"at the prior's limit ({R0_MAX:g} MPa½): the results do not show where "
@@ -486,7 +527,8 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
                      n_effective: int = 1000, n_walkers: int = 32, burn: int = 100,
                      max_steps: int = 30000, min_width: float = MIN_WIDTH,
                      max_width: float = MAX_WIDTH, r0_max: float = R0_MAX,
-                     width_prior: float = 1.0, prior_strength: float = 0.0) -> Posterior:
+                     width_prior: float = 1.0, prior_strength: float = 0.0,
+                     lapse: float = LAPSE) -> Posterior:
     """Sample the spheres the bench results allow, until the chain has converged.
 
     Parameters
@@ -519,6 +561,8 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     width_prior, prior_strength : float, default=1.0, 0.0
         An optional ridge on 1/w as in :class:`~solsphere.models.graded.GradedModel`
         (off by default: it forbade sharp boundaries).
+    lapse : float, default=0.02
+        Probability that a result is recorded the wrong way round (see :data:`LAPSE`).
 
     Returns
     -------
@@ -546,6 +590,8 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
                          f"{burn}, {n_effective}, {max_steps}")
     if not 0 < min_width < max_width:
         raise ValueError(f"need 0 < min_width < max_width; found {min_width}, {max_width}")
+    if not 0.0 <= lapse < 0.5:
+        raise ValueError(f"lapse must be in [0, 0.5); found {lapse}")
     t0 = time.perf_counter()
     X, g, names, tested = binary_data(data, good, partial, names, None)
     box = PRIOR_BOX.copy() if bounds is None else np.asarray(bounds, dtype=float)
@@ -568,7 +614,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     start = np.clip(start, lo + 1e-9, hi - 1e-9)
     start[:, 4] = np.minimum(start[:, 4], np.log(0.9 * start[:, 3] / CENTRE_Z))
     start = np.clip(start, lo + 1e-9, hi - 1e-9)
-    logp = lambda T: log_posterior(T, X, g, lo, hi, prior)  # noqa: E731
+    logp = lambda T: log_posterior(T, X, g, lo, hi, prior, lapse, R0_POWER)  # noqa: E731
     kept, burn_used, tau, ess, acc, total, done = _run_until_converged(
         logp, start, rng, n_effective, n_samples, max(max_steps, burn + 200), min_burn=burn)
     flat = kept.reshape(-1, 5)
@@ -608,9 +654,25 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
                      converged=bool(done), burn=int(burn_used), n_effective=n_effective,
                      tested_box=tested.tolist(),
                      prior={"R0_max": float(r0_max), "min_width": float(min_width),
+                            "lapse": float(lapse), "R0": "log-uniform",
                             "max_width": float(max_width),
                             "width": "log-uniform" if not prior_strength else
                             f"log-uniform with a ridge {prior_strength:g} ({width_prior:g}/w)²"})
     post.trial_p_good = post.p_good(X).tolist()
+    # Leave-one-out predictive probability of each observed outcome by importance
+    # sampling (the harmonic mean of its likelihood over the samples, Gelfand's
+    # estimator): how surprising the result would be had it not been tested.
+    lik = expit((R[:, None] - ra(X[None, :, :], C[:, None, :])) / E[:, None])
+    lik = np.maximum(lapse + (1.0 - 2.0 * lapse) * np.where(g, lik, 1.0 - lik), 1e-300)
+    p_obs = 1.0 / np.mean(1.0 / lik, axis=0)
+    odd = np.flatnonzero(p_obs < SURPRISE)
+    if odd.size:
+        listed = ", ".join(f"{names[i]} ({'dissolves' if g[i] else 'does not'}, "
+                           f"P {p_obs[i]:.2f})" for i in odd[np.argsort(p_obs[odd])][:4])
+        notes.append(f"{odd.size} result{'s are' if odd.size > 1 else ' is'} unlikely given "
+                     f"the other results: {listed}. A wrong result pulls the sphere "
+                     "and its intervals (dD, dP, dH, R0) with it: re-check "
+                     f"{'them' if odd.size > 1 else 'it'} first.")
+    post.warnings = notes
     post.elapsed = time.perf_counter() - t0
     return post
