@@ -15,7 +15,9 @@ they explain the results (the posterior of the graded model of
 with + for a good result and − for a bad one, each factor softened by a lapse rate
 ε = 0.02 (ε + (1 − 2ε) σ: one result in 50 may be recorded the wrong way round whatever
 the sphere, so a single wrong vial far from the boundary does not force a soft, large
-sphere). ``p_good`` below is the sphere's own probability, without ε.
+sphere), and the sphere must hold at least one result counted as good (else every good
+result could be a lapse and a tiny sphere anywhere in the wide box would fit).
+``p_good`` below is the sphere's own probability, without ε.
 
 Prior
 -----
@@ -211,6 +213,10 @@ def log_posterior(thetas, X, good, lo, hi, prior=(1.0, 1.0), lapse: float = 0.0,
     if lapse:
         log_sig = np.logaddexp(np.log(lapse), np.log1p(-2.0 * lapse) + log_sig)
     ll = log_sig.sum(axis=1)
+    if lapse:
+        # support: the sphere holds at least one result counted as good (otherwise every
+        # good result would be a lapse, and a tiny sphere anywhere in the wide box fits)
+        inb &= np.any(good[None, :] & (Ra <= T[:, 3:4]), axis=1)
     if r0_power:
         ll = ll - r0_power * np.log(np.maximum(T[:, 3], 1e-300))
     lam, w0 = prior
