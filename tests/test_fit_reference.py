@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 
 from solsphere.hansen import ra
-from solsphere.models.classic import (default_bounds, desirability, fit_sphere, grid_search,
+from solsphere.models.classic import (default_bounds, desirability, best_sphere, grid_search,
                                       separable_fit)
 
 STEP = 0.25
@@ -36,7 +36,7 @@ def panel(seed: int, flips: int, n: int = 20):
 
 def check_perfect(seed: int):
     X, good = panel(seed, 0)
-    c, R0, D = fit_sphere(X, good)
+    c, R0, D = best_sphere(X, good)
     gc, gR0, gD, _ = grid_search(X, good, step=STEP)
     exact = separable_fit(X, good, default_bounds(X))
     assert exact is not None and exact[1], "a perfect panel must be certified separable"
@@ -48,7 +48,7 @@ def check_perfect(seed: int):
     d = ra(X, c)
     assert np.all(d[good] <= R0 + 1e-9) and np.all(d[~good] >= R0 - 1e-9)
     for s in (1, 7, 12345):
-        c2, R2, D2 = fit_sphere(X, good, seed=s)
+        c2, R2, D2 = best_sphere(X, good, seed=s)
         np.testing.assert_array_equal(c2, c)
         assert (R2, D2) == (R0, D)
     return R0, gR0
@@ -56,14 +56,14 @@ def check_perfect(seed: int):
 
 def check_noisy(seed: int):
     X, good = panel(1000 + seed, 1 + seed % 4)
-    c, R0, D = fit_sphere(X, good)
+    c, R0, D = best_sphere(X, good)
     gc, gR0, gD, _ = grid_search(X, good, step=STEP)
     assert D >= gD - 1e-12
     if abs(D - gD) <= 1e-9:
         assert R0 <= gR0 + 1e-6
     assert D == pytest.approx(desirability(ra(X, c), good, R0), rel=1e-15)
     for s in (1, 99):
-        c2, R2, D2 = fit_sphere(X, good, seed=s)
+        c2, R2, D2 = best_sphere(X, good, seed=s)
         np.testing.assert_array_equal(c2, c)
         assert (R2, D2) == (R0, D)
     return D, gD
@@ -94,5 +94,5 @@ def test_separable_fit_says_none_when_no_perfect_sphere_exists():
     X = np.array([[16.0, 5.0, 5.0], [18.0, 5.0, 5.0], [17.0, 5.0, 5.0], [17.0, 20.0, 20.0]])
     good = np.array([True, True, False, False])
     assert separable_fit(X, good, [[15, 19], [0, 25], [0, 25]]) is None
-    c, R0, D = fit_sphere(X, good)
+    c, R0, D = best_sphere(X, good)
     assert D < 1.0 and np.all(np.isfinite(c)) and np.isfinite(R0)

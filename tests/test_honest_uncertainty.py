@@ -11,7 +11,7 @@ import pytest
 from solsphere.errors import SolsphereError
 from solsphere.hansen import ra
 from solsphere.library.table import load_library
-from solsphere.models.classic import SphereModel, fit_sphere
+from solsphere.models.classic import SphereModel, best_sphere
 from solsphere.models.comparison import compare_models, recommend
 from solsphere.models.guidance import pinning_solvents
 from solsphere.uncertainty.bootstrap import bootstrap
@@ -86,7 +86,7 @@ def test_model_comparison_recounts_and_the_rule():
     right = 0
     for i in range(len(X)):
         tr = np.arange(len(X)) != i
-        c, R0, _ = fit_sphere(X[tr], g[tr], bounds=default_bounds(X[tr]), **CV_SEARCH)
+        c, R0, _ = best_sphere(X[tr], g[tr], bounds=default_bounds(X[tr]), **CV_SEARCH)
         right += int((ra(X[i], c)[0] <= R0) == g[i])
     assert cmp.rows[0]["n_right"] == right
     assert [r["label"] for r in cmp.rows][0].startswith("classic")

@@ -43,8 +43,9 @@ from scipy.special import expit
 
 from solsphere.errors import FitError
 from solsphere.hansen import ra
-from solsphere.models.classic import default_bounds, fit_sphere, model_inputs
-from solsphere.models.graded import classes, fit_theta
+from solsphere.models.base import counted_classes, default_bounds, model_inputs
+from solsphere.models.classic import best_sphere
+from solsphere.models.graded import fit_theta
 
 __all__ = ["ModelComparison", "compare_models", "recommend", "MIN_GAIN", "CV_SEARCH"]
 
@@ -124,14 +125,14 @@ def _predict_classic(X, outcomes, partial, train, test):
     g = np.array([c == "good" for c in counted])
     if not (np.any(use & g) and np.any(use & ~g)):
         return None, None, None
-    c, R0, _ = fit_sphere(X[use], g[use], bounds=default_bounds(X[train]), **CV_SEARCH)
+    c, R0, _ = best_sphere(X[use], g[use], bounds=default_bounds(X[train]), **CV_SEARCH)
     return ra(X[test], c) <= R0, None, (c, R0)
 
 
 def _predict_graded(X, outcomes, partial, train, test, start):
     """Held-back predictions and P(at least partly) of the graded fit, started from the
     same fold's classic fit (partly = dissolves) with w = 0.3 and 1 MPa½."""
-    use, y, ordinal, _ = classes([outcomes[i] for i in np.flatnonzero(train)], partial)
+    use, y, ordinal, _ = counted_classes([outcomes[i] for i in np.flatnonzero(train)], partial)
     Xt = X[train][use]
     yt = y[use]
     if not (np.any(yt > 0) and np.any(yt == 0)):
@@ -197,7 +198,7 @@ def compare_models(X, good=None, names=None, *, folds: int = 10) -> ModelCompari
     >>> [r["label"] for r in cmp.rows], cmp.n_scored
     (['classic, partly = dissolves (default)', 'graded, partly = dissolves'], 24)
     """
-    P, outcomes, names, _ = model_inputs(X, good, names)
+    P, outcomes, names, _, _ = model_inputs(X, good, names)
     clear = np.array([o != "partial" for o in outcomes])
     y = np.array([o == "good" for o in outcomes])
     n_clear = int(clear.sum())

@@ -110,10 +110,11 @@ from emcee.autocorr import integrated_time
 from scipy.special import expit
 
 from solsphere.hansen import SCALE, as_points, ra
-from solsphere.models.classic import AXES, MIN_ADVISED, desirability
-from solsphere.models.graded import GradedModel
+from solsphere.models.base import AXES, MIN_ADVISED, binary_data
+from solsphere.models.classic import desirability
+from solsphere.models.graded import GradedSphereModel
 from solsphere.models.guidance import GREEK, pinning_advice
-from solsphere.uncertainty.bootstrap import SampledSpheres, binary_data, percentile_intervals
+from solsphere.uncertainty.bootstrap import SampledSpheres, percentile_intervals
 
 __all__ = ["Posterior", "sample_posterior", "log_posterior", "PRIOR_BOX", "R0_MAX",
            "autocorr_time"]
@@ -540,7 +541,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     Parameters
     ----------
     data : Trials or array-like of shape (n, 3)
-        Bench results (see :func:`solsphere.uncertainty.bootstrap.binary_data`).
+        Bench results (see :func:`solsphere.models.base.binary_data`).
     good : array-like of bool or outcome strings, default=None
         Required with arrays.
     n_samples : int, default=1000
@@ -565,7 +566,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     r0_max : float, default=25.0
         Upper limit of the flat prior on R0 [MPa½].
     width_prior, prior_strength : float, default=1.0, 0.0
-        An optional ridge on 1/w as in :class:`~solsphere.models.graded.GradedModel`
+        An optional ridge on 1/w as in :class:`~solsphere.models.graded.GradedSphereModel`
         (off by default: it forbade sharp boundaries).
     lapse : float, default=0.02
         Probability that a result is recorded the wrong way round (see :data:`LAPSE`).
@@ -608,7 +609,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     start_box = np.column_stack([np.maximum(tested[:, 0], box[:, 0]),
                                  np.minimum(tested[:, 1], box[:, 1])])
     start_box[:, 1] = np.maximum(start_box[:, 0], start_box[:, 1])
-    model = GradedModel(partial="good", bounds=start_box, min_width=max(min_width, 0.05),
+    model = GradedSphereModel(partial="good", bounds=start_box, min_width=max(min_width, 0.05),
                         max_width=min(max_width, 20.0)).fit(X, g)
     lo = np.r_[box[:, 0], 1e-3, np.log(min_width)]
     hi = np.r_[box[:, 1], float(r0_max), np.log(max_width)]
