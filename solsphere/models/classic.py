@@ -186,7 +186,7 @@ def _lexmin(l: np.ndarray, R0: np.ndarray):
 
 #: Seed of every random choice of the centre search (fixed: the same input gives the same
 #: fit whatever seed a caller passes).
-SEARCH_SEED = 20240601
+SEARCH_SEED = 0
 #: Largest stationarity residual (relative) of a certified exact fit.
 KKT_TOL = 1e-7
 
