@@ -19,27 +19,47 @@ Every computation returns one result object with ``to_frame()``, ``to_dict()``, 
 text report (``print``) and a notebook view.
 """
 
+import importlib
+
 __version__ = "0.1.0"
 
-from solsphere.design.pairs import Blend, BlendScreen, screen_blends  # noqa: E402
-from solsphere.design.ranking import Ranking, rank_solvents  # noqa: E402
-from solsphere.design.substitution import Substitution, find_substitutes  # noqa: E402
-from solsphere.design.triples import TripleScreen, screen_triples  # noqa: E402
-from solsphere.errors import FitError, InputError, NotFittedError, SolsphereError  # noqa: E402
-from solsphere.io.project import Project, load_any  # noqa: E402
-from solsphere.io.trials import Trials, read_trials  # noqa: E402
-from solsphere.library.table import Library, Solvent, load_library  # noqa: E402
-from solsphere.mixtures.drying import DryingPath, drying_path  # noqa: E402
-from solsphere.mixtures.flash import blend_flash_point  # noqa: E402
-from solsphere.models.classic import SphereFitResult, SphereModel  # noqa: E402
-from solsphere.models.graded import GradedFitResult, GradedSphereModel  # noqa: E402
-from solsphere.models.twosphere import TwoSphereFitResult, TwoSphereModel  # noqa: E402
-from solsphere.report.figures import map3d, projections  # noqa: E402
-from solsphere.uncertainty.bootstrap import Bootstrap, Influence, bootstrap, influence  # noqa: E402
-from solsphere.uncertainty.nexttrials import Suggestions, suggest_next  # noqa: E402
-from solsphere.uncertainty.posterior import Posterior, sample_posterior  # noqa: E402
-from solsphere.workflows import (BlendDesign, candidate_pool, design_blends,  # noqa: E402
-                                 find_replacements, fit_project)
+#: Where each public name lives. The names load on first use (PEP 562), so that
+#: ``import solsphere`` and the command line's ``--help`` do not import scipy and plotly.
+API = {
+    "solsphere.design.pairs": ("Blend", "BlendScreen", "screen_blends"),
+    "solsphere.design.ranking": ("Ranking", "rank_solvents"),
+    "solsphere.design.substitution": ("Substitution", "find_substitutes"),
+    "solsphere.design.triples": ("TripleScreen", "screen_triples"),
+    "solsphere.errors": ("FitError", "InputError", "NotFittedError", "SolsphereError"),
+    "solsphere.io.project": ("Project", "load_any"),
+    "solsphere.io.trials": ("Trials", "read_trials"),
+    "solsphere.library.table": ("Library", "Solvent", "load_library"),
+    "solsphere.mixtures.drying": ("DryingPath", "drying_path"),
+    "solsphere.mixtures.flash": ("blend_flash_point",),
+    "solsphere.models.classic": ("SphereFitResult", "SphereModel"),
+    "solsphere.models.graded": ("GradedFitResult", "GradedSphereModel"),
+    "solsphere.models.twosphere": ("TwoSphereFitResult", "TwoSphereModel"),
+    "solsphere.report.figures": ("map3d", "projections"),
+    "solsphere.uncertainty.bootstrap": ("Bootstrap", "Influence", "bootstrap", "influence"),
+    "solsphere.uncertainty.nexttrials": ("Suggestions", "suggest_next"),
+    "solsphere.uncertainty.posterior": ("Posterior", "sample_posterior"),
+    "solsphere.workflows": ("BlendDesign", "candidate_pool", "design_blends",
+                            "find_replacements", "fit_project"),
+}
+_WHERE = {name: module for module, names in API.items() for name in names}
+
+
+def __getattr__(name: str):
+    if name not in _WHERE:
+        raise AttributeError(f"module 'solsphere' has no attribute {name!r}")
+    value = getattr(importlib.import_module(_WHERE[name]), name)
+    globals()[name] = value  # later look-ups skip this function
+    return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_WHERE))
+
 
 __all__ = [
     "__version__",

@@ -56,11 +56,19 @@ def _count(text: str) -> int:
     return _whole(text, 0)
 
 
-def _port(text: str) -> int:
-    v = _positive_int(text)
-    if v > 65535:
-        raise argparse.ArgumentTypeError(f"expected a port from 1 to 65535, found {v}")
-    return v
+def _at_most(maximum: int, what: str):
+    """An option type: a whole number from 1 to ``maximum`` ``what``."""
+    def parse(text: str) -> int:
+        v = _positive_int(text)
+        if v > maximum:
+            raise argparse.ArgumentTypeError(f"expected at most {maximum} {what}, found {v}")
+        return v
+    return parse
+
+
+_port = _at_most(65535, "(a port number)")
+#: --workers: about one per core is enough.
+_workers = _at_most(64, "worker processes")
 
 
 def _number(text: str) -> float:
@@ -225,14 +233,6 @@ SETTING_OPTIONS = {
                       "--min-exposure-limit / --exclude / --restricted, or add solvents to "
                       "the shelf (or use --pool liquids)"),
 }
-
-
-def _workers(text: str) -> int:
-    """--workers: a whole number from 1 to 64."""
-    v = _positive_int(text)
-    if v > 64:
-        raise argparse.ArgumentTypeError(f"expected at most 64 worker processes, found {v}")
-    return v
 
 
 def located(exc: InputError) -> InputError:

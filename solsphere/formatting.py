@@ -112,3 +112,12 @@ def split_names(values: Iterable[str] | str | None) -> list[str]:
         text = str(v).replace(";", ",").replace("\n", ",")
         out += [x.strip() for x in text.split(",") if x.strip()]
     return out
+
+
+def warning_lines(warnings: Sequence[str], title: str = "Warnings") -> list[str]:
+    """A report section: ``[[Warnings]]`` and one indented line per warning ("none").
+
+    >>> warning_lines([])
+    ['[[Warnings]]', '    none']
+    """
+    return [f"[[{title}]]"] + ([f"    {t}" for t in warnings] or ["    none"])

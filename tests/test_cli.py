@@ -1,4 +1,4 @@
-"""Tests for solsphere.cli: the command-line contract (CONVENTIONS.md, "Command line").
+"""Tests for solsphere.cli: the command-line contract (DEVELOPERS.md, "Conventions": the command line).
 
 Most calls run ``solsphere.cli.main([...])`` in-process; a few run the installed
 ``solsphere`` script in a subprocess to check real exit codes and imports. Every file

@@ -91,3 +91,13 @@ def test_results_convert_to_frames_and_html():
     assert len(frame) == 20 and {"name", "red", "agrees"} <= set(frame.columns)
     html = res._repr_html_()
     assert html.startswith("<pre>") and "<table" in html
+
+
+def test_every_public_name_resolves_and_none_is_missing():
+    import solsphere
+    where = {n for names in solsphere.API.values() for n in names}
+    assert set(solsphere.__all__) - {"__version__"} == where
+    for name in solsphere.__all__:
+        assert getattr(solsphere, name) is not None
+    with pytest.raises(AttributeError):
+        solsphere.no_such_thing  # noqa: B018

@@ -254,10 +254,8 @@ def inside_window(a, b, centre, R0: float) -> tuple[float, float] | None:
 
     Parameters
     ----------
-    a, b : array-like of shape (3,) or Solvent
-        The two components' dD, dP, dH [MPa½].
-    centre : array-like of shape (3,)
-        Sphere centre [MPa½].
+    a, b, centre
+        As for :func:`best_fraction` [MPa½].
     R0 : float
         Sphere radius [MPa½].
 

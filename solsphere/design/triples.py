@@ -355,12 +355,8 @@ def triple_screen(points, centre, R0: float, triples=None, *, lower=None, upper=
 
     Parameters
     ----------
-    points : array-like of shape (n, 3)
-        Candidate solvents' dD, dP, dH [MPa½].
-    centre : array-like of shape (3,)
-        Sphere centre dD, dP, dH [MPa½].
-    R0 : float
-        Sphere radius [MPa½].
+    points, centre, R0
+        As for :func:`solsphere.design.pairs.pair_screen` [MPa½].
     triples : array-like of int of shape (m, 3), optional
         Screen only these triples of indices; default: all ``n(n-1)(n-2)/6`` triples
         ``i < j < k`` in lexicographic order.
@@ -493,14 +489,10 @@ def inside_area_fraction(a, b, c, centre, R0: float, lower=None,
 
     Parameters
     ----------
-    a, b, c : array-like of shape (3,) or Solvent
-        The three components' dD, dP, dH [MPa½].
-    centre : array-like of shape (3,)
-        Sphere centre [MPa½].
+    a, b, c, centre, lower, upper
+        As for :func:`best_fractions3`.
     R0 : float
-        Sphere radius [MPa½].
-    lower, upper : array-like of shape (3,), optional
-        With limits, the fraction of the *allowed* polygon (``lower <= w <= upper``)
+        Sphere radius [MPa½]. With ``lower``/``upper``, the fraction of the *allowed* polygon (``lower <= w <= upper``)
         instead of the whole triangle.
 
     Returns
@@ -722,26 +714,15 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
 
     Parameters
     ----------
-    candidates : iterable of Solvent
-        The solvents to combine. Names are compared after ``casefold``; a repeated name
-        is screened once.
-    centre : array-like of shape (3,)
-        Sphere centre dD, dP, dH [MPa½].
-    R0 : float
-        Sphere radius [MPa½].
-    top : int or None, default=20
-        How many blends to return (None: all).
+    candidates, centre, R0, top
+        As for :func:`solsphere.design.pairs.screen_blends` (the solvents to combine).
     max_fraction, min_fraction : mapping of str to float, optional
         Per-solvent limits on the volume fraction (0 to 1), applied whenever that
         solvent is a component (``{"toluene": 0.3}``). Names as ``Solvent.name``
         (casefold); names not among the candidates are listed in
         ``filters["limits_not_found"]``.
-    exclude : iterable of str, default=()
-        Solvent names to leave out (as in :func:`solsphere.blend.screen_blends`).
-    min_flash_point : float or None, default=None
-        Keep only components whose flash point is known and at least this [°C].
-    max_boiling_point : float or None, default=None
-        Keep only components whose boiling point is known and at most this [°C].
+    exclude, min_flash_point, max_boiling_point
+        Filters of the components, as for :func:`solsphere.design.pairs.screen_blends`.
     only_blends : bool, default=True
         Rank only genuine three-component blends (all three fractions > 1e-9). False
         also keeps triples whose best blend is a pair or a single solvent, marked

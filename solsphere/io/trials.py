@@ -1,6 +1,6 @@
 """Bench results: read, validate and resolve the trials a sphere is fitted to.
 
-A results file (CSV or TSV, see CONVENTIONS.md) has one row per trial::
+A results file (CSV or TSV, see DEVELOPERS.md, "Conventions") has one row per trial::
 
     solvent,outcome,dD,dP,dH,note
     toluene,good,,,,clear after 1 h
@@ -62,7 +62,7 @@ __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
-#: Words shown to people for each outcome (CONVENTIONS.md).
+#: Words shown to people for each outcome (DEVELOPERS.md, "Conventions"): the one table.
 DISPLAY = {"good": "dissolves", "partial": "partly", "bad": "does not"}
 #: How :meth:`Trials.binary` counts a partial result unless told otherwise.
 DEFAULT_PARTIAL = "good"
@@ -386,22 +386,9 @@ def read(path, library: LibraryLike | None = None) -> Trials:
 def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None) -> Trials:
     """Read bench results from the text of a results file.
 
-    Parameters
-    ----------
-    text : str
-        The whole file (any line endings; a leading BOM is ignored).
-    source : str, default="<text>"
-        Name used in messages.
-    library : Library or None, default=None
-        None means :func:`solsphere.library.load_library`.
-
-    Returns
-    -------
-    Trials
-
-    Raises
-    ------
-    InputError
+    ``text`` is the whole file (any line endings; a leading BOM is ignored); ``source``
+    names it in messages; ``library`` and the result are as for :func:`read`, and so is
+    the error raised for the first problem.
     """
     text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
     records, decimal_comma, header_warnings, header_line = _parse_table(text, source)

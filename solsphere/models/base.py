@@ -12,6 +12,7 @@ validated points, canonical outcomes, names and weights; :func:`binary_data` and
 from __future__ import annotations
 
 import inspect
+from dataclasses import asdict, dataclass
 
 import numpy as np
 
@@ -19,6 +20,7 @@ from solsphere.errors import FitError, NotFittedError
 from solsphere.hansen import as_points, ra
 from solsphere.io.trials import DISPLAY, parse_outcome
 from solsphere.models.guidance import pinning_advice
+from solsphere.results import Result
 
 AXES = ("dD", "dP", "dH")
 #: Words shown to people for each outcome (one table for the whole package).
@@ -241,7 +243,30 @@ def unboundable_message(n_cg: int, n_cb: int, n_partial: int, partial: str) -> s
             "toluene, acetone, ethyl acetate, dichloromethane, DMSO), until one dissolves it.")
 
 
+# ----------------------------------------------------------------------------- results
+class FitResultBase(Result):
+    """What the fit results share (dataclasses with dD, dP, dH and a per-trial ``table``):
+    the centre as an array, ``to_dict()`` of plain fields, one table row per trial."""
+
+    rows_key = "table"
+
+    @property
+    def centre(self) -> np.ndarray:
+        return np.array([self.dD, self.dP, self.dH])
+
+    def to_dict(self) -> dict:
+        """JSON-safe plain types (the ``solsphere fit --json`` object)."""
+        return asdict(self)
+
+
 # ----------------------------------------------------------------------------- estimator
+def estimator(cls):
+    """Class decorator: the settings, declared as annotated class attributes with their
+    defaults, become ``__init__``'s keyword arguments, stored as given and nothing else
+    (scikit-learn's rule; ``get_params`` reads them back from the signature)."""
+    return dataclass(repr=False, eq=False)(cls)
+
+
 class SphereEstimator:
     """Base of the sphere models: scikit-learn's estimator contract, no scikit-learn needed.
 

@@ -47,21 +47,21 @@ References
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, fields
+from dataclasses import dataclass, fields
 from itertools import product
-from typing import NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 from scipy.optimize import linprog, minimize, nnls
 
 from solsphere.errors import FitError
-from solsphere.formatting import num
+from solsphere.formatting import num, warning_lines
 from solsphere.hansen import SCALE, as_points, ra
-from solsphere.models.base import (AXES, SURFACE, WORDS, SphereEstimator, as_weights,
+from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
+                                   as_weights, estimator,
                                    counted_classes, default_bounds, edge_warnings,
                                    few_results_warnings, model_inputs, search_box,
                                    unboundable_message)
-from solsphere.results import Result
 
 __all__ = ["SphereModel", "SphereFitResult", "SphereOptimum", "best_sphere", "best_radius",
            "desirability", "grid_search", "default_bounds", "separable_fit"]
@@ -457,7 +457,7 @@ def grid_search(points, good, weights=None, bounds=None, step=0.1, chunk=20000):
 
 
 @dataclass
-class SphereFitResult(Result):
+class SphereFitResult(FitResultBase):
     """Result of :meth:`SphereModel.fit` (flat attributes; units MPa½).
 
     ``n_good``, ``n_bad``, ``n_partial`` count the outcomes as tested; ``n_counted_good``
@@ -490,15 +490,8 @@ class SphereFitResult(Result):
     success: bool
     n_evaluations: int
 
-    rows_key = "table"
 
-    @property
-    def centre(self) -> np.ndarray:
-        return np.array([self.dD, self.dP, self.dH])
 
-    def to_dict(self) -> dict:
-        """JSON-safe plain types (the ``solsphere fit --json`` object)."""
-        return asdict(self)
 
     @classmethod
     def from_dict(cls, data: dict) -> "SphereFitResult":
@@ -534,10 +527,11 @@ class SphereFitResult(Result):
         on = [r["name"] for r in self.table if r.get("on_surface")]
         if on:
             out.append(f"    on the surface (RED 1.00, either outcome fits): {', '.join(on)}")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
+@estimator
 class SphereModel(SphereEstimator):
     """Hansen sphere estimator (scikit-learn style).
 
@@ -558,10 +552,9 @@ class SphereModel(SphereEstimator):
     ([18.0, 10.0, 7.0], 2.0, 1.0)
     """
 
-    def __init__(self, partial: str = "good", bounds=None, seed: int = 0):
-        self.partial = partial
-        self.bounds = bounds
-        self.seed = seed
+    partial: str = "good"
+    bounds: Any = None
+    seed: int = 0
 
     def fit(self, X, y=None, names=None, weights=None, *, warnings=None) -> "SphereModel":
         """Fit the sphere.

@@ -47,19 +47,20 @@ References
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from scipy.optimize import minimize
 from scipy.special import expit
 
 from solsphere.errors import FitError
-from solsphere.formatting import num
-from solsphere.models.base import (AXES, SURFACE, WORDS, SphereEstimator, counted_classes,
+from solsphere.formatting import num, warning_lines
+from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
+                                   counted_classes, estimator,
                                    edge_warnings, few_results_warnings, model_inputs,
                                    search_box, unboundable_message)
 from solsphere.models.classic import best_sphere, desirability
-from solsphere.results import Result
 from solsphere.hansen import SCALE, ra
 
 __all__ = ["GradedSphereModel", "GradedFitResult", "graded_nll", "fit_theta", "start_thetas",
@@ -190,7 +191,7 @@ def start_thetas(X, y, wts, ordinal, box, seed=0):
 
 
 @dataclass
-class GradedFitResult(Result):
+class GradedFitResult(FitResultBase):
     """Result of :meth:`GradedSphereModel.fit` (flat attributes; units MPa½).
 
     Keys shared with :class:`~solsphere.models.classic.SphereFitResult`: dD, dP, dH, R0, desirability
@@ -227,15 +228,8 @@ class GradedFitResult(Result):
     n_evaluations: int
     method: str = "graded"
 
-    rows_key = "table"
 
-    @property
-    def centre(self) -> np.ndarray:
-        return np.array([self.dD, self.dP, self.dH])
 
-    def to_dict(self) -> dict:
-        """JSON-safe plain types (``solsphere fit --method graded --json``)."""
-        return asdict(self)
 
     def __str__(self) -> str:
         f = num
@@ -266,10 +260,11 @@ class GradedFitResult(Result):
 
         out += [f"    {r['name']}: {WORDS[r['outcome']]} but {p_text(r)} (Ra {f(r['Ra'])}, "
                 f"RED {r['red']:.2f})" for r in rows] or ["    none"]
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
+@estimator
 class GradedSphereModel(SphereEstimator):
     """Graded (probabilistic) Hansen sphere estimator, scikit-learn style.
 
@@ -279,7 +274,7 @@ class GradedSphereModel(SphereEstimator):
         "ordinal": three classes (binary when no result is "partly"); otherwise partly
         results count as good, as bad, or are left out, and the model is binary.
     bounds : array-like of shape (3, 2), default=None
-        Box for the centre (default: the box spanned by the tested solvents, δ >= 0).
+        As for :class:`~solsphere.models.classic.SphereModel`.
     seed : int, default=0
         Seed of the classic fit used as the start.
     min_width, max_width : float, default=0.05, 20.0
@@ -291,16 +286,13 @@ class GradedSphereModel(SphereEstimator):
         ``min_width``).
     """
 
-    def __init__(self, partial: str = "ordinal", bounds=None, seed: int = 0,
-                 min_width: float = 0.05, max_width: float = 20.0, width_prior: float = 1.0,
-                 prior_strength: float = 1.0):
-        self.partial = partial
-        self.bounds = bounds
-        self.seed = seed
-        self.min_width = min_width
-        self.max_width = max_width
-        self.width_prior = width_prior
-        self.prior_strength = prior_strength
+    partial: str = "ordinal"
+    bounds: Any = None
+    seed: int = 0
+    min_width: float = 0.05
+    max_width: float = 20.0
+    width_prior: float = 1.0
+    prior_strength: float = 1.0
 
     def fit(self, X, y=None, names=None, weights=None, *, warnings=None) -> "GradedSphereModel":
         """Fit to a trials object or to arrays (X of shape (n, 3), labels ``y`` in any

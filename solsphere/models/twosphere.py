@@ -40,17 +40,17 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from solsphere.formatting import num
+from solsphere.formatting import num, warning_lines
 from solsphere.hansen import SCALE, as_points, ra
-from solsphere.models.base import (MIN_ADVISED, SURFACE, WORDS, SphereEstimator, binary_data,
-                                   counted_classes, default_bounds, edge_warnings,
-                                   model_inputs)
+from solsphere.models.base import (MIN_ADVISED, SURFACE, WORDS, FitResultBase,
+                                   SphereEstimator, binary_data, counted_classes,
+                                   default_bounds, edge_warnings, estimator, model_inputs)
 from solsphere.models.classic import best_sphere
-from solsphere.results import Result
 
 __all__ = ["TwoSphereModel", "TwoSphereFitResult", "fit_two_spheres", "union_loss"]
 
@@ -170,7 +170,7 @@ def _folds(g, k, rng):
 
 
 @dataclass
-class TwoSphereFitResult(Result):
+class TwoSphereFitResult(FitResultBase):
     """Result of :func:`fit_two_spheres` (units MPa½).
 
     ``spheres``: list of {"dD", "dP", "dH", "R0", "n_good"} (the goods it holds), the
@@ -203,10 +203,7 @@ class TwoSphereFitResult(Result):
     bounds: list
     method: str = "two-sphere"
 
-    rows_key = "table"
 
-    def to_dict(self) -> dict:
-        return asdict(self)
 
     def predict(self, points) -> np.ndarray:
         """True where a point lies inside any of the chosen spheres."""
@@ -238,7 +235,7 @@ class TwoSphereFitResult(Result):
         out += [f"    {r['name']}: {WORDS[r['outcome']]} but "
                 f"{'inside' if r['sphere'] is not None else 'outside'} (RED {r['red']:.2f})"
                 for r in rows] or ["    none"]
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
@@ -357,6 +354,7 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
                         warnings=notes, bounds=box.tolist())
 
 
+@estimator
 class TwoSphereModel(SphereEstimator):
     """One or two spheres (good if inside either), as an estimator: two only when they
     predict held-back results better (:func:`fit_two_spheres`).
@@ -377,14 +375,12 @@ class TwoSphereModel(SphereEstimator):
     centre_, R0_ : the first sphere's centre and radius
     """
 
-    def __init__(self, partial: str = "good", bounds=None, seed: int = 0, folds: int = 5,
-                 min_gain: int | None = None, force: int | None = None):
-        self.partial = partial
-        self.bounds = bounds
-        self.seed = seed
-        self.folds = folds
-        self.min_gain = min_gain
-        self.force = force
+    partial: str = "good"
+    bounds: Any = None
+    seed: int = 0
+    folds: int = 5
+    min_gain: int | None = None
+    force: int | None = None
 
     def fit(self, X, y=None, names=None) -> "TwoSphereModel":
         """Fit to a trials object or to arrays (labels in any bench-sheet word)."""

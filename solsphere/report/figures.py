@@ -1,7 +1,7 @@
 """Plotly figures: the 3D map of Hansen space and its three 2D projections, and the
 standalone share file.
 
-Look (our own, see CONVENTIONS.md): ColorBrewer Dark2 colours; dissolves = teal filled
+Look (our own, see DEVELOPERS.md, "Conventions"): ColorBrewer Dark2 colours; dissolves = teal filled
 circle, does not = burnt-orange x, partly = slate diamond, untried library solvents =
 small light-grey dots, blends = mustard line + open circle, drying paths = brown dotted
 line, the sphere = translucent grey surface with a thin mesh. The δD axis is drawn at

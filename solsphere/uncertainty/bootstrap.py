@@ -72,6 +72,7 @@ from typing import Callable
 import numpy as np
 
 from solsphere.errors import FitError
+from solsphere.formatting import warning_lines
 from solsphere.hansen import as_points, ra
 from solsphere.models.base import (AXES, EDGE, MIN_ADVISED, binary_data, graded_data,
                                    search_box)
@@ -224,6 +225,16 @@ class SampledSpheres(Result):
     @property
     def has_samples(self) -> bool:
         return self.centres is not None and self.radii is not None
+
+    def interval_lines(self, keys) -> list[str]:
+        """One report line per parameter: the point value, its interval and sd [MPa½]."""
+        full = dict(zip(("dD", "dP", "dH", "R0"), (*self.centre, self.R0)), width=self.width)
+        out = []
+        for k in keys:
+            lo, hi = self.intervals[k]
+            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
+                       f"(sd {self.sd[k]:.2f})")
+        return out
 
     def records(self) -> list[dict]:
         """One row per parameter: its interval ends and standard deviation [MPa½]."""
@@ -385,12 +396,8 @@ class Bootstrap(SampledSpheres):
                f", seed {self.seed}, {self.n_workers} process"
                f"{'es' if self.n_workers > 1 else ''}",
                f"[[Intervals]] ({pct}, percentile)"]
-        full = dict(zip(_INTERVAL_KEYS, (*self.centre, self.R0)), width=self.width)
-        for k in self.intervals:
-            lo, hi = self.intervals[k]
-            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
-                       f"(sd {self.sd[k]:.2f})")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += self.interval_lines(list(self.intervals))
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
@@ -577,7 +584,7 @@ class Influence(Result):
             mis = " (misfit)" if r["misfit"] else ""
             out.append(f"    {r['name']}{mis}: without it the centre moves {r['shift']:.2f} "
                        f"MPa½, R0 {r['dR0']:+.2f}{flip}")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 

@@ -109,6 +109,7 @@ import numpy as np
 from emcee.autocorr import integrated_time
 from scipy.special import expit
 
+from solsphere.formatting import warning_lines
 from solsphere.hansen import SCALE, as_points, ra
 from solsphere.models.base import AXES, MIN_ADVISED, binary_data
 from solsphere.models.classic import desirability
@@ -389,13 +390,8 @@ class Posterior(SampledSpheres):
                   f"{self.prior.get('min_width', MIN_WIDTH):g} to "
                   f"{self.prior.get('max_width', MAX_WIDTH):g} MPa½"),
                f"[[Intervals]] ({100 * self.level:g} %, credible, equal-tailed)"]
-        full = dict(zip(_KEYS, (*self.centre, self.R0, self.width)))
-        for k in _KEYS:
-            lo, hi = self.intervals[k]
-            nd = 2 if k == "width" else 1  # sharp widths need the second decimal
-            out.append(f"    {k:5s} = {full[k]:5.{nd}f} MPa½   [{lo:.{nd}f}, {hi:.{nd}f}]   "
-                       f"(sd {self.sd[k]:.2f})")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += self.interval_lines(_KEYS)
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
