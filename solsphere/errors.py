@@ -95,7 +95,8 @@ class UnknownSolventError(InputError):
     def __init__(self, name: str, suggestions: list[str] | tuple[str, ...] = (), **where):
         self.name = name
         self.suggestions = list(suggestions)[:3]
-        msg = f"unknown solvent {name!r}."
+        #: The message without the suggestions (a front end may offer them as buttons).
+        self.plain_message = msg = f"unknown solvent {name!r}."
         if self.suggestions:
             msg += " Did you mean " + ", ".join(repr(s) for s in self.suggestions) + "?"
         where.setdefault("hint", "use a library name, CAS number or abbreviation, "
