@@ -154,6 +154,9 @@ def build_parser() -> argparse.ArgumentParser:
                         "the second earns its keep")
     p.add_argument("--no-influence", action="store_true",
                    help="skip the leave-one-out list of results to re-check first")
+    p.add_argument("--compare", action="store_true",
+                   help="compare classic and graded fits and the 'partly' readings on "
+                        "held-back results and say which to trust (a few seconds)")
 
     p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
     _add_input(p)

@@ -11,11 +11,12 @@ import sys
 from pathlib import Path
 
 from solsphere.design.ranking import rank_solvents
-from solsphere.errors import InputError
+from solsphere.errors import FitError, InputError
 from solsphere.formatting import num, split_names
 from solsphere.io.files import atomic_write_text
 from solsphere.io.project import load_any, save
 from solsphere.library.table import load_library
+from solsphere.models.comparison import compare_models
 from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
 from solsphere.uncertainty.bootstrap import bootstrap, influence
@@ -79,8 +80,9 @@ def _bootstrap(args, project, fit, n: int):
 
 
 def _posterior(args, project, fit, n: int):
+    # the posterior's own prior (physically wide), not the classic fit's tested box
     return sample_posterior(project.trials, n_samples=n, seed=args.seed,
-                            partial=_binary_partial(fit), bounds=fit.bounds)
+                            partial=_binary_partial(fit))
 
 
 def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:
@@ -134,6 +136,15 @@ def cmd_fit(args) -> int:
         obj["influence"] = rows
         text += ("\n[[Re-check first]] (results whose removal moves the sphere most)\n"
                  + "\n".join(recheck_lines(rows)))
+    if args.compare:
+        try:
+            cmp = compare_models(project.trials)
+        except FitError as exc:  # too few results to hold any back: say so, keep the fit
+            obj["model_comparison"] = {"error": str(exc)}
+            text += f"\n[[Which model?]]\n    not compared: {exc}"
+        else:
+            obj["model_comparison"] = cmp.to_dict()
+            text += "\n" + str(cmp)
     if args.spheres == 2:
         two = fit_two_spheres(project.trials, partial=_binary_partial(fit), seed=args.seed)
         obj["two_spheres"] = two.to_dict()

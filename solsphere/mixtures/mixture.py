@@ -15,6 +15,7 @@ from typing import Sequence
 import numpy as np
 
 from solsphere.io.trials import parse_blend_spec
+from solsphere.library.table import load_library
 from solsphere.mixtures.activity import METHODS, ActivityModel
 from solsphere.mixtures.drying import DryingPath, drying_paths
 from solsphere.mixtures.flash import blend_flash_results
@@ -130,9 +131,9 @@ def analyse_mixture(components, volume_fractions: Sequence[float] | None = None,
 
     Parameters
     ----------
-    components : str or sequence of Solvent
+    components : str or sequence of Solvent or str
         A blend spec such as ``"ethanol 10 + water 90"`` (then ``volume_fractions`` is
-        None), or the solvents.
+        None), or the solvents (records, or names the library resolves).
     volume_fractions : sequence of float, optional
         With a list of solvents: their volume parts.
     library : Library, optional
@@ -158,8 +159,9 @@ def analyse_mixture(components, volume_fractions: Sequence[float] | None = None,
         pairs = parse_blend_spec(components, library)
         solvents = [s for s, _ in pairs]
         phi = np.array([f for _, f in pairs], dtype=float)
-    else:
-        solvents = list(components)
+    else:  # Solvent records, or names the library resolves
+        lib = library if library is not None else load_library()
+        solvents = [lib.lookup(s) if isinstance(s, str) else s for s in components]
         if volume_fractions is None:
             raise ValueError("volume_fractions are required with a list of solvents")
         phi = np.asarray(volume_fractions, dtype=float)
