@@ -19,8 +19,8 @@ $(STAMP): pyproject.toml
 run: $(STAMP)
 	@mkdir -p $(OUT)
 	$(VENV)/bin/solsphere fit $(DEMO) --save $(OUT)/demo-project.json
-	$(VENV)/bin/solsphere rank $(OUT)/demo-project.json --top 10 --pool common
-	$(VENV)/bin/solsphere blend $(OUT)/demo-project.json --top 10 --pool common
+	$(VENV)/bin/solsphere rank $(OUT)/demo-project.json --top 10
+	$(VENV)/bin/solsphere blend $(OUT)/demo-project.json --top 10
 	$(VENV)/bin/solsphere share $(OUT)/demo-project.json -o $(OUT)/demo-sphere.html
 	$(VENV)/bin/solsphere estimate 'CC1CCC(=O)O1' 'O=C1CC[C@H]2CO[C@@H]1O2'
 	@echo "Shareable map written to $(OUT)/demo-sphere.html"

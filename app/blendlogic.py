@@ -71,7 +71,7 @@ def pool_options(pool_choice: str, shelf, ticked, common_only: bool, exclude,
                 min_exposure_limit=number_field(min_exposure_limit, "min exposure limit"),
                 exclude_carcinogens=bool(no_carcinogens),
                 temperature=number_field(temperature, "temperature"),
-                pool="common" if common_only else "liquids")
+                pool="working" if common_only else "all")
     if pool_choice == "ticked":
         opts["ticked"] = list(ticked or [])
     return opts
@@ -94,15 +94,15 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
                    restricted: dict | None = None, components: int = 2,
                    max_fraction: str | None = None, min_fraction: str | None = None,
                    temperature=None, rank_by: str = "red", top: int = 15,
-                   common_only: bool = False) -> dict:
-    """Top blends of two or three solvents for the fitted sphere: the blend workflow
-    (``solsphere blend`` with its constraints, ``--drying`` always on) read from the form.
+                   common_only: bool = True) -> dict:
+    """Top blends of two or three solvents for the fitted sphere (``solsphere blend``
+    with its constraints, ``--drying`` always on).
 
     Parameters
     ----------
     pool_choice : {"library", "shelf", "ticked"}
-        All library liquids (or the curated common solvents with ``common_only``), the
-        uploaded shelf file (``shelf`` = {"filename", "contents"}), or the ticked library
+        The curated working solvents (every library liquid with ``common_only=False``),
+        the uploaded shelf file (``shelf`` = {"filename", "contents"}), or the ticked library
         solvents (``ticked`` = names).
     restricted : dict or None
         An uploaded list of restricted solvents ({"filename", "contents"}), left out.
@@ -223,7 +223,7 @@ def map_entry(b: dict) -> dict:
 def substitutes(result: dict | None, library, name: str | None, for_material: bool = False,
                 exclude: str | None = None, min_flash_point=None, max_boiling_point=None,
                 no_carcinogens: bool = False, top: int = 10, n_pairs: int = 5,
-                common_only: bool = False) -> dict:
+                common_only: bool = True) -> dict:
     """Solvents and pairs that can take the place of ``name``: the replacement workflow
     (``solsphere replace``) read from the form.
 

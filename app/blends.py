@@ -102,7 +102,7 @@ def panel(library):
                            options=[{"label": "all library liquids", "value": "library"},
                                     {"label": "my shelf (file)", "value": "shelf"},
                                     {"label": "solvents I tick", "value": "ticked"}]),
-            html.Span(id="blend-common-box", children=common_checkbox("blend", on=False)),
+            html.Span(id="blend-common-box", children=common_checkbox("blend", on=True)),
         ]),
         html.Div(id="shelf-box", className="pool-box", children=[
             dcc.Upload(id="shelf-upload", max_size=-1, accept=".csv,.tsv,.txt",

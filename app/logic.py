@@ -465,7 +465,7 @@ def fit_matches(saved: dict | None, fit: dict | None, tol: float = 1e-6) -> bool
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
               exclude: str | None = None, top: int = 30, bootstrap=None,
-              common_only: bool = False) -> dict:
+              common_only: bool = True) -> dict:
     """Untried solvents nearest the sphere, with their safety facts.
 
     ``bootstrap`` (a :class:`solsphere.confidence.Bootstrap` of the same results) adds

@@ -58,7 +58,7 @@ def common_checkbox(prefix: str, on: bool = False):
     common use instead of every library liquid (reagents included)."""
     return dcc.Checklist(id=f"{prefix}-common", value=["on"] if on else [], inline=True,
                          className="radio",
-                         options=[{"label": "common solvents only (no reagents)",
+                         options=[{"label": "working solvents only (no reagents)",
                                    "value": "on"}])
 
 
@@ -100,7 +100,7 @@ def panel():
                "is predicted inside the sphere). Click a row to put it on the map.",
                className="tip"),
         html.P(id="next-p-note", className="tip"),
-        filters("next", common=False),
+        filters("next", common=True),
         caution_line("next-caution"),
         html.Div(id="next-message", className="message"),
         table("shortlist", COLUMNS),

@@ -77,7 +77,12 @@ def load_training(path: Path = HERE / "solvents.csv"):
     rows = list(csv.DictReader(open(path, newline="", encoding="utf-8")))
     keep, mols, smiles = [], [], []
     for r in rows:
-        s = search_chemical(r["cas"]).smiles
+        if "hansen_rule=curated" in r["sources"]:
+            continue  # Hansen parameters from data/curated_solvents.csv (some from memory)
+        try:
+            s = search_chemical(r["cas"]).smiles
+        except ValueError:  # a mixture added by curated_solvents.csv (no structure)
+            continue
         m = parse_smiles(s or "")
         if m is None or "." in s or Chem.GetFormalCharge(m) != 0:
             continue

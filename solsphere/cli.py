@@ -21,8 +21,8 @@ from solsphere.errors import FitError, InputError, SolsphereError
 
 #: The choices of --pool and --rank-by (kept equal to solsphere.library.pools.POOLS and
 #: solsphere.workflows.RANK_CHOICES by a test; the parser must not import them, see main).
-POOLS = ("common", "liquids")
-RANK_CHOICES = ("red", "drying", "cost")
+POOLS = ("working", "all", "common", "liquids")
+RANK_CHOICES = ("hazard", "cost", "drying", "evaporation", "red")
 
 EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
           "flammable and toxic: read each safety data sheet and work with ventilation and "
@@ -104,15 +104,16 @@ def _add_bootstrap(p, what: str):
                    help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
-def _add_pool(p, pool: str = "liquids"):
+def _add_pool(p, pool: str = "working"):
     p.add_argument("--candidates", metavar="SHELF",
                    help="CSV of the solvents you have (column 'solvent', optional dD,dP,dH); "
                         "overrides --pool")
     p.add_argument("--pool", choices=POOLS, default=pool,
-                   help="candidates without a shelf: 'common' = our curated list of about "
-                        "150 solvents in common industrial and lab use (no reagents; "
-                        "data/common_solvents.csv); 'liquids' = every liquid in the library "
-                        f"(reagents included). Default: {pool}")
+                   help="candidates without a shelf: 'working' = our curated list of about "
+                        "170 solvents in use in industry and the lab (no reagents; "
+                        "data/working_solvents.csv); 'all' = every liquid in the library "
+                        "(reagents included). 'common' and 'liquids' are the older names. "
+                        f"Default: {pool}")
     p.add_argument("--top", type=_positive_int, default=20, help="how many to list (default 20)")
     p.add_argument("--exclude", action="append", default=[], metavar="NAMES",
                    help="leave these solvents out (comma-separated; repeatable)")
@@ -169,7 +170,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
     _add_input(p, optional=True)  # no file with --smiles
-    _add_pool(p, pool="common")  # a test campaign uses solvents on a shelf, not reagents
+    _add_pool(p)  # a test campaign uses solvents on a shelf, not reagents
     p.add_argument("--n", type=_positive_int, default=None,
                    help="how many to suggest (default 5; 16 with --smiles)")
     p.add_argument("--smiles", metavar="SMILES", default=None,
@@ -205,9 +206,14 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--drying", action="store_true",
                    help="simulate evaporation (activity coefficients, evaporative cooling) "
                         "and report when the drying liquid leaves the sphere")
-    p.add_argument("--rank-by", choices=RANK_CHOICES, default="red",
-                   help="order: RED (default); drying (with --drying: longest inside "
-                        "first); cost (inside blends, cheapest first; needs shelf prices)")
+    p.add_argument("--rank-by", choices=RANK_CHOICES, default="hazard",
+                   help="the priority after feasibility (inside, one phase) and robustness "
+                        "(window width): hazard (default; safer first), cost (needs shelf "
+                        "prices), drying (with --drying: stays inside longest), evaporation "
+                        "(faster first); 'red' = the plain RED order of earlier versions")
+    p.add_argument("--all-combinations", action="store_true",
+                   help="list the top blends even when a solvent repeats (by default no "
+                        "solvent is in more than two of them)")
 
     p = sub.add_parser("mixture", help="flash point, vapour pressure, phases and drying path "
                        "of one blend (activity coefficients)", epilog=EPILOG)
@@ -231,6 +237,10 @@ def build_parser() -> argparse.ArgumentParser:
                    help="with --for-material: how to count 'partly' results")
     p.add_argument("--pairs", type=_count, default=5, metavar="N", help="pairs to list (default 5)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.add_argument("--allow-worse", action="store_true",
+                   help="also offer candidates that are worse than the solvent replaced on "
+                        "carcinogen class, reprotoxic/regulatory listing or flammability, "
+                        "or that are listed themselves")
     _add_pool(p)
 
     p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
@@ -263,7 +273,7 @@ SETTING_OPTIONS = {
     "exclude": ("--exclude", None),
     "filters": (None, "relax --min-flash-point / --max-boiling-point / --min-boiling-point / "
                       "--min-exposure-limit / --exclude / --restricted, or add solvents to "
-                      "the shelf (or use --pool liquids)"),
+                      "the shelf (or use --pool all)"),
 }
 
 

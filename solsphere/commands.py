@@ -98,9 +98,26 @@ def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:
     return out
 
 
+def resolved_names(project) -> list[str]:
+    """"PM acetate → 1-methoxy-2-propyl acetate" for each library solvent typed otherwise
+    than the library's name."""
+    out = []
+    for t in project.trials:
+        if (t.source.startswith("library")
+                and " ".join(t.text.split()).casefold() != t.name.casefold()):
+            line = f"{t.text.strip()} → {t.name}"
+            if line not in out:
+                out.append(line)
+    return out
+
+
 def cmd_fit(args) -> int:
     project, fit, lib = load_session(args)
     obj, text = fit.to_dict(), str(fit)
+    resolved = resolved_names(project)
+    obj["resolved_names"] = resolved
+    if resolved:
+        text += "\nNames resolved: " + "; ".join(resolved)
     if args.bootstrap:
         boot = _bootstrap(args, project, fit, args.bootstrap)
         obj["intervals"] = boot.intervals
@@ -229,10 +246,17 @@ def cmd_estimate(args) -> int:
 
 
 def _pool_line(filters: dict) -> str:
-    """Which candidates were used, for the human output."""
-    other = {"common solvents": " (--pool liquids: every library liquid)",
-             "library liquids": " (--pool common: the curated common solvents)"}
-    return f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
+    """Which candidates were used (and what a limit left out for lack of data)."""
+    other = {"working solvents": " (--pool all: every library liquid, reagents included)",
+             "library liquids": ": reagents, monomers and intermediates are included "
+                                "(--pool working: the curated working solvents)"}
+    line = f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
+    for what, names in (filters.get("left_out_for_lack_of_data") or {}).items():
+        why = ("with no flash point to compare (not flammable by the data)"
+               if what == "not_flammable" else f"for lack of {what.replace('_', ' ')} data")
+        line += (f"\nLeft out {why} ({len(names)}): "
+                 + ", ".join(names[:15]) + (" …" if len(names) > 15 else ""))
+    return line
 
 
 def _temperature(args) -> float:
@@ -246,8 +270,9 @@ def cmd_blend(args) -> int:
     design = design_blends(fit, lib, components=args.components, top=args.top,
                            rank_by=args.rank_by, drying=args.drying,
                            max_fraction=args.max_fraction, min_fraction=args.min_fraction,
-                           with_single=args.with_single, **pool_options(args))
-    _emit(args, design.to_dict(), str(design))
+                           with_single=args.with_single,
+                           diverse=not args.all_combinations, **pool_options(args))
+    _emit(args, design.to_dict(), str(design) + "\n" + _pool_line(design.screen.filters))
     return 0
 
 
@@ -277,8 +302,11 @@ def cmd_replace(args) -> int:
         fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
                           library=lib)
     result = find_replacements(lib, args.name, fit=fit, top=args.top, n_pairs=args.pairs,
-                               **pool_options(args))
-    _emit(args, result.to_dict(), str(result))
+                               allow_worse=args.allow_worse, **pool_options(args))
+    text = str(result) + "\n" + _pool_line(result.filters)
+    if args.name.strip().casefold() != result.target.name.casefold():
+        text = f"Replacing {lib.resolved(args.name)}\n" + text
+    _emit(args, dict(result.to_dict(), resolved=lib.resolved(args.name)), text)
     return 0
 
 

@@ -110,3 +110,16 @@ class FitError(SolsphereError):
 
 class NotFittedError(SolsphereError, AttributeError):
     """A model was used before ``fit``."""
+
+
+class AmbiguousNameError(UnknownSolventError):
+    """An abbreviation with several common readings (e.g. DBE); never guessed."""
+
+    def __init__(self, name: str, readings: list[str] | tuple[str, ...] = (), **where):
+        self.readings = list(readings)
+        where.setdefault("hint", "type the full name of the one you mean: "
+                                 + "; ".join(self.readings))
+        super().__init__(name, (), **where)
+        self.message = (f"{name!r} is ambiguous: it is used for "
+                        + " and for ".join(self.readings) + ".")
+        self.args = (str(self),)

@@ -25,14 +25,16 @@ from typing import Any, Iterable
 import numpy as np
 
 from solsphere import hansen as hsp
+from solsphere.design.ordering import MAX_USES, ORDER_TEXT, blend_rows, order_blends
 from solsphere.design.pairs import screen_blends
+from solsphere.design.recommend import rank_pair_blends
 from solsphere.design.ranking import CAUTION
 from solsphere.design.substitution import Substitution, find_substitutes
 from solsphere.design.triples import screen_triples, triple_shortlist
 from solsphere.errors import InputError
 from solsphere.formatting import blend_label, split_names
 from solsphere.io.shelf import read_shelf
-from solsphere.library.pools import POOLS, apply_filters
+from solsphere.library.pools import apply_filters, pool_name
 from solsphere.library.table import Library
 from solsphere.mixtures.activity import ActivityModel
 from solsphere.mixtures.drying import drying_paths
@@ -49,7 +51,7 @@ __all__ = ["fit_project", "candidate_pool", "at_temperature", "parse_fraction_li
            "find_replacements", "RANK_CHOICES", "RERANK_POOL", "CAUTION"]
 
 #: Orders a blend list can take.
-RANK_CHOICES = ("red", "drying", "cost")
+RANK_CHOICES = ("hazard", "cost", "drying", "evaporation", "red")
 #: With ranking by cost or drying, the blends nearest the centre that are looked at (the
 #: inside ones among them are re-ranked): bounded work whatever the pool.
 RERANK_POOL = 500
@@ -98,7 +100,7 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
 def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_point=None,
                    max_boiling_point=None, exclude_carcinogens: bool = False,
                    min_boiling_point=None, min_exposure_limit=None, restricted: str | None = None,
-                   liquid_only: bool | None = None, pool: str = "liquids",
+                   liquid_only: bool | None = None, pool: str = "working",
                    ticked: Iterable[str] | None = None, temperature: float | None = None,
                    limits: bool = True):
     """The solvents to rank, blend or test: the one pool rule of every front end.
@@ -124,9 +126,10 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     liquid_only : bool or None
         Keep only liquids at 25 °C; None means yes for the library, no for a shelf or
         ticked solvents.
-    pool : {"liquids", "common"}, default="liquids"
-        Without a shelf or ticked solvents: every library liquid, or only the curated
-        common solvents (:meth:`Library.common`; reagents left out).
+    pool : {"working", "all"}, default="working"
+        Without a shelf or ticked solvents: the curated working solvents
+        (:meth:`Library.working`; reagents left out), or every library liquid (reagents
+        included). The older names "common" and "liquids" are accepted.
     ticked : iterable of str or None
         Library solvents picked by name (at least two); overrides ``pool``.
     temperature : float or None
@@ -148,16 +151,15 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         Nothing left after the filters (``setting="filters"``), fewer than two ticked
         solvents (``setting="ticked"``), or an unknown name (``setting="exclude"``).
     """
-    if pool not in POOLS:
-        raise ValueError(f"pool must be one of {', '.join(map(repr, POOLS))}; found {pool!r}")
+    pool = pool_name(pool)  # ValueError for an unknown name
     ticked = list(ticked) if ticked is not None else None
-    common = pool == "common" and not shelf and ticked is None
+    common = pool == "working" and not shelf and ticked is None
     if shelf:
         label = shelf
     elif ticked is not None:
         label = f"{len(ticked)} ticked solvents"
     else:
-        label = "common solvents" if common else "library liquids"
+        label = "working solvents" if common else "library liquids"
     filters = {"pool": label, "exclude": list(exclude),
                "min_flash_point": min_flash_point, "max_boiling_point": max_boiling_point,
                "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
@@ -170,7 +172,7 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
             raise InputError("at least two ticked solvents are needed to combine.",
                              setting="ticked")
     else:
-        base = library.common() if common else library
+        base = library.working() if common else library
     if liquid_only is None:
         liquid_only = not shelf and ticked is None
     # a shelf's own solvents by their shelf names; everything else through the full
@@ -186,8 +188,22 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         filters["restricted_names"] = sorted(banned)
         names |= banned
     kept = base.select(liquid_only=liquid_only, exclude_carcinogens=exclude_carcinogens).records
-    from_filter = apply_pool_filters(kept, names, min_flash_point, max_boiling_point,
-                                     min_boiling_point, min_exposure_limit)
+    checked = apply_filters(kept, exclude_names=names, min_flash_point=min_flash_point,
+                            max_boiling_point=max_boiling_point,
+                            min_boiling_point=min_boiling_point,
+                            min_exposure_limit=min_exposure_limit)
+    from_filter = checked.kept
+    # never a silent drop: what a limit left out for lack of data is listed
+    no_fp = checked.removed.get("removed_unknown_flash_point", [])
+    by_name = {s.name: s for s in kept}
+    not_flammable = [n for n in no_fp if str(by_name[n].sources.get("flash_point", "")
+                                               ).startswith("none")]
+    no_data = {"flash_point": [n for n in no_fp if n not in not_flammable],
+               "not_flammable": not_flammable,
+               "boiling_point": (checked.removed.get("removed_unknown_boiling_point", [])
+                                 + checked.removed.get("removed_unknown_boiling_point_min", []))}
+    if any(no_data.values()):
+        filters["left_out_for_lack_of_data"] = {k: v for k, v in no_data.items() if v}
     if not from_filter:
         raise InputError("no candidate solvent is left after the filters "
                          f"({describe_filters(filters)}).", file=shelf, setting="filters")
@@ -211,7 +227,8 @@ def apply_pool_filters(solvents, names, min_flash_point, max_boiling_point, min_
 
 def describe_filters(filters: dict) -> str:
     """The active filters as ``key=value`` text, or "none"."""
-    parts = [f"{k}={v}" for k, v in filters.items() if v not in (None, False, [], ())]
+    parts = [f"{k}={v}" for k, v in filters.items()
+             if v not in (None, False, [], ()) and k != "left_out_for_lack_of_data"]
     return ", ".join(parts) or "none"
 
 
@@ -321,6 +338,7 @@ class BlendDesign(Result):
     rank_by: str = "red"
     drying: bool = False
     n_pool: int = 0
+    ordered: Any = None     # RankedBlends (pairs in the documented order), when used
 
     rows_key = "blends"
 
@@ -330,19 +348,21 @@ class BlendDesign(Result):
         return int(getattr(s, "n_triples_screened", None) or getattr(s, "n_pairs_screened", 0))
 
     def to_dict(self) -> dict:
-        return dict(self.screen.to_dict(), blends=self.blends, notes=list(self.notes),
-                    rank_by=self.rank_by)
+        base = self.ordered.to_dict() if self.ordered is not None else self.screen.to_dict()
+        return dict(base, blends=self.blends, notes=list(self.notes), rank_by=self.rank_by)
 
     def __str__(self) -> str:
-        text = str(self.screen) + blend_notes(self.blends, self.drying)
+        head = str(self.ordered) if self.ordered is not None else str(self.screen)
+        text = head + blend_notes(self.blends, self.drying)
         if self.notes:
             text += "\n\nNotes:\n" + "\n".join(f"  - {n}" for n in self.notes)
         return text
 
 
-def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: str = "red",
-                  drying: bool = False, max_fraction=None, min_fraction=None,
-                  with_single: bool = False, **pool_options) -> BlendDesign:
+def design_blends(fit, library, *, components: int = 2, top: int = 20,
+                  rank_by: str = "hazard", drying: bool = False, max_fraction=None,
+                  min_fraction=None, with_single: bool = False, diverse: bool = True,
+                  **pool_options) -> BlendDesign:
     """The one blend workflow: pool, screen (pairs or triples), safety and drying, order.
 
     Parameters
@@ -352,10 +372,15 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: 
     library : Library
     components : {2, 3}, default=2
     top : int, default=20
-    rank_by : {"red", "drying", "cost"}, default="red"
-        "drying" needs ``drying``; "cost" needs prices (a shelf with a price column).
-        Ranking by drying or cost looks at the :data:`RERANK_POOL` blends nearest the
-        centre and orders the inside ones among them.
+    rank_by : {"hazard", "cost", "drying", "evaporation", "red"}, default="hazard"
+        The user's priority in the documented order of :mod:`solsphere.design.ordering`
+        (feasible → robust → priority → RED): pairs are all ordered on arrays
+        (:func:`solsphere.design.recommend.rank_pair_blends`; "drying" simulates the 50
+        first and orders them); triples order the :data:`RERANK_POOL` nearest the centre.
+        "red" is the plain RED order. "drying" needs ``drying``; "cost" needs prices (a
+        shelf with a price column).
+    diverse : bool, default=True
+        No solvent in more than two of the listed blends (except with "red").
     drying : bool, default=False
         Simulate each blend's drying path (vapour pressures at the pool's temperature).
     max_fraction, min_fraction : list of str, str or dict, default=None
@@ -410,29 +435,89 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: 
     else:
         if split_names(max_fraction) or split_names(min_fraction):
             notes.append("share limits apply to three-solvent blends only; not used for pairs")
+        if rank_by != "red":
+            return _ordered_pairs(pool, filters, centre, R0, top, rank_by, drying, diverse,
+                                  with_single, notes, pool_options)
         screen = screen_blends(pool, centre, R0, **limits)
     screen.filters.update(filters)
-    if rank_by != "red":  # order the inside blends among those looked at
-        inside = [b for b in screen.blends if b.red <= 1.0]
-        screen.blends = inside or screen.blends
+    ordered = rank_by != "red"
     blends = add_safety_and_drying(screen, pool, centre, R0, drying=drying,
                                    temperature_C=pool_options.get("temperature") or 25.0,
-                                   rank_by=rank_by, top=top)
-    low = limits["min_flash_point"]
-    if low is not None:  # every component passes; the blend itself may still flash lower
-        below = []
-        for b in blends:
-            est = (b.get("flash_point_estimate") or {}).get("estimate")
-            b["below_min_flash_point"] = est is not None and est < low
-            if b["below_min_flash_point"]:
-                below.append(blend_label(b["solvents"], b["volume_fractions"]))
-        if below:
-            notes.append(f"estimated to flash below the {low:g} °C limit although every "
-                         f"component passes it (non-ideal mixture): " + "; ".join(below))
+                                   rank_by="red" if ordered else rank_by,
+                                   top=None if ordered else top)
+    if ordered:  # the documented order among the triples looked at, diverse
+        by_name = {s.name: s for s in pool}
+        keep = order_blends(blends, by_name, rank_by, top, MAX_USES if diverse else None)
+        blends = [blends[k] for k in keep]
+        screen.blends = [screen.blends[k] for k in keep]
+        for d, c in zip(blends, blend_rows(blends, by_name, rank_by)):
+            d["criteria"] = c
+        notes.append(ORDER_TEXT.format(priority=rank_by))
+    _flag_below_min_flash_point(blends, limits["min_flash_point"], notes)
     return BlendDesign(screen=screen, blends=blends, notes=notes, components=int(components),
                        rank_by=rank_by, drying=drying,
                        n_pool=len(apply_pool_filters(pool, (), limits["min_flash_point"],
                                                      limits["max_boiling_point"], None, None)))
+
+
+def _flag_below_min_flash_point(blends: list, low, notes: list) -> None:
+    """Every component passes a minimum flash point; the blend itself may still flash
+    lower (non-ideal mixture): mark those blends and say so in the notes."""
+    if low is None:
+        return
+    below = []
+    for b in blends:
+        est = (b.get("flash_point_estimate") or {}).get("estimate")
+        b["below_min_flash_point"] = est is not None and est < low
+        if b["below_min_flash_point"]:
+            below.append(blend_label(b["solvents"], b["volume_fractions"]))
+    if below:
+        notes.append(f"estimated to flash below the {low:g} °C limit although every "
+                     f"component passes it (non-ideal mixture): " + "; ".join(below))
+
+
+def _ordered_pairs(pool, filters, centre, R0, top, rank_by, drying, diverse, with_single,
+                   notes, pool_options) -> BlendDesign:
+    """Pairs in the documented order (:func:`solsphere.design.recommend.rank_pair_blends`),
+    with the pool's flash and boiling limits applied and recorded (never a silent drop)."""
+    fp, bp = pool_options.get("min_flash_point"), pool_options.get("max_boiling_point")
+    checked = apply_filters(pool, min_flash_point=fp, max_boiling_point=bp)
+    filters = dict(filters, min_flash_point=fp, max_boiling_point=bp,
+                   removed_low_flash_point=checked.removed.get("removed_low_flash_point", []),
+                   removed_unknown_flash_point=checked.removed.get(
+                       "removed_unknown_flash_point", []),
+                   removed_high_boiling_point=checked.removed.get(
+                       "removed_high_boiling_point", []),
+                   removed_unknown_boiling_point=checked.removed.get(
+                       "removed_unknown_boiling_point", []))
+    usable = checked.kept
+    T = pool_options.get("temperature") or 25.0
+    by_drying = rank_by == "drying"
+    ranked = rank_pair_blends(usable, centre, R0, top=max(50, top) if by_drying else top,
+                              priority=rank_by, diverse_top=diverse and not by_drying,
+                              only_blends=not with_single, filters=filters, temperature_C=T)
+    blends = add_safety_and_drying(ranked.screen, usable, centre, R0, drying=drying,
+                                   temperature_C=T, rank_by="red")
+    # re-order the listed blends with the phase test of add_safety_and_drying (the
+    # screen's own one-phase test is the quicker Flory–Huggins estimate) and, for
+    # "drying", the simulated paths
+    by_name = {s.name: s for s in usable}
+    keep = order_blends(blends, by_name, rank_by, top, MAX_USES if diverse else None)
+    blends = [blends[k] for k in keep]
+    ranked.screen.blends = [ranked.screen.blends[k] for k in keep]
+    old_crit = [ranked.criteria[k] for k in keep]
+    ranked.criteria = blend_rows(blends, by_name, rank_by)
+    for c, o in zip(ranked.criteria, old_crit):
+        c.update(robustness_step=o["robustness_step"], ghs_categories=o["ghs_categories"],
+                 notes=o["notes"], priority_value=(c.get("drying_inside_until")
+                                                   if rank_by == "drying" else
+                                                   o["priority_value"]))
+    ranked.diverse = diverse
+    for d, c in zip(blends, ranked.criteria):
+        d["criteria"] = c
+    _flag_below_min_flash_point(blends, fp, notes)
+    return BlendDesign(screen=ranked.screen, blends=blends, notes=notes, components=2,
+                       rank_by=rank_by, drying=drying, n_pool=len(usable), ordered=ranked)
 
 
 def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
@@ -570,7 +655,7 @@ def blend_notes(blends: list[dict], drying: bool) -> str:
 
 # ----------------------------------------------------------------------------- replace
 def find_replacements(library, name: str, *, fit=None, top: int = 10, n_pairs: int = 5,
-                      **pool_options) -> Substitution:
+                      allow_worse: bool = False, **pool_options) -> Substitution:
     """Solvents and pairs that can take the place of ``name``, from the pool.
 
     Parameters
@@ -581,6 +666,9 @@ def find_replacements(library, name: str, *, fit=None, top: int = 10, n_pairs: i
     fit : result or dict or None
         A fitted sphere: rank by behaviour towards that material.
     top, n_pairs : int
+    allow_worse : bool, default=False
+        Also offer candidates worse than the old solvent on a hazard, or listed
+        (:func:`solsphere.library.hazards.never_worse`).
     **pool_options
         Passed to :func:`candidate_pool`.
     """
@@ -591,7 +679,7 @@ def find_replacements(library, name: str, *, fit=None, top: int = 10, n_pairs: i
         get = fit.get if isinstance(fit, dict) else lambda k: getattr(fit, k)
         material = ((get("dD"), get("dP"), get("dH")), get("R0"))
     result = find_substitutes(target, pool, top=int(top), n_pairs=max(int(n_pairs), 0),
-                              material=material)
+                              material=material, allow_worse=allow_worse)
     result.filters = filters
     return result
 

@@ -545,6 +545,6 @@ def test_help_under_importtime_loads_no_heavy_modules():
 
 def test_parser_choices_match_the_library():
     # the parser keeps its own copy of the choices so that --help imports no science
-    from solsphere.library.pools import POOLS
+    from solsphere.library.pools import POOL_CHOICES
     from solsphere.workflows import RANK_CHOICES
-    assert cli.POOLS == POOLS and cli.RANK_CHOICES == RANK_CHOICES
+    assert cli.POOLS == POOL_CHOICES and cli.RANK_CHOICES == RANK_CHOICES

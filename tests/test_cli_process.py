@@ -27,8 +27,16 @@ def test_three_component_blends_respect_fraction_limit(capsys):
         for n, f in zip(b["solvents"], b["volume_fractions"]):
             if n == "toluene":
                 assert f <= 0.2 + 1e-9
-    reds = [b["red"] for b in blends]
-    assert reds == sorted(reds)
+    # the default order: feasible (inside, one phase) first, then robustness (margin
+    # 1 - RED in steps of 0.1), hazard, RED
+    from solsphere.design.ordering import robustness_bin
+    keys = [(b["red"] > 1.0, not b["criteria"]["one_phase"],
+             -robustness_bin(b["criteria"]["robustness"])) for b in blends]
+    assert keys == sorted(keys)
+    code, out, _ = run(capsys, "blend", DEMO, "--components", "3", "--top", "5",
+                       "--max-fraction", "toluene=0.2", "--json", "--rank-by", "red")
+    reds = [b["red"] for b in json.loads(out)["blends"]]
+    assert reds == sorted(reds)  # the plain RED order on request
 
 
 def test_fraction_limit_on_pairs_is_a_note_as_in_the_app(capsys):

@@ -95,7 +95,7 @@ def test_fit_and_rank_with_posterior_samples(capsys):
 def test_next_reports_its_engine(capsys):
     d = run_json(capsys, "next", DEMO, "--n", "2", "--samples", "300")
     assert d["uncertainty"] == "posterior" and d["n_samples"] == 300
-    assert d["filters"]["pool"] == "common solvents"
+    assert d["filters"]["pool"] == "working solvents"
     e = run_json(capsys, "next", DEMO, "--n", "2", "--bootstrap", "40")
     assert e["uncertainty"] == "bootstrap" and e["n_samples"] == 40
 

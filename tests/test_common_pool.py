@@ -52,7 +52,7 @@ def run_json(argv) -> dict:
 # ----------------------------------------------------------------------------- the list
 
 def test_every_row_is_a_library_liquid_with_a_unique_cas(lib, entries):
-    assert 120 <= len(entries) <= 180
+    assert 150 <= len(entries) <= 200
     cas = [e.cas for e in entries]
     assert len(set(cas)) == len(cas)
     for e in entries:
@@ -98,8 +98,8 @@ def test_well_known_solvents_are_on_it(lib):
 
 def test_row_count_is_pinned(entries):
     # checksum: a silent edit of the list shows here (update with the list on purpose)
-    assert len(entries) == 153
-    assert sum(e.family == "ester" for e in entries) == 30
+    assert len(entries) == 169
+    assert sum(e.family == "ester" for e in entries) == 33
 
 
 @pytest.mark.parametrize("text, words", [
@@ -137,16 +137,18 @@ def test_packaged_common_subset_matches_the_list(lib, entries):
 
 def test_candidate_pool_common_and_its_record(lib):
     keep = common_cas()
-    pool, f = candidate_pool(lib, pool="common", min_flash_point=40)
-    assert f["pool"] == "common solvents"
+    pool, f = candidate_pool(lib, pool="common", min_flash_point=40)  # the older name
+    assert f["pool"] == "working solvents"
     assert pool and all(s.cas in keep for s in pool)
     assert all(s.flash_point is not None and s.flash_point >= 40 for s in pool)
-    liquids, g = candidate_pool(lib, min_flash_point=40)
+    assert candidate_pool(lib, min_flash_point=40)[0] == pool  # working is the default
+    liquids, g = candidate_pool(lib, min_flash_point=40, pool="all")
     assert g["pool"] == "library liquids" and len(liquids) > len(pool)
+    assert candidate_pool(lib, min_flash_point=40, pool="liquids")[0] == liquids
     assert any(s.cas not in keep for s in liquids)
-    with pytest.raises(ValueError, match="'common', 'liquids'"):
-        candidate_pool(lib, pool="all")
-    assert POOLS == ("common", "liquids")
+    with pytest.raises(ValueError, match="'working', 'all'"):
+        candidate_pool(lib, pool="everything")
+    assert POOLS == ("working", "all")
 
 
 def test_a_shelf_overrides_the_pool(lib, tmp_path):
@@ -159,13 +161,13 @@ def test_a_shelf_overrides_the_pool(lib, tmp_path):
 
 # ----------------------------------------------------------------------------- command line
 
-def test_rank_default_is_every_liquid_and_pool_common_restricts(lib):
+def test_rank_default_is_the_working_pool_and_pool_all_widens(lib):
     keep = common_cas()
-    base = run_json(["rank", DEMO, "--top", "200"])
+    base = run_json(["rank", DEMO, "--top", "200", "--pool", "all"])
     assert base["filters"]["pool"] == "library liquids"
     assert any(s["cas"] not in keep for s in base["solvents"])
-    com = run_json(["rank", DEMO, "--top", "200", "--pool", "common"])
-    assert com["filters"]["pool"] == "common solvents"
+    com = run_json(["rank", DEMO, "--top", "200"])
+    assert com["filters"]["pool"] == "working solvents"
     assert com["solvents"] and all(s["cas"] in keep for s in com["solvents"])
     assert com["n_candidates"] < base["n_candidates"]
 
@@ -173,7 +175,7 @@ def test_rank_default_is_every_liquid_and_pool_common_restricts(lib):
 def test_next_defaults_to_common_solvents(lib):
     keep = common_cas()
     d = run_json(["next", DEMO, "--n", "3", "--samples", "200", "--min-flash-point", "40"])
-    assert d["filters"]["pool"] == "common solvents"
+    assert d["filters"]["pool"] == "working solvents"
     names = [s["name"] for s in d["suggestions"]]
     assert len(names) == 3 and all(lib.lookup(n).cas in keep for n in names)
     assert not {"1-methylnaphthalene", "phenylhydrazine", "benzoyl chloride"} & set(names)
@@ -196,27 +198,29 @@ def test_next_candidates_shelf_overrides_the_default_pool(lib, tmp_path):
 def test_blend_and_replace_take_the_pool_option(lib):
     keep = common_cas()
     b = run_json(["blend", DEMO, "--top", "5", "--pool", "common"])
-    assert b["filters"]["pool"] == "common solvents"
+    assert b["filters"]["pool"] == "working solvents"
     assert b["blends"] and all(lib.lookup(n).cas in keep for x in b["blends"]
                                for n in x["solvents"])
     r = run_json(["replace", "toluene", "--pool", "common", "--top", "5"])
-    assert r["filters"]["pool"] == "common solvents"
+    assert r["filters"]["pool"] == "working solvents"
     assert r["singles"] and all(lib.lookup(s["name"]).cas in keep for s in r["singles"])
-    assert run_json(["replace", "toluene", "--top", "5"])["filters"]["pool"] == "library liquids"
+    assert run_json(["replace", "toluene", "--top", "5", "--pool", "all"]
+                    )["filters"]["pool"] == "library liquids"
 
 
 def test_human_output_says_which_pool(capsys):
     assert cli.main(["next", str(DEMO), "--n", "1", "--samples", "200"]) == 0
-    assert "Candidates: common solvents" in capsys.readouterr().out
-    assert cli.main(["rank", str(DEMO), "--top", "1"]) == 0
-    assert "Candidates: library liquids" in capsys.readouterr().out
+    assert "Candidates: working solvents" in capsys.readouterr().out
+    assert cli.main(["rank", str(DEMO), "--top", "1", "--pool", "all"]) == 0
+    out = capsys.readouterr().out
+    assert "Candidates: library liquids: reagents, monomers and intermediates are included" in out
 
 
 def test_pool_help_text_names_both_choices(capsys):
     with pytest.raises(SystemExit):
         cli.main(["next", "--help"])
     text = " ".join(capsys.readouterr().out.split())
-    assert "--pool {common,liquids}" in text and "Default: common" in text
+    assert "--pool {working,all,common,liquids}" in text and "Default: working" in text
     assert "overrides --pool" in text
 
 
@@ -245,8 +249,8 @@ def _find(component, cid):
 def test_checkbox_defaults_per_screen(lib):
     from solsphere.app import blends, nexttrials, replace, trynext
     assert _find(nexttrials.panel(), "nt-common").value == ["on"]
-    assert _find(trynext.panel(), "next-common").value == []
-    assert _find(blends.panel(lib), "blend-common").value == []
+    assert _find(trynext.panel(), "next-common").value == ["on"]
+    assert _find(blends.panel(lib), "blend-common").value == ["on"]
     # only where it is wired: not on the Replace screen, nor by default
     assert _find(replace.panel(), "replace-common") is None
     assert _find(trynext.filters("x"), "x-common") is None
@@ -255,20 +259,20 @@ def test_checkbox_defaults_per_screen(lib):
 def test_shortlist_honours_the_checkbox(demo_result, lib):
     from solsphere.app import logic
     keep = common_cas()
-    on = logic.shortlist(demo_result, lib, top=200, common_only=True)
-    off = logic.shortlist(demo_result, lib, top=200)
+    on = logic.shortlist(demo_result, lib, top=200)
+    off = logic.shortlist(demo_result, lib, top=200, common_only=False)
     assert on["rows"] and all(r["cas"] in keep for r in on["rows"])
-    assert "common solvents" in on["message"]
+    assert "working solvents" in on["message"]
     assert any(r["cas"] not in keep for r in off["rows"])
 
 
 def test_blend_designer_honours_the_checkbox(demo_result, lib):
     from solsphere.app import blendlogic
     keep = common_cas()
-    on = blendlogic.blend_designer(demo_result, lib, top=10, common_only=True)
-    assert on["blends"] and "common solvents" in on["message"]
+    on = blendlogic.blend_designer(demo_result, lib, top=10)
+    assert on["blends"] and "working solvents" in on["message"]
     assert all(lib.lookup(n).cas in keep for b in on["blends"] for n in b["solvents"])
-    off = blendlogic.blend_designer(demo_result, lib, top=10)
+    off = blendlogic.blend_designer(demo_result, lib, top=10, common_only=False)
     assert "library liquids" in off["message"]
     # ticked solvents are the user's choice: the checkbox does not remove them
     t = blendlogic.blend_designer(demo_result, lib, pool_choice="ticked", common_only=True,

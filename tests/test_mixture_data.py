@@ -22,22 +22,28 @@ def test_checksum_of_mixture_table():
     update these numbers on purpose, with the reason in the commit message)."""
     with open(DATA, newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
-    assert len(rows) == 1225
-    assert sum(1 for r in rows if r["dortmund"] or r["unifac"]) == 989
-    assert sum(1 for r in rows if "structure" in r["groups_source"]) == 111
-    assert sum(1 for r in rows if r["vp_A"]) == 1132
-    assert sum(Decimal(r["vp_B"]) for r in rows if r["vp_B"]) == Decimal("-10208107.503799514")
+    assert len(rows) == 1235  # 10 curated additions (data/curated_solvents.csv)
+    assert sum(1 for r in rows if r["dortmund"] or r["unifac"]) == 993
+    assert sum(1 for r in rows if "structure" in r["groups_source"]) == 113
+    assert sum(1 for r in rows if r["vp_A"]) == 1136
+    assert sum(Decimal(r["vp_B"]) for r in rows if r["vp_B"]) == Decimal("-10244219.083786554")
 
 
 def test_every_library_compound_has_a_row_and_the_common_pool_is_covered():
     data = load_mixture_data()
     lib = load_library()
     assert {s.cas for s in lib} == set(data)
-    common = list(lib.common())
+    # the working pool's generic mixtures (xylene, mineral spirits, naphthas, isoparaffin,
+    # dibasic esters, methyl soyate) have no single structure, hence no UNIFAC groups
+    mixtures = {"1330-20-7", "64742-47-8", "64742-95-6", "64742-94-5", "64742-48-9",
+                "95481-62-2", "67762-38-3"}
+    common = [s for s in lib.common() if s.cas not in mixtures]
     no_groups = [s.name for s in common if not (data[s.cas].dortmund or data[s.cas].unifac)]
     no_vp = [s.name for s in common if data[s.cas].vp_coefficients is None]
     assert no_groups == []
-    assert len(no_vp) <= 1, no_vp
+    # the coalescent ester and Cyrene (a curated addition) have no correlation nor critical
+    # data: the library holds only a curated 25 °C value for them
+    assert len(no_vp) <= 2, no_vp
 
 
 @pytest.mark.slow

@@ -80,7 +80,7 @@ def test_fit_project_without_bad_results_raises_fit_error(tmp_path, lib):
 # ------------------------------------------------------------------------ candidate pool
 
 def test_library_pool_is_liquids(lib):
-    pool, filters = session.candidate_pool(lib)
+    pool, filters = session.candidate_pool(lib, pool="all")
     assert pool and all(s.liquid is True for s in pool)
     assert len(pool) < len(lib)  # some compounds are not liquid at 25 °C
     assert filters["pool"] == "library liquids" and filters["exclude"] == []

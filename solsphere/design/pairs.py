@@ -759,7 +759,10 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
 
 
 def make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi: float,
-                red_a: float, red_b: float, single: bool, R0: float) -> Blend:
+               red_a: float, red_b: float, single: bool, R0: float) -> Blend:
+    """The :class:`Blend` of ``sa`` (volume fraction ``phi``) and ``sb`` from one row of
+    :func:`pair_screen` (``red``, window ``lo``-``hi`` of ``phi``, NaN without one; the
+    components' own RED ``red_a``, ``red_b``)."""
     window = None if np.isnan(lo) else [lo, hi]
     if phi < 0.5:  # list the larger part first; the window follows the first solvent
         sa, sb, red_a, red_b, phi = sb, sa, red_b, red_a, 1.0 - phi

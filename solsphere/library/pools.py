@@ -1,19 +1,23 @@
-"""The curated pool of common solvents (``solsphere/data/common_solvents.csv``).
+"""The curated working-solvent pool (``solsphere/data/working_solvents.csv``).
 
-The library holds every compound of three published Hansen compilations: 761 of them are
-liquid at 25 °C, and many of those are reagents, monomers or intermediates that nobody
-would put on a bench as a test solvent (acid chlorides, hydrazines, isocyanates ...).
-The common list is our own selection of about 150 solvents in common industrial and
-laboratory use, from general knowledge of the trade (common practice, no source). It is
-not a published list, and being on it says nothing about safety: the hazard flags of
-:func:`solsphere.library.hazard_flags` stay the guide.
+The library holds every compound of three published Hansen compilations plus a few
+curated additions: about 770 of them are liquid at 25 °C, and many of those are reagents,
+monomers or intermediates that nobody would use as a solvent (acid chlorides, hydrazines,
+isocyanates ...). The working pool is our own selection of about 170 solvents in use in
+industry or the lab (coatings, inks, adhesives, cleaning, extraction, pharmaceutical
+process), from general knowledge of the trade (common practice, no source): hydrocarbons
+and the industrial mixtures (xylene, mineral spirits, aromatic naphthas, isoparaffins),
+alcohols, glycols, glycol ethers and their esters, esters, ketones, ethers, chlorinated
+solvents, dipolar aprotics including the newer bio-based ones, and water. It is not a
+published list, and being on it says nothing about safety: the hazard facts of
+:mod:`solsphere.library.hazards` stay the guide.
+
+It is the default pool of every recommendation (rank, blend, replace, next, share);
+``pool="all"`` takes every library liquid, reagents included.
 
 The file has the columns ``cas, name, family`` (``#`` lines are comments). ``name`` is a
 name the library resolves to the same CAS number (a check that the CAS is the intended
 compound); ``family`` is one of :data:`FAMILIES`.
-
-Use :meth:`solsphere.library.Library.common` for the subset of a library, or
-``candidate_pool(..., pool="common")`` in :mod:`solsphere.session`.
 """
 
 from __future__ import annotations
@@ -26,8 +30,9 @@ from typing import Any, Iterable
 
 from solsphere.library.data import data_dir
 
-__all__ = ["CommonSolvent", "FAMILIES", "POOLS", "read_common", "load_common", "common_cas",
-           "Filtered", "apply_filters"]
+__all__ = ["WorkingSolvent", "CommonSolvent", "FAMILIES", "POOLS", "POOL_SYNONYMS",
+           "pool_name", "read_working", "read_common", "load_working", "load_common",
+           "working_cas", "common_cas", "Filtered", "apply_filters", "POOL_CHOICES"]
 
 #: The families used in the list (our own short words).
 FAMILIES = frozenset({
@@ -36,19 +41,46 @@ FAMILIES = frozenset({
     "dipolar aprotic", "acid", "amine", "other",
 })
 
-#: Names of the candidate pools: the curated common solvents, or every library liquid.
-POOLS = ("common", "liquids")
+#: Names of the candidate pools: the curated working solvents, or every library liquid.
+POOLS = ("working", "all")
+#: Older names still accepted: "common" (the working pool's former name), "liquids".
+POOL_SYNONYMS = {"common": "working", "liquids": "all"}
+#: Every name a front end accepts (the pools, then the older synonyms).
+POOL_CHOICES = POOLS + tuple(POOL_SYNONYMS)
 
 _COLUMNS = ("cas", "name", "family")
 
 
+def pool_name(name: str) -> str:
+    """The canonical pool name ("working" or "all") of a name or an older synonym.
+
+    Raises
+    ------
+    ValueError
+        For any other name.
+
+    Examples
+    --------
+    >>> pool_name("common"), pool_name("all")
+    ('working', 'all')
+    """
+    canonical = POOL_SYNONYMS.get(name, name)
+    if canonical not in POOLS:
+        raise ValueError(f"pool must be one of {', '.join(map(repr, POOLS))} (or the older "
+                         f"{', '.join(map(repr, POOL_SYNONYMS))}); found {name!r}")
+    return canonical
+
+
 @dataclass(frozen=True)
-class CommonSolvent:
-    """One row of the common list: CAS number, a name, a family."""
+class WorkingSolvent:
+    """One row of the working list: CAS number, a name, a family."""
 
     cas: str
     name: str
     family: str
+
+
+CommonSolvent = WorkingSolvent  # the former name
 
 
 def _rows(text: str):
@@ -60,14 +92,14 @@ def _rows(text: str):
         yield number, row
 
 
-def read_common(text: str, source: str = "common_solvents.csv") -> tuple[CommonSolvent, ...]:
-    """Parse the common list.
+def read_working(text: str, source: str = "working_solvents.csv") -> tuple[WorkingSolvent, ...]:
+    """Parse the working list.
 
     Parameters
     ----------
     text : str
         The file's content.
-    source : str, default="common_solvents.csv"
+    source : str, default="working_solvents.csv"
         Named in error messages.
 
     Raises
@@ -78,8 +110,8 @@ def read_common(text: str, source: str = "common_solvents.csv") -> tuple[CommonS
 
     Examples
     --------
-    >>> read_common("# comment\\ncas,name,family\\n67-64-1,acetone,ketone\\n")
-    (CommonSolvent(cas='67-64-1', name='acetone', family='ketone'),)
+    >>> read_working("# comment\\ncas,name,family\\n67-64-1,acetone,ketone\\n")
+    (WorkingSolvent(cas='67-64-1', name='acetone', family='ketone'),)
     """
     rows = iter(_rows(text))
     number, header = next(rows, (1, []))
@@ -101,19 +133,28 @@ def read_common(text: str, source: str = "common_solvents.csv") -> tuple[CommonS
             raise ValueError(f"{source}, line {number}, column cas: {cas} repeats line "
                              f"{seen[cas]}")
         seen[cas] = number
-        out.append(CommonSolvent(cas, name, family))
+        out.append(WorkingSolvent(cas, name, family))
     return tuple(out)
 
 
+read_common = read_working  # the former name
+
+
 @lru_cache(maxsize=1)
-def load_common() -> tuple[CommonSolvent, ...]:
-    """The packaged common list, read once per process (cached)."""
-    return read_common(data_dir().joinpath("common_solvents.csv").read_text(encoding="utf-8"))
+def load_working() -> tuple[WorkingSolvent, ...]:
+    """The packaged working list, read once per process (cached)."""
+    return read_working(data_dir().joinpath("working_solvents.csv").read_text(encoding="utf-8"))
 
 
-def common_cas() -> frozenset[str]:
-    """CAS numbers of the packaged common list."""
-    return frozenset(s.cas for s in load_common())
+load_common = load_working  # the former name
+
+
+def working_cas() -> frozenset[str]:
+    """CAS numbers of the packaged working list."""
+    return frozenset(s.cas for s in load_working())
+
+
+common_cas = working_cas  # the former name
 
 
 # ----------------------------------------------------------------------------- filters

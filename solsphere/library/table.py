@@ -45,10 +45,10 @@ from typing import Iterable, Iterator, Mapping
 
 import numpy as np
 
-from solsphere.errors import UnknownSolventError
+from solsphere.errors import AmbiguousNameError, UnknownSolventError
 from solsphere.formatting import short
 from solsphere.library.data import data_dir
-from solsphere.library.pools import apply_filters, common_cas
+from solsphere.library.pools import apply_filters, working_cas
 
 __all__ = [
     "Solvent", "Library", "load_library", "hazard_flags", "normalise", "tested_keys",
@@ -169,7 +169,7 @@ class Library:
     """
 
     def __init__(self, records: Iterable[Solvent], aliases: Mapping[str, str] | None = None,
-                 *, strict: bool = True):
+                 *, strict: bool = True, ambiguous: Mapping[str, tuple] | None = None):
         self.records: tuple[Solvent, ...] = tuple(records)
         for r in self.records:
             if not isinstance(r, Solvent):
@@ -196,6 +196,9 @@ class Library:
                 continue
             self.aliases[alias] = target
             self._add(alias, (1, j, i))
+        #: abbreviations with several common readings -> the readings (never guessed)
+        self.ambiguous: dict[str, tuple[str, ...]] = dict(ambiguous or {})
+        self._ambiguous_keys = {normalise(a): a for a in self.ambiguous}
 
     def _target(self, target: str) -> int | None:
         i = self._cas.get(str(target).strip())
@@ -230,12 +233,15 @@ class Library:
         return cls(records, aliases)
 
     def _subset(self, keep: Iterable[int]) -> "Library":
-        return Library([self.records[i] for i in keep], self.aliases, strict=False)
+        return Library([self.records[i] for i in keep], self.aliases, strict=False,
+                       ambiguous=self.ambiguous)
 
     # ------------------------------------------------------------------ lookup
     def _index_of(self, text: str) -> int | None:
         if not isinstance(text, str) or not text.strip():
             return None
+        if normalise(text) in self._ambiguous_keys:
+            return None  # never guessed (lookup says why)
         m = _CAS.match(text)
         if m:
             i = self._cas.get("-".join(m.groups()).lstrip("0") or "0")
@@ -256,10 +262,32 @@ class Library:
         UnknownSolventError
             If nothing matches; it carries up to 3 close names as suggestions.
         """
+        self._refuse_ambiguous(text)
         i = self._index_of(text)
         if i is None:
             raise UnknownSolventError(str(text), self.suggest(str(text)))
         return self.records[i]
+
+    def _refuse_ambiguous(self, text) -> None:
+        """An abbreviation with several common readings (DBE: dibasic esters or dibutyl
+        ether) is never guessed: the error lists the readings."""
+        if not isinstance(text, str):
+            return
+        alias = self._ambiguous_keys.get(normalise(text))
+        if alias is not None:
+            raise AmbiguousNameError(text, self.ambiguous[alias])
+
+    def resolved(self, text: str) -> str:
+        """``"PM acetate → 1-methoxy-2-propyl acetate"``: what a typed name resolved to
+        (just the name when it was typed as the library's own name).
+
+        >>> lib = Library.from_records([Solvent("toluene", 18.0, 1.4, 2.0, cas="108-88-3")],
+        ...                            aliases={"PhMe": "108-88-3"})
+        >>> lib.resolved("PhMe"), lib.resolved("toluene")
+        ('PhMe → toluene', 'toluene')
+        """
+        s = self.lookup(text)
+        return s.name if _typed(text) == _typed(s.name) else f"{str(text).strip()} → {s.name}"
 
     def find(self, text: str) -> Solvent | None:
         """Like :meth:`lookup` but returns None for an unknown name."""
@@ -293,16 +321,18 @@ class Library:
         """The compounds known to be liquid at 25 °C (``liquid is True``)."""
         return self._subset(i for i, r in enumerate(self.records) if r.liquid is True)
 
-    def common(self) -> "Library":
-        """The compounds on the curated list of common solvents (order kept).
+    def working(self) -> "Library":
+        """The compounds on the curated working-solvent list (order kept).
 
-        The list (``common_solvents.csv``, see :mod:`solsphere.common`) is our own
-        selection of solvents in common industrial and laboratory use, matched by CAS
-        number; it leaves out reagents, monomers and intermediates. Being on it says
-        nothing about safety.
+        The list (``working_solvents.csv``, see :mod:`solsphere.library.pools`) is our own
+        selection of solvents in use in industry and the lab, matched by CAS number; it
+        leaves out reagents, monomers and intermediates. Being on it says nothing about
+        safety.
         """
-        keep = common_cas()
+        keep = working_cas()
         return self._subset(i for i, r in enumerate(self.records) if r.cas in keep)
+
+    common = working  # the former name
 
     def select(self, liquid_only: bool = False, min_flash_point: float | None = None,
                max_boiling_point: float | None = None, exclude_carcinogens: bool = False,
@@ -424,9 +454,32 @@ def _read_solvents(text: str, source: str = "solvents.csv") -> list[Solvent]:
     return out
 
 
+def read_aliases(text: str) -> tuple[dict[str, str], dict[str, tuple[str, ...]]]:
+    """Parse aliases.csv: ``(aliases, ambiguous)``.
+
+    A row whose ``cas`` cell is ``AMBIGUOUS`` marks an abbreviation with several common
+    readings; its note lists them separated by ``|`` (the lookup refuses to guess).
+
+    >>> read_aliases("alias,cas,note\\nMEK,78-93-3,x\\nDBE,AMBIGUOUS,dibasic esters|dibutyl ether\\n")
+    ({'MEK': '78-93-3'}, {'DBE': ('dibasic esters', 'dibutyl ether')})
+    """
+    aliases: dict[str, str] = {}
+    ambiguous: dict[str, tuple[str, ...]] = {}
+    for row in csv.DictReader(io.StringIO(text)):
+        alias = (row.get("alias") or "").strip()
+        if not alias:
+            continue
+        target = (row.get("cas") or "").strip()
+        if target == "AMBIGUOUS":
+            ambiguous[alias] = tuple(x.strip() for x in (row.get("note") or "").split("|")
+                                     if x.strip())
+        else:
+            aliases[alias] = target
+    return aliases, ambiguous
+
+
 def _read_aliases(text: str) -> dict[str, str]:
-    return {row["alias"].strip(): row["cas"].strip()
-            for row in csv.DictReader(io.StringIO(text)) if row.get("alias")}
+    return read_aliases(text)[0]
 
 
 @lru_cache(maxsize=1)
@@ -437,8 +490,8 @@ def load_library() -> Library:
     """
     data = data_dir()
     records = _read_solvents(data.joinpath("solvents.csv").read_text(encoding="utf-8"))
-    aliases = _read_aliases(data.joinpath("aliases.csv").read_text(encoding="utf-8"))
-    return Library(records, aliases)
+    aliases, ambiguous = read_aliases(data.joinpath("aliases.csv").read_text(encoding="utf-8"))
+    return Library(records, aliases, ambiguous=ambiguous)
 
 
 # ----------------------------------------------------------------------------- hazards
@@ -487,7 +540,12 @@ def hazard_flags(solvent: Solvent) -> list[str]:
     """
     flags = []
     fp, bp = solvent.flash_point, solvent.boiling_point
-    if fp is None:
+    if fp is not None and str(solvent.sources.get("flash_point", "")).startswith("estimated"):
+        flags.append(f"flash point estimated ({short(fp)} °C, on the safe side): no "
+                     "measured value in the data")
+    if fp is None and str(solvent.sources.get("flash_point", "")).startswith("none"):
+        pass  # not flammable by the curated data: no flash-point flag
+    elif fp is None:
         flags.append("no flash point data")
     elif fp < GHS_FLASH_CATEGORY_2_C:
         if bp is None:
@@ -502,8 +560,11 @@ def hazard_flags(solvent: Solvent) -> list[str]:
     elif fp <= GHS_FLASH_CATEGORY_4_C:
         flags.append(f"flash point {short(fp)} °C (combustible, GHS category 4)")
     if solvent.twa_ppm is not None and solvent.twa_ppm <= LOW_EXPOSURE_LIMIT_PPM:
+        # the library's limits are the Ontario table's (chemicals.safety.TWA): say so,
+        # since limits differ between jurisdictions (NMP's about tenfold)
+        where = "Ontario; " if "Ontario" in str(solvent.sources.get("twa_ppm", "")) else ""
         flags.append(f"exposure limit {solvent.twa_ppm:.3g} ppm "
-                     f"(≤ {short(LOW_EXPOSURE_LIMIT_PPM)} ppm)")
+                     f"({where}≤ {short(LOW_EXPOSURE_LIMIT_PPM)} ppm)")
     if solvent.carcinogen:
         flags.append(f"carcinogen: {solvent.carcinogen}")
     if solvent.spread is not None and solvent.spread > SPREAD_FLAG_MPA:

@@ -214,19 +214,29 @@ class DryingPath(Result):
     def to_dict(self) -> dict:
         """Plain JSON-safe types (lists, floats, None)."""
         def floats(a):
-            return [None if not math.isfinite(v) else float(v) for v in np.ravel(a)]
+            # one array conversion, then None for the non-finite entries (rare)
+            a = np.asarray(a, dtype=float)
+            out = a.tolist()
+            if not np.isfinite(a).all():
+                bad = ~np.isfinite(a)
+                if a.ndim == 1:
+                    out = [None if b else v for v, b in zip(out, bad)]
+                else:
+                    out = [[None if b else v for v, b in zip(r, rb)]
+                           for r, rb in zip(out, bad)]
+            return out
 
         return {
             "method": self.method,
             "names": list(self.names),
-            "centre": None if self.centre is None else floats(self.centre),
+            "centre": None if self.centre is None else floats(np.ravel(self.centre)),
             "R0": None if self.R0 is None else float(self.R0),
-            "fractions_evaporated": floats(self.fractions_evaporated),
-            "compositions": [floats(row) for row in self.compositions],
-            "mole_fractions": [floats(row) for row in self.mole_fractions],
-            "points": [floats(row) for row in self.points],
-            "red": floats(self.red),
-            "relative_time": floats(self.relative_time),
+            "fractions_evaporated": floats(np.ravel(self.fractions_evaporated)),
+            "compositions": floats(np.atleast_2d(self.compositions)),
+            "mole_fractions": floats(np.atleast_2d(self.mole_fractions)),
+            "points": floats(np.atleast_2d(self.points)),
+            "red": floats(np.ravel(self.red)),
+            "relative_time": floats(np.ravel(self.relative_time)),
             "leaves_at": None if self.leaves_at is None else float(self.leaves_at),
             "stays_inside": self.stays_inside,
             "starts_inside": bool(self.starts_inside),
@@ -408,7 +418,36 @@ def drying_path(points, volume_fractions, molar_volumes, vapour_pressures, centr
         out = np.exp(lw).sum(axis=1)
         return np.where(np.isinf(u), 1.0 - f_max, out)
 
+    w0 = np.where(present, phi0, 0.0)
+
     def u_of_remaining(v):
+        """u with remaining(u) = v, for 1-f_max < v <= 1 (vectorised).
+
+        ln remaining(u) = ln sum phi_i exp(-r_i u) is convex (log-sum-exp of lines) and
+        decreasing, so Newton's method on it started at u = 0 (left of the root) climbs
+        to the root without overshooting (each tangent meets ln v at or before the root),
+        and is exact in one step once one component dominates; a bisection finishes any
+        point that Newton did not settle in 60 steps."""
+        v = np.atleast_1d(np.asarray(v, dtype=float))
+        u = np.zeros_like(v)
+        lv = np.log(v)
+        act = np.arange(len(v))  # points not yet settled
+        for _ in range(60):
+            ua = u[act]
+            e = w0[None, :] * np.exp(-rate[None, :] * ua[:, None])
+            S = e.sum(axis=1)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                g = np.log(S) - lv[act]
+                dg = -(e * rate[None, :]).sum(axis=1) / S
+                step = np.where(dg < 0, -g / dg, 0.0)
+            step = np.where(np.isfinite(step) & (step > 0), step, 0.0)
+            u[act] = ua + step
+            act = act[step > 1e-13 * np.maximum(1.0, u[act])]
+            if not len(act):
+                return u
+        return _bisect(v)
+
+    def _bisect(v):
         """Vectorised bisection: u with remaining(u) = v, for 1-f_max < v <= 1."""
         v = np.atleast_1d(np.asarray(v, dtype=float))
         lo = np.zeros_like(v)
