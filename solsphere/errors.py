@@ -67,7 +67,8 @@ class UnknownSolventError(InputError):
     def __init__(self, name: str, suggestions: list[str] | tuple[str, ...] = (), **where):
         self.name = name
         self.suggestions = list(suggestions)[:3]
-        msg = f"unknown solvent {name!r}."
+        shown = name if len(name) <= 60 else name[:60] + "…"  # never echo a page of text
+        msg = f"unknown solvent {shown!r}."
         if self.suggestions:
             msg += " Did you mean " + ", ".join(repr(s) for s in self.suggestions) + "?"
         where.setdefault("hint", "use a library name, CAS number or abbreviation, "
