@@ -14,6 +14,7 @@ import os
 import re
 
 from solsphere.errors import InputError, SolsphereError
+from solsphere.limits import clip
 
 from .logic import _fmt, _num, _with_temp_file, decode_upload, fit_key, split_names
 
@@ -30,6 +31,28 @@ RANK_CHOICES = {"red": "RED", "cost": "cost (shelf prices)", "drying": "drying"}
 
 # ----------------------------------------------------------------------------- inputs
 
+_SHARE = re.compile(r"[0-9]+(?:[.,][0-9]*)?")
+
+
+def _name_and_share(item: str):
+    """('name', 'share', '%') groups of 'toluene=30%', 'toluene: 0.3', 'toluene 30', or
+    None; read from the right in one pass (no backtracking pattern)."""
+    s = item.strip()
+    pct = "%" if s.endswith("%") else ""
+    s = s[:-1].rstrip() if pct else s
+    k = len(s)
+    while k > 0 and s[k - 1] in "0123456789.,":
+        k -= 1
+    share, before = s[k:], s[:k]
+    if not _SHARE.fullmatch(share) or not before or not (before[-1].isspace()
+                                                          or before[-1] in "=:"):
+        return None
+    name = before.rstrip()
+    if name[-1:] in ("=", ":"):
+        name = name[:-1].rstrip()
+    return name, share, pct
+
+
 def parse_fraction_limits(text: str | None, names, library, what: str) -> dict[str, float]:
     """'toluene=30%, ethanol 0.5' -> {"toluene": 0.3, "ethanol": 0.5}.
 
@@ -45,16 +68,16 @@ def parse_fraction_limits(text: str | None, names, library, what: str) -> dict[s
     out: dict[str, float] = {}
     by_key = {n.casefold(): n for n in names}
     for item in split_names(text):
-        m = re.match(r"^(.*?)\s*(?:=|:|\s)\s*([0-9]+(?:[.,][0-9]*)?)\s*(%?)$", item)
-        if not m or not m.group(1).strip():
-            raise InputError(f"{what}: {item!r} is not a solvent and a share.",
+        m = _name_and_share(item)
+        if not m or not m[0].strip():
+            raise InputError(f"{what}: {clip(item)} is not a solvent and a share.",
                              file="<blends>", column=what,
                              hint="write e.g. toluene=30% or toluene=0.3, items separated "
                                   "by commas")
-        name, value = m.group(1).strip(), float(m.group(2).replace(",", "."))
-        frac = value / 100.0 if (m.group(3) or value > 1.0) else value
+        name, value = m[0].strip(), float(m[1].replace(",", "."))
+        frac = value / 100.0 if (m[2] or value > 1.0) else value
         if not 0.0 <= frac <= 1.0:
-            raise InputError(f"{what}: the share {m.group(2)}{m.group(3)} for {name} is not "
+            raise InputError(f"{what}: the share {clip(m[1] + m[2], 20)} for {clip(name)} is not "
                              "between 0 and 100 %.", file="<blends>", column=what,
                              hint="write e.g. toluene=30%")
         key = by_key.get(name.casefold()) or library.lookup(name).name
