@@ -11,6 +11,7 @@ import argparse
 import json
 import sys
 
+from solsphere import limits
 from solsphere.errors import FitError, InputError, SolsphereError
 
 EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
@@ -62,7 +63,29 @@ def _number(text: str) -> float:
     return v
 
 
+def _temperature_arg(text: str) -> float:
+    """--temperature: a number of °C within the physical range of solsphere.limits."""
+    try:
+        return limits.check_temperature(_number(text))
+    except InputError as exc:
+        raise argparse.ArgumentTypeError(exc.message.rstrip(".")) from None
+
+
+def _add_limits(p):
+    """The limits of solsphere.limits, one option each (see that module's table)."""
+    g = p.add_argument_group("limits (raise them for big jobs; see 'solsphere.limits')")
+    for name, (option, counts) in limits.OPTIONS.items():
+        g.add_argument(option, type=_positive_int, metavar="N", default=None,
+                       dest=f"limit_{name}",
+                       help=f"most {counts} (default {getattr(limits.current(), name):,})")
+
+
+def _set_limits(args) -> None:
+    limits.configure(**{name: getattr(args, f"limit_{name}", None) for name in limits.OPTIONS})
+
+
 def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)"):
+    _add_limits(p)
     p.add_argument("file", metavar="FILE", help=what)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
@@ -104,7 +127,7 @@ def _add_pool(p, pool: str = "liquids"):
     p.add_argument("--restricted", metavar="FILE",
                    help="CSV listing restricted solvents (column 'solvent'), all left out; "
                         "see data/restricted_example.csv")
-    p.add_argument("--temperature", type=_number, metavar="°C",
+    p.add_argument("--temperature", type=_temperature_arg, metavar="°C",
                    help="shift the candidates' coordinates to this process temperature "
                         "(Hansen–Beerbower relations); the sphere stays as fitted")
 
@@ -178,6 +201,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--pairs", type=_count, default=5, metavar="N", help="pairs to list (default 5)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     _add_pool(p)
+    _add_limits(p)
 
     p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
     _add_input(p)
@@ -191,6 +215,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--workers", type=_workers, default=1, metavar="N",
                    help="worker processes (default 1); for a shared lab server use about "
                         "one per core, e.g. 2 (needs gunicorn, Unix only)")
+    _add_limits(p)
     return parser
 
 
@@ -305,6 +330,9 @@ def _posterior(args, project, fit, n: int):
 
 
 def cmd_fit(args) -> int:
+    if args.save:  # say so before the fit, and never open a pipe or device
+        from solsphere.io.files import check_output
+        check_output(args.save, inputs=[args.file])
     project, fit, lib = load_session(args)
     obj, text = fit.to_dict(), str(fit)
     if args.bootstrap:
@@ -317,7 +345,13 @@ def cmd_fit(args) -> int:
         post = _posterior(args, project, fit, args.posterior)
         obj["posterior"] = post.to_dict()
         text += "\n" + str(post)
-    if not args.no_influence:
+    n_trials = len(project.trials)
+    if not args.no_influence and n_trials * n_trials > limits.current().resample_work:
+        obj["influence"] = None
+        text += (f"\n[[Re-check first]] not computed: {n_trials} results need {n_trials:,}"
+                 f" leave-one-out refits, above the limit of resample work (raise it with "
+                 f"--max-resample-work N, or add --no-influence)")
+    elif not args.no_influence:
         from solsphere.uncertainty.bootstrap import influence
         # leave-one-out refits rank the list; the flipped-result refits (the app shows
         # them) would double the time of every fit
@@ -454,7 +488,9 @@ def cmd_replace(args) -> int:
 
 def cmd_share(args) -> int:
     from solsphere.io.files import atomic_write_text
+    from solsphere.io.files import check_output
     from solsphere.workflows import share_page
+    check_output(args.output, inputs=[args.file])
     project, fit, lib = load_session(args)
     _check_share_target(args.output)
     page = share_page(project, fit, lib, title=args.title)
@@ -506,6 +542,7 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help()
         return 2
     try:
+        _set_limits(args)
         return COMMANDS[args.command](args)
     except SolsphereError as exc:
         text = str(exc)

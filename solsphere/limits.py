@@ -9,17 +9,19 @@ lab server's operator raises a limit for everyone it serves (``solsphere app
 =====================  =========  ==========================  ============================
 limit                  default    option                      what it bounds
 =====================  =========  ==========================  ============================
-``rows``               2,000      ``--max-rows``              trial rows of one bench table
-``shelf``              2,000      ``--max-shelf``             solvents in a shelf file
-``top``                1,000      ``--max-list``              length of any listed result
-                                                              (``--top``, ``--pairs``, ``--n``)
+``rows``               1,000      ``--max-rows``              trial rows of one bench table
+``shelf``              1,500      ``--max-shelf``             solvents in a shelf file
+``top``                1,000      ``--max-list``              length of a list of blends
+                                                              or pairs (``--top``, ``--pairs``)
 ``resample_work``      300,000    ``--max-resample-work``     resamples (or posterior
                                                               samples) × trial rows
-``samples``            20,000     ``--max-samples``           resamples or posterior samples
+``samples``            10,000     ``--max-samples``           resamples or posterior samples
 =====================  =========  ==========================  ============================
 
-The defaults are far above a bench campaign (tens of solvents, 1,000-2,000 resamples)
-and keep one request of the app within seconds and a few hundred MB on one core.
+The defaults are far above a bench campaign (tens of solvents, 1,000-2,000 resamples;
+the library itself holds about 1,200 compounds) and keep one request of the app within
+seconds and a few hundred MB on one core (measured in ``tests/perf/bench_attack.py``).
+The leave-one-out influence list counts as trial rows × trial rows of resample work.
 
 Other bounds are physical, not settings: a process temperature from
 :data:`MIN_TEMPERATURE_C` to :data:`MAX_TEMPERATURE_C`, and every message that echoes a
@@ -32,6 +34,7 @@ may use it.
 from __future__ import annotations
 
 import math
+import operator
 from dataclasses import dataclass, fields, replace
 
 from solsphere.errors import InputError
@@ -53,11 +56,11 @@ MIN_TEMPERATURE_C, MAX_TEMPERATURE_C = -50.0, 250.0
 class Limits:
     """The limits in force (see the module's table). All are whole numbers ≥ 1."""
 
-    rows: int = 2_000
-    shelf: int = 2_000
+    rows: int = 1_000
+    shelf: int = 1_500
     top: int = 1_000
     resample_work: int = 300_000
-    samples: int = 20_000
+    samples: int = 10_000
 
     def to_dict(self) -> dict:
         return {f.name: getattr(self, f.name) for f in fields(self)}
@@ -90,7 +93,7 @@ def configure(**values) -> Limits:
     >>> old = current(); configure(rows=5000).rows
     5000
     >>> _ = configure(**old.to_dict()); current().rows
-    2000
+    1000
     """
     global _current
     known = {f.name for f in fields(Limits)}
@@ -146,17 +149,28 @@ def check(name: str, value: int, what: str, *, file=None, column=None) -> None:
     solsphere.errors.InputError: the table: 10 trial rows in one bench table, above the limit of 5 (limit 'rows'). Fix: ask for less, or raise the limit with --max-rows N on the command line (a lab server: solsphere app --max-rows N)
     """
     limit = getattr(current(), name)
-    if isinstance(value, bool) or not isinstance(value, int):
-        raise InputError(f"{what}: expected a whole number, found {clip(value)}.",
-                         file=file, column=column, hint="give a whole number")
+    value = _whole(value, what, file, column)
     if value > limit:
         raise _refusal(name, what, value, limit, file, column)
+
+
+def _whole(value, what: str, file, column) -> int:
+    """``value`` as an int (numpy integers and integral floats too), else InputError."""
+    if not isinstance(value, bool):
+        try:
+            return operator.index(value)
+        except TypeError:
+            if isinstance(value, float) and value.is_integer():
+                return int(value)
+    raise InputError(f"{what}: expected a whole number, found {clip(value)}.",
+                     file=file, column=column, hint="give a whole number")
 
 
 def check_work(n: int, rows: int, what: str, *, file=None, column=None) -> None:
     """Refuse ``n`` resamples (or samples) of ``rows`` trials above the limits
     ``samples`` and ``resample_work``."""
     check("samples", n, what, file=file, column=column)
+    n, rows = _whole(n, what, file, column), _whole(rows, what, file, column)
     limit = current().resample_work
     if n * max(rows, 1) > limit:
         raise _refusal("resample_work", f"{what} ({n:,} × {rows:,} rows)", n * max(rows, 1),

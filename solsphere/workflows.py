@@ -7,6 +7,7 @@ recomputes what the library returns.
 from __future__ import annotations
 
 from solsphere.errors import InputError
+from solsphere.limits import check_temperature
 
 SPREAD_WARN = 1.0  # MPa½: compilations disagreeing by more than this earn a warning (common practice, no source)
 
@@ -184,6 +185,7 @@ def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0)
     import numpy as np
 
     from solsphere import hansen as hsp
+    temperature_C = check_temperature(temperature_C)
     if temperature_C is None or abs(temperature_C - reference_C) < 1e-12:
         return list(pool), []
     out, missing = [], []

@@ -58,6 +58,7 @@ from typing import Any, Iterable, Sequence
 
 import numpy as np
 
+from solsphere.limits import check as check_limit
 from solsphere.hansen import SCALE, flory_huggins_chi, mix, ra
 from solsphere.library.table import Solvent, hazard_flags
 
@@ -759,6 +760,8 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
     All pairs are screened at once by :func:`pair_screen`; the ``top`` pairs are chosen
     on the arrays (``np.argpartition``) before any :class:`Blend` is built.
     """
+    if top is not None:
+        check_limit("top", top, "the blend list", column="--top")
     R0 = _check_radius(R0)
     c = _as_xyz(centre, "centre")
     if top is not None and int(top) < 0:

@@ -23,6 +23,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from solsphere.limits import check as check_limit
 from solsphere import hansen as hsp
 from solsphere.design.pairs import pair_screen, _make_blend
 from solsphere.library.table import Solvent, hazard_flags
@@ -106,6 +107,7 @@ def find_substitutes(target: Solvent, candidates, top: int = 10, n_pairs: int = 
     -------
     Substitution
     """
+    check_limit("top", n_pairs, "the list of pairs", column="--pairs")
     pool = [s for s in candidates
             if include_self or not (s.name == target.name or (s.cas and s.cas == target.cas))]
     tp = np.asarray(target.point, dtype=float)

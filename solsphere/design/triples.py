@@ -86,6 +86,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
 
+from solsphere.limits import check as check_limit
 from solsphere.design.pairs import (CAUTION, Blend, BlendScreen, _apply_filters, _as_xyz,
                              _centred, _check_radius, _component_flags, _f, _num, _pct,
                              _plain, _top_order, blend_table, pair_screen)
@@ -764,6 +765,8 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
     computed (vectorised) for the genuine feasible triples and breaks ties in RED; the
     ``top`` triples are chosen on the arrays before any :class:`Blend3` is built.
     """
+    if top is not None:
+        check_limit("top", top, "the blend list", column="--top")
     R0 = _check_radius(R0)
     c = _as_xyz(centre, "centre")
     if top is not None and int(top) < 0:

@@ -30,7 +30,7 @@ from datetime import datetime, timezone
 from pathlib import Path
 
 from solsphere.errors import InputError
-from solsphere.io.files import atomic_write_text, read_text
+from solsphere.io.files import atomic_write_text, check_output, read_text
 from solsphere.io import trials as _trials
 from solsphere.io.trials import Trials
 
@@ -132,6 +132,7 @@ def save(project: Project, path) -> Path:
     ValueError
         The settings or the fit hold values JSON cannot represent (NaN, objects).
     """
+    check_output(path)  # before anything opens it: a pipe would block the check below
     p = Path(path)
     if p.exists() and not p.is_dir() and not _is_our_file(p):
         raise InputError("this file exists and is not a solsphere project; not "
@@ -247,6 +248,8 @@ def is_project_file(path) -> bool:
     p = Path(path)
     if p.suffix.lower() == ".json":
         return True
+    if not p.is_file():  # a pipe or device is never opened here (it could block)
+        return False
     try:
         with open(p, "rb") as fh:
             head = fh.read(512)

@@ -848,6 +848,7 @@ def _collect(records: Iterable, ctx: _Context, stored: list | None = None):
     trials: list[Trial] = []
     errors: list[InputError] = []
     seen: dict[tuple, Trial] = {}
+    repeats: dict[tuple, list[int]] = {}  # one warning per repeated solvent, with a count
     for i, (line, cells) in enumerate(records):
         if isinstance(cells, InputError):
             errors.append(cells)
@@ -864,14 +865,23 @@ def _collect(records: Iterable, ctx: _Context, stored: list | None = None):
             seen[key] = trial
             trials.append(trial)
         elif first.outcome == trial.outcome:
-            ctx.warn(line, f"{trial.name} repeats {ctx.unit} {first.line} with the same "
-                           f"outcome; kept {ctx.unit} {first.line} only")
+            repeats.setdefault(key, []).append(line)
         else:
             u = ctx.unit
             errors.append(ctx.error(
                 f"{trial.name} is listed twice with different outcomes: {u} {first.line} "
                 f"says {DISPLAY[first.outcome]}, {u} {line} says {DISPLAY[trial.outcome]}.",
                 line, "outcome", hint="re-test or keep one of the two rows"))
+    for key, lines in repeats.items():
+        first, u = seen[key], ctx.unit
+        if len(lines) == 1:
+            ctx.warn(lines[0], f"{clip(first.name)} repeats {u} {first.line} with the same "
+                               f"outcome; kept {u} {first.line} only")
+        else:
+            shown = ", ".join(map(str, lines[:5])) + (", …" if len(lines) > 5 else "")
+            ctx.warn(lines[0], f"{clip(first.name)} repeats {u} {first.line} with the same "
+                               f"outcome {len(lines)} times ({u}s {shown}); kept {u} "
+                               f"{first.line} only")
     return trials, errors
 
 
@@ -895,6 +905,10 @@ def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
         return None, errors
     text = " ".join(_text(cells.get("solvent")).split())
     note = _text(cells.get("note"))
+    if _has_surrogates(text) or _has_surrogates(note):
+        text, note = _replace_surrogates(text), _replace_surrogates(note)
+        ctx.warn(line, "a character that is not valid Unicode (a lone surrogate) was "
+                       "replaced by �")
     raw_outcome = cells.get("outcome")
     outcome = None
     if _empty(raw_outcome):
@@ -942,6 +956,25 @@ def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
     return Trial(name=name, text=text, outcome=outcome, dD=float(p[0]), dP=float(p[1]),
                  dH=float(p[2]), source=source, components=components, cas=cas, note=note,
                  line=line, solvent=solvent), []
+
+
+def _has_surrogates(text: str) -> bool:
+    try:
+        text.encode("utf-8")
+    except UnicodeEncodeError:
+        return True
+    return False
+
+
+def _replace_surrogates(text: str) -> str:
+    """``text`` with every lone surrogate (which no file can store) replaced by U+FFFD.
+
+    >>> _replace_surrogates("note \ud800 end")
+    'note \ufffd end'
+    """
+    if not _has_surrogates(text):
+        return text
+    return "".join("\ufffd" if "\ud800" <= ch <= "\udfff" else ch for ch in text)
 
 
 def _fmt_point(p) -> str:

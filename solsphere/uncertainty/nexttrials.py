@@ -57,6 +57,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.special import expit
 
+from solsphere.limits import check as check_limit
 from solsphere.uncertainty import bootstrap as confidence
 from solsphere.uncertainty.bootstrap import binary_data
 from solsphere.models.classic import _box
@@ -318,6 +319,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     -------
     Suggestions
     """
+    check_limit("samples", n_samples, "the sampled spheres", column="--samples")
     from solsphere.uncertainty.posterior import Posterior, sample_posterior
 
     if uncertainty not in ("posterior", "bootstrap"):

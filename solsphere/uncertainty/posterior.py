@@ -54,6 +54,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from solsphere.limits import check_work
 from solsphere.uncertainty.bootstrap import SampledSpheres, binary_data, edge_notes, percentile_intervals
 from solsphere.models.classic import AXES, MIN_ADVISED, desirability
 from solsphere.hansen import SCALE, ra
@@ -275,6 +276,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     >>> p.centres.shape, sorted(p.intervals)
     ((256, 3), ['R0', 'dD', 'dH', 'dP', 'width'])
     """
+    check_work(int(n_samples), len(data), "the posterior samples", column="--posterior")
     from solsphere.models.graded import GradedModel, _theta_bounds
 
     if partial not in ("good", "bad", "skip"):
