@@ -360,6 +360,7 @@ def cmd_fit(args) -> int:
         obj["influence"] = rows
         text += "\n[[Re-check first]] (results whose removal moves the sphere most)\n" + "\n".join(
             f"    {r['name']}: centre moves {r['shift']:.1f} MPa½, R0 {r['dR0']:+.1f}"
+            if r["shift"] is not None else f"    {r['name']}: {r['note']}"
             for r in rows[:5])
     if args.spheres == 2:
         from solsphere.models.twosphere import fit_two_spheres

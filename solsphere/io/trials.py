@@ -57,7 +57,7 @@ from solsphere.limits import check as check_limit, clip, current as current_limi
 
 __all__ = ["Trial", "Trials", "read", "read_text", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
-           "COLUMNS", "MAX_COORDINATE"]
+           "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
@@ -906,7 +906,7 @@ def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
     text = " ".join(_text(cells.get("solvent")).split())
     note = _text(cells.get("note"))
     if _has_surrogates(text) or _has_surrogates(note):
-        text, note = _replace_surrogates(text), _replace_surrogates(note)
+        text, note = replace_surrogates(text), replace_surrogates(note)
         ctx.warn(line, "a character that is not valid Unicode (a lone surrogate) was "
                        "replaced by �")
     raw_outcome = cells.get("outcome")
@@ -966,10 +966,10 @@ def _has_surrogates(text: str) -> bool:
     return False
 
 
-def _replace_surrogates(text: str) -> str:
+def replace_surrogates(text: str) -> str:
     """``text`` with every lone surrogate (which no file can store) replaced by U+FFFD.
 
-    >>> _replace_surrogates("note \ud800 end")
+    >>> replace_surrogates("note \ud800 end")
     'note \ufffd end'
     """
     if not _has_surrogates(text):
