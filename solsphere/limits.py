@@ -203,14 +203,17 @@ def check_temperature(value, *, file="<command line>", column="--temperature") -
     return t
 
 
-def clip(value, n: int = ECHO_CHARS) -> str:
-    """``repr`` of a user's value, cut to about ``n`` characters for a message.
+def clip(value, n: int = ECHO_CHARS, *, quote: bool = True) -> str:
+    """``repr`` of a user's value, cut to about ``n`` characters for a message
+    (``quote=False``: a string as it is, cut the same way).
 
-    >>> clip("toluene")
-    "'toluene'"
+    >>> clip("toluene"), clip("toluene", quote=False)
+    ("'toluene'", 'toluene')
     >>> clip("x" * 1000, 10)
     "'xxxxxxxxxx…' (1000 characters)"
     """
+    if isinstance(value, str) and not quote:
+        return value if len(value) <= n else value[:n] + "…"
     if isinstance(value, str):
         if len(value) <= n:
             return repr(value)

@@ -192,7 +192,7 @@ def test_a_single_solvent_repeated_is_kept_once_with_warnings(lib):
     assert trials.names == ["toluene", "p-xylene", "water", "methanol"]
     # one warning with the count (a 1 MB file of repeats once made a 20 MB project)
     assert [w for w in trials.warnings if "repeats line 2" in w] == [
-        "<text>, line 3: toluene repeats line 2 with the same outcome 5 times (lines 3, 4, "
+        "bench.csv, line 3: toluene repeats line 2 with the same outcome 5 times (lines 3, 4, "
         "5, 6, 7); kept line 2 only"]
 
 

@@ -875,11 +875,11 @@ def _collect(records: Iterable, ctx: _Context, stored: list | None = None):
     for key, lines in repeats.items():
         first, u = seen[key], ctx.unit
         if len(lines) == 1:
-            ctx.warn(lines[0], f"{clip(first.name)} repeats {u} {first.line} with the same "
+            ctx.warn(lines[0], f"{clip(first.name, quote=False)} repeats {u} {first.line} with the same "
                                f"outcome; kept {u} {first.line} only")
         else:
             shown = ", ".join(map(str, lines[:5])) + (", …" if len(lines) > 5 else "")
-            ctx.warn(lines[0], f"{clip(first.name)} repeats {u} {first.line} with the same "
+            ctx.warn(lines[0], f"{clip(first.name, quote=False)} repeats {u} {first.line} with the same "
                                f"outcome {len(lines)} times ({u}s {shown}); kept {u} "
                                f"{first.line} only")
     return trials, errors
