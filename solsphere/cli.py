@@ -12,7 +12,7 @@ import json
 import sys
 
 from solsphere import limits
-from solsphere.errors import FitError, InputError, SolsphereError
+from solsphere.errors import FitError, InputError, SolsphereError, numeric_notes
 
 EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
           "flammable and toxic: read each safety data sheet and work with ventilation and "
@@ -544,7 +544,13 @@ def main(argv: list[str] | None = None) -> int:
         return 2
     try:
         _set_limits(args)
-        return COMMANDS[args.command](args)
+        if args.command == "app":  # a server: its requests answer for themselves
+            return COMMANDS[args.command](args)
+        with numeric_notes() as notes:
+            code = COMMANDS[args.command](args)
+        for note in notes:  # after the report, one line each, never a numpy trace
+            print(f"solsphere: note: {note}", file=sys.stderr)
+        return code
     except SolsphereError as exc:
         text = str(exc)
         where = getattr(args, "file", None) or getattr(args, "for_material", None)

@@ -7,6 +7,9 @@ file, loading a project, parsing the command line). Its message names the place
 
 from __future__ import annotations
 
+import contextlib
+import warnings as _warnings
+
 
 class SolsphereError(Exception):
     """Base class for errors solsphere reports to the user (exit code 2)."""
@@ -82,3 +85,34 @@ class FitError(SolsphereError):
 
 class NotFittedError(SolsphereError, AttributeError):
     """A model was used before ``fit``."""
+
+
+@contextlib.contextmanager
+def numeric_notes():
+    """Collect numpy's RuntimeWarnings (overflow, division by zero, invalid values) as
+    one-line notes for the report instead of letting them reach the terminal.
+
+    Yields a list that holds, after the block, one note per distinct warning.
+
+    >>> import numpy as np
+    >>> with numeric_notes() as notes:
+    ...     _ = np.array([1.0]) / 0.0
+    >>> notes
+    ['a numerical step reported: divide by zero encountered in divide; check the results it concerns']
+    """
+    notes: list[str] = []
+    with _warnings.catch_warnings(record=True) as caught:
+        _warnings.simplefilter("always", RuntimeWarning)
+        try:
+            yield notes
+        finally:
+            seen = set()
+            for w in caught:
+                if not issubclass(w.category, RuntimeWarning):
+                    _warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+                    continue
+                text = " ".join(str(w.message).split())[:200]
+                if text not in seen:
+                    seen.add(text)
+                    notes.append(f"a numerical step reported: {text}; check the results "
+                                 f"it concerns")
