@@ -80,8 +80,9 @@ def _add_limits(p):
                        help=f"most {counts} (default {getattr(limits.current(), name):,})")
 
 
-def _set_limits(args) -> None:
-    limits.configure(**{name: getattr(args, f"limit_{name}", None) for name in limits.OPTIONS})
+def _limits_of(args) -> dict:
+    """The --max-* options given (None: the limit stays as it is)."""
+    return {name: getattr(args, f"limit_{name}", None) for name in limits.OPTIONS}
 
 
 def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)"):
@@ -543,11 +544,11 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help()
         return 2
     try:
-        _set_limits(args)
-        if args.command == "app":  # a server: its requests answer for themselves
-            return COMMANDS[args.command](args)
-        with numeric_notes() as notes:
-            code = COMMANDS[args.command](args)
+        with limits.limited(**_limits_of(args)):  # for this command only
+            if args.command == "app":  # a server: its requests answer for themselves
+                return COMMANDS[args.command](args)
+            with numeric_notes() as notes:
+                code = COMMANDS[args.command](args)
         for note in notes:  # after the report, one line each, never a numpy trace
             print(f"solsphere: note: {note}", file=sys.stderr)
         return code

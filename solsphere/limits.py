@@ -13,7 +13,7 @@ limit                  default    option                      what it bounds
 ``shelf``              1,500      ``--max-shelf``             solvents in a shelf file
 ``top``                1,000      ``--max-list``              length of a list of blends
                                                               or pairs (``--top``, ``--pairs``)
-``resample_work``      300,000    ``--max-resample-work``     resamples (or posterior
+``resample_work``      200,000    ``--max-resample-work``     resamples (or posterior
                                                               samples) × trial rows
 ``samples``            10,000     ``--max-samples``           resamples or posterior samples
 =====================  =========  ==========================  ============================
@@ -59,7 +59,7 @@ class Limits:
     rows: int = 1_000
     shelf: int = 1_500
     top: int = 1_000
-    resample_work: int = 300_000
+    resample_work: int = 200_000
     samples: int = 10_000
 
     def to_dict(self) -> dict:

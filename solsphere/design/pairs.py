@@ -761,7 +761,7 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
     on the arrays (``np.argpartition``) before any :class:`Blend` is built.
     """
     if top is not None:
-        check_limit("top", top, "the blend list", column="--top")
+        check_limit("top", top, "the blend list")
     R0 = _check_radius(R0)
     c = _as_xyz(centre, "centre")
     if top is not None and int(top) < 0:

@@ -107,7 +107,7 @@ def find_substitutes(target: Solvent, candidates, top: int = 10, n_pairs: int = 
     -------
     Substitution
     """
-    check_limit("top", n_pairs, "the list of pairs", column="--pairs")
+    check_limit("top", n_pairs, "the list of pairs")
     pool = [s for s in candidates
             if include_self or not (s.name == target.name or (s.cas and s.cas == target.cas))]
     tp = np.asarray(target.point, dtype=float)

@@ -766,7 +766,7 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
     ``top`` triples are chosen on the arrays before any :class:`Blend3` is built.
     """
     if top is not None:
-        check_limit("top", top, "the blend list", column="--top")
+        check_limit("top", top, "the blend list")
     R0 = _check_radius(R0)
     c = _as_xyz(centre, "centre")
     if top is not None and int(top) < 0:

@@ -528,7 +528,7 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
     n_bootstrap = int(n_bootstrap)
     if n_bootstrap < 2:
         raise ValueError(f"n_bootstrap must be at least 2; found {n_bootstrap}")
-    check_work(n_bootstrap, len(data), "the bootstrap", column="--bootstrap")
+    check_work(n_bootstrap, len(data), "the bootstrap")
     t0 = time.perf_counter()
     rng = np.random.default_rng(seed)
     width = None

@@ -319,7 +319,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     -------
     Suggestions
     """
-    check_limit("samples", n_samples, "the sampled spheres", column="--samples")
+    check_limit("samples", n_samples, "the sampled spheres")
     from solsphere.uncertainty.posterior import Posterior, sample_posterior
 
     if uncertainty not in ("posterior", "bootstrap"):

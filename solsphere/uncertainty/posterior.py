@@ -276,7 +276,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     >>> p.centres.shape, sorted(p.intervals)
     ((256, 3), ['R0', 'dD', 'dH', 'dP', 'width'])
     """
-    check_work(int(n_samples), len(data), "the posterior samples", column="--posterior")
+    check_work(int(n_samples), len(data), "the posterior samples")
     from solsphere.models.graded import GradedModel, _theta_bounds
 
     if partial not in ("good", "bad", "skip"):
