@@ -5,6 +5,8 @@ the blend's segment (or triangle), its best mix and its drying path on the map."
 
 from __future__ import annotations
 
+from importlib.resources import files
+
 from dash import Input, Output, State, ctx, dcc, html
 from dash.exceptions import PreventUpdate
 
@@ -165,7 +167,6 @@ def register(app, get_library):
     @app.callback(Output("restricted-example", "data"),
                   Input("restricted-example-button", "n_clicks"), prevent_initial_call=True)
     def example(n):
-        from importlib.resources import files
         if not n:
             raise PreventUpdate
         text = files("solsphere.data").joinpath("restricted_example.csv").read_text("utf-8")

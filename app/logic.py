@@ -2,35 +2,48 @@
 
 Each function takes plain JSON-safe values (the table's rows, the stored fit, the
 controls' values) and returns plain values, so it can be tested without a browser.
-Every computation is a library call: validation (:func:`solsphere.trials.validate_rows`),
-the fit (:func:`solsphere.session.fit_project`), the pool
-(:func:`solsphere.session.candidate_pool`), the ranking
-(:func:`solsphere.rank.rank_solvents`), the blends
-(:func:`solsphere.blend.screen_blends`), the figures (:mod:`solsphere.figures`), the share
-page (:func:`solsphere.session.share_page`) and the project file
-(:mod:`solsphere.project`). What is added here is only lookup and formatting. The blend
-designer and the replacement search are in :mod:`app.blendlogic`, the uncertainty and
-next-trial screens in :mod:`app.uncertainty`.
+Every computation is a library call: validation (:func:`solsphere.io.trials.validate_rows`),
+the fit (:func:`solsphere.workflows.fit_project`), the pool
+(:func:`solsphere.workflows.candidate_pool`), the ranking
+(:func:`solsphere.design.ranking.rank_solvents`), the figures
+(:mod:`solsphere.report.figures`), the share page (:func:`solsphere.report.share.share_page`)
+and the project file (:mod:`solsphere.io.project`). What is added here is only reading the
+form and formatting. The blend designer and the replacement search are in
+:mod:`solsphere.app.blendlogic`, the uncertainty and next-trial screens in
+:mod:`solsphere.app.uncertainty`.
 """
 
 from __future__ import annotations
 
 import base64
 import binascii
+import html
 import os
 import re
 import tempfile
+import textwrap
 from functools import lru_cache
+from importlib.resources import files
 from pathlib import Path
 
+from solsphere.design.ranking import CAUTION, rank_solvents
 from solsphere.errors import FitError, InputError, SolsphereError
+from solsphere.formatting import num, split_names
+from solsphere.io import trials as T
+from solsphere.io.project import Project, load_any, save
+from solsphere.io.trials import DISPLAY, parse_outcome
+from solsphere.report import figures
+from solsphere.report.share import share_page
+from solsphere.workflows import candidate_pool, fit_project
+
+__all__ = ["split_names"]  # re-exported for the screens
 
 #: Largest upload the app accepts [bytes]; bigger files are refused with a message.
 UPLOAD_LIMIT = 5_000_000
-#: Table columns, in display order (the results-file columns of CONVENTIONS.md).
+#: Table columns, in display order (the results-file columns).
 COLUMNS = ("solvent", "outcome", "dD", "dP", "dH", "note")
-#: The words the table shows for each outcome (CONVENTIONS.md).
-WORDS = {"good": "dissolves", "partial": "partly", "bad": "does not"}
+#: The words the table shows for each outcome (the package's one table).
+WORDS = DISPLAY
 PARTIAL_CHOICES = {"good": "as dissolves", "bad": "as does not", "skip": "left out"}
 DEMO_FILE = "varnish_binder.csv"
 DEMO_LABEL = "invented demo"
@@ -68,7 +81,6 @@ def normalise_outcomes(rows) -> list[dict] | None:
     'dissolves', 'bad' -> 'does not' …, as :func:`solsphere.trials.parse_outcome`
     reads them), or None when nothing changes. Pasted and typed words then show in
     the table's outcome menus; unrecognised words are left for the error marks."""
-    from solsphere.io.trials import parse_outcome
     out, changed = [], False
     for r in rows or []:
         v = r.get("outcome") if isinstance(r, dict) else None
@@ -103,10 +115,6 @@ def compute_fit(rows, partial: str, library) -> dict:
         trial (same order as ``fit["table"]``); ``tested``: names and CAS numbers of
         the tested solvents; ``warnings``: reading warnings; ``partial``.
     """
-    from solsphere.io import trials as T
-    from solsphere.io.project import Project
-    from solsphere.workflows import fit_project
-
     cleaned = clean_rows(rows)
     try:
         trials, errors = T.validate_rows(cleaned, library=library)
@@ -363,7 +371,7 @@ def _safe_name(filename: str | None, default: str) -> str:
     return base or default
 
 
-def _with_temp_file(data: bytes, filename: str | None, default: str, fn):
+def with_upload_file(data: bytes, filename: str | None, default: str, fn):
     """Run ``fn(path)`` on the uploaded bytes written to a private temporary file, so
     the library reads it exactly as it reads a file given on the command line. Error
     messages name the uploaded file, not the temporary one."""
@@ -405,9 +413,8 @@ def open_upload(contents: str, filename: str | None, library) -> dict:
     ------
     InputError
     """
-    from solsphere.io.project import load_any
     data = decode_upload(contents, filename)
-    project = _with_temp_file(data, filename, "results.csv",
+    project = with_upload_file(data, filename, "results.csv",
                               lambda p: load_any(p, library=library))
     return project_state(project, os.path.basename(filename or "upload"))
 
@@ -428,9 +435,6 @@ def project_state(project, label: str) -> dict:
 
 def demo_state(library) -> dict | None:
     """The invented demo scenario from the installed package (None if it is missing)."""
-    from importlib.resources import files
-    from solsphere.io import trials as T
-    from solsphere.io.project import Project
     try:
         folder = files("solsphere.data.demo")
         entry = folder.joinpath(DEMO_FILE)
@@ -464,11 +468,6 @@ def fit_matches(saved: dict | None, fit: dict | None, tol: float = 1e-6) -> bool
 
 # ----------------------------------------------------------------------------- shortlist
 
-def split_names(text: str | None) -> list[str]:
-    """'toluene, MEK; benzene' -> ['toluene', 'MEK', 'benzene'] (commas, semicolons, new lines)."""
-    return [x.strip() for x in re.split(r"[,;\n]", text or "") if x.strip()]
-
-
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
               exclude: str | None = None, top: int = 30, bootstrap=None,
@@ -485,8 +484,6 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
         ``rows`` (``Ranking.to_dict()["solvents"]`` entries plus display strings),
         ``message`` and ``caution``.
     """
-    from solsphere.design.ranking import CAUTION, rank_solvents
-    from solsphere.workflows import candidate_pool
     fit = (result or {}).get("fit")
     if not fit:
         return {"rows": [], "message": "No sphere yet: the shortlist appears once the fit "
@@ -501,8 +498,8 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                                        "least 1.", "caution": CAUTION}
     try:
         pool, filters = candidate_pool(library, exclude=names,
-                                       min_flash_point=_num(min_flash_point),
-                                       max_boiling_point=_num(max_boiling_point),
+                                       min_flash_point=number_field(min_flash_point),
+                                       max_boiling_point=number_field(max_boiling_point),
                                        exclude_carcinogens=bool(no_carcinogens),
                                        liquid_only=bool(liquids_only),
                                        pool="common" if common_only else "liquids")
@@ -518,28 +515,39 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
     for s in d["solvents"]:
         rows.append(dict(s, for_fit=fit_key(fit), red_text=f"{s['red']:.2f}", dD_text=f"{s['dD']:.1f}",
                          dP_text=f"{s['dP']:.1f}", dH_text=f"{s['dH']:.1f}",
-                         bp_text=_fmt(s.get("boiling_point"), "{:.0f}"),
-                         fp_text=_fmt(s.get("flash_point"), "{:.0f}"),
-                         twa_text=_fmt(s.get("twa_ppm"), "{:.3g}"),
-                         spread_text=_fmt(s.get("spread"), "{:.1f}"),
-                         p_text=_fmt(s.get("p_good"), "{:.2f}"),
+                         bp_text=num(s.get("boiling_point"), "{:.0f}"),
+                         fp_text=num(s.get("flash_point"), "{:.0f}"),
+                         twa_text=num(s.get("twa_ppm"), "{:.3g}"),
+                         spread_text=num(s.get("spread"), "{:.1f}"),
+                         p_text=num(s.get("p_good"), "{:.2f}"),
                          flags_text="; ".join(s.get("flags") or [])))
     msg = f"{len(rows)} nearest of {d['n_candidates']} untried candidates ({filters['pool']})."
     return {"rows": rows, "message": msg, "caution": CAUTION}
 
 
-def _num(x):
+def number_field(x, field: str = "number"):
+    """A number typed in a form field (decimal comma accepted), None when empty.
+
+    Raises
+    ------
+    InputError
+        Not a number, naming the field.
+    """
     if x in (None, ""):
         return None
     try:
         v = float(str(x).replace(",", "."))
     except ValueError:
-        raise InputError(f"expected a number, found {x!r}.", file="<filters>") from None
+        raise InputError(f"expected a number, found {str(x)[:40]!r}.", file="<filters>",
+                         column=field) from None
     return v if v == v else None
 
 
-def _fmt(x, fmt: str) -> str:
-    return "—" if x is None else fmt.format(x)
+def drying_paths(blends) -> list[dict]:
+    """The drying paths of the clicked blends, for :func:`solsphere.report.figures.map3d`."""
+    return [{"points": b["drying_points"],
+             "label": "drying path: " + " + ".join(b["solvents"])}
+            for b in blends or [] if b.get("drying_points")]
 
 
 # ----------------------------------------------------------------------------- figures
@@ -568,9 +576,6 @@ def _current(fit: dict, blends, picked=None):
 def map_figure(result: dict | None, library, show_untried: bool = True,
                picked: list | None = None, blends: list | None = None, cloud=None):
     """The 3D map of the stored fit (``solsphere.figures.map3d``)."""
-    from solsphere.report import figures
-    from .blendlogic import drying_paths
-    from solsphere.design.ranking import rank_solvents
     fit = (result or {}).get("fit")
     if not fit:
         return empty_figure((result or {}).get("fit_error") or "No sphere yet.")
@@ -588,7 +593,6 @@ def map_figure(result: dict | None, library, show_untried: bool = True,
 
 def planes_figure(result: dict | None, blends: list | None = None):
     """The three 2D projections of the stored fit (``solsphere.figures.projections``)."""
-    from solsphere.report import figures
     fit = (result or {}).get("fit")
     if not fit:
         return empty_figure("", height=300)
@@ -612,7 +616,8 @@ def _liquids(library):
 
 def empty_figure(message: str, height: int = 560):
     """A blank figure carrying a message (while there is no fit)."""
-    import plotly.graph_objects as go
+    import plotly.graph_objects as go  # deferred: plotly is heavy to import
+
     fig = go.Figure()
     fig.update_layout(height=height, xaxis={"visible": False}, yaxis={"visible": False},
                       plot_bgcolor="white", margin={"l": 10, "r": 10, "t": 10, "b": 10},
@@ -623,16 +628,12 @@ def empty_figure(message: str, height: int = 560):
 
 
 def _wrap(text: str, width: int = 70) -> str:
-    import html
-    import textwrap
     return "<br>".join(html.escape(x) for x in textwrap.wrap(text, width)) or ""
 
 
 # ----------------------------------------------------------------------------- share
 
 def _project(rows, partial: str, library, fit_dict: dict | None):
-    from solsphere.io import trials as T
-    from solsphere.io.project import Project
     trials = T.from_rows(clean_rows(rows), library=library)
     return Project(trials=trials, settings={"partial": partial}, fit=fit_dict)
 
@@ -645,8 +646,6 @@ def project_file_text(rows, partial: str, library) -> str:
     InputError
         A bad cell (fix it first: a project with rows silently dropped would lose data).
     """
-    from solsphere.io.project import save
-    from solsphere.workflows import fit_project
     project = _project(rows, partial, library, None)
     try:
         fit = fit_project(project, partial=partial, library=library)
@@ -666,7 +665,6 @@ def share_page_text(rows, partial: str, library, title: str | None = None) -> st
     ------
     InputError, FitError
     """
-    from solsphere.workflows import fit_project, share_page
     project = _project(rows, partial, library, None)
     fit = fit_project(project, partial=partial, library=library)
     return share_page(project, fit, library, title=title or None)
@@ -681,5 +679,4 @@ def download_name(source: str | None, suffix: str) -> str:
 
 def caution_text() -> str:
     """The caution shown near every recommendation (``solsphere.rank.CAUTION``)."""
-    from solsphere.design.ranking import CAUTION
     return CAUTION

@@ -15,7 +15,15 @@ import ipaddress
 import os
 import socket
 import sys
+from importlib.resources import files
+from importlib.util import find_spec
 from pathlib import Path
+
+from solsphere.errors import InputError
+from solsphere.io.project import load_any
+from solsphere.library.table import load_library
+
+from . import logic
 
 #: Largest HTTP request body the server accepts [bytes]: a 5 MB upload as the browser's
 #: data URL (each callback has its own smaller limit, see ``guard``); uploads are checked
@@ -31,7 +39,6 @@ WORKER_TIMEOUT = 120
 
 
 def _library():
-    from solsphere.library.table import load_library
     return load_library()  # loaded once per process and cached by the library
 
 
@@ -50,8 +57,6 @@ def initial_state(path=None, library=None) -> dict | None:
     """
     if path is None:
         return None
-    from solsphere.io.project import load_any
-    from . import logic
     library = library or _library()
     project = load_any(path, library=library)
     return logic.project_state(project, Path(path).name)
@@ -90,7 +95,6 @@ def create_app(path=None, initial: dict | None = None):
 
 
 def _demo_installed() -> bool:
-    from importlib.resources import files
     try:
         return any(e.name.endswith(".csv") for e in files("solsphere.data.demo").iterdir())
     except (ModuleNotFoundError, FileNotFoundError, OSError):
@@ -137,7 +141,6 @@ def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1
     InputError
         ``workers`` out of range, or (with ``workers >= 2``) the address cannot be bound.
     """
-    from solsphere.errors import InputError
     if isinstance(workers, bool) or not isinstance(workers, int) or not 1 <= workers <= MAX_WORKERS:
         raise InputError(f"--workers must be a whole number from 1 to {MAX_WORKERS}, "
                          f"found {workers!r}.", file="<command line>",
@@ -172,7 +175,6 @@ def prefork_unavailable() -> str | None:
     """
     if sys.platform == "win32":
         return "gunicorn, which does not run on Windows"
-    from importlib.util import find_spec
     if find_spec("gunicorn") is None:
         return "the 'gunicorn' package (install it with: pip install gunicorn)"
     return None
@@ -184,7 +186,6 @@ def listen_socket(host: str, port: int) -> socket.socket:
     Binding here, before any worker starts, turns a busy port or a wrong address into
     one message (the worker processes then share this socket).
     """
-    from solsphere.errors import InputError
     where = f"{host}:{port}"
     try:
         infos = socket.getaddrinfo(host.strip("[]") or None, port, type=socket.SOCK_STREAM,

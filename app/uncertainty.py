@@ -13,10 +13,17 @@ from __future__ import annotations
 
 import hashlib
 import json
+import time
 
 from solsphere.errors import FitError, SolsphereError
+from solsphere.formatting import num
+from solsphere.uncertainty import bootstrap as confidence
+from solsphere.uncertainty import nexttrials as nexttrial
+from solsphere.uncertainty.bootstrap import Bootstrap
+from solsphere.uncertainty.posterior import Posterior, sample_posterior
+from solsphere.workflows import candidate_pool
 
-from .logic import _fmt, _num, split_names
+from .logic import number_field, split_names
 
 #: Resamples the app offers by default (fast: about 2 s for 35 trials here) and at most.
 DEFAULT_RESAMPLES = 200
@@ -71,12 +78,11 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
         with the resampled centres and radii rounded, without the per-resample
         desirabilities), ``elapsed`` [s]; or ``error`` (a message) instead of ``boot``.
     """
-    from solsphere.uncertainty import bootstrap as confidence
     fit = (result or {}).get("fit")
     if not fit:
         return {"key": None, "error": "No sphere yet: add results first."}
     try:
-        n = int(_num(n_resamples) or DEFAULT_RESAMPLES)
+        n = int(number_field(n_resamples) or DEFAULT_RESAMPLES)
     except (SolsphereError, ValueError):
         n = DEFAULT_RESAMPLES
     n = max(20, min(MAX_RESAMPLES, n))
@@ -84,7 +90,6 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
     partial = fit.get("partial") or "good"
     try:
         if method == "posterior":
-            from solsphere.uncertainty.posterior import sample_posterior
             b = sample_posterior(X, outcomes, max(n, MIN_SAMPLES), seed=seed,
                                  partial=partial if partial != "ordinal" else "good",
                                  names=names, bounds=fit.get("bounds"))
@@ -156,8 +161,6 @@ def cloud(store: dict | None, fit: dict | None):
 def bootstrap_of(store: dict | None, fit: dict | None):
     """The stored bootstrap as a :class:`solsphere.confidence.Bootstrap` (with its
     resampled spheres), or None when there is none for these results."""
-    from solsphere.uncertainty.bootstrap import Bootstrap
-    from solsphere.uncertainty.posterior import Posterior
     st = current(store, fit)
     if not st or st.get("error"):
         return None
@@ -189,12 +192,8 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
         strings), ``recheck`` (the most influential trials), ``message``, ``warnings``,
         ``caution`` (the suggestions' own caution), ``elapsed``.
     """
-    import time
 
-    from solsphere.uncertainty import bootstrap as confidence
 
-    from solsphere.uncertainty import nexttrials as nexttrial
-    from solsphere.workflows import candidate_pool
     fit = (result or {}).get("fit")
     if not fit:
         return {"key": None, "suggestions": [], "recheck": [], "warnings": [],
@@ -205,10 +204,10 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
     key = trials_key(fit)
     try:
         pool, filters = candidate_pool(library, exclude=split_names(exclude),
-                                 min_flash_point=_num(min_flash_point),
-                                 max_boiling_point=_num(max_boiling_point),
+                                 min_flash_point=number_field(min_flash_point),
+                                 max_boiling_point=number_field(max_boiling_point),
                                  exclude_carcinogens=bool(no_carcinogens), pool=pool)
-        ns = max(MIN_SAMPLES, min(MAX_SAMPLES, int(_num(n_samples) or DEFAULT_SAMPLES)))
+        ns = max(MIN_SAMPLES, min(MAX_SAMPLES, int(number_field(n_samples) or DEFAULT_SAMPLES)))
         sug = nexttrial.suggest_next(X, outcomes, pool, int(n), n_samples=ns, seed=seed,
                                      partial=partial, names=names)
         infl = confidence.influence(X, outcomes, partial=partial, names=names,
@@ -220,9 +219,9 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
     rows = []
     for s in d["suggestions"]:
         rows.append(dict(s, p_text=f"{s['p_good']:.2f}", red_text=f"{s['red']:.2f}",
-                         fp_text=_fmt(s.get("flash_point"), "{:.0f}"),
-                         bp_text=_fmt(s.get("boiling_point"), "{:.0f}"),
-                         twa_text=_fmt(s.get("twa_ppm"), "{:.3g}")))
+                         fp_text=num(s.get("flash_point"), "{:.0f}"),
+                         bp_text=num(s.get("boiling_point"), "{:.0f}"),
+                         twa_text=num(s.get("twa_ppm"), "{:.3g}")))
     msg = (f"{len(rows)} of {d['n_candidates']} untried {filters['pool']}, chosen with "
            f"{d['n_samples']} spheres sampled from the graded fit's posterior (seed "
            f"{d['seed']}).")

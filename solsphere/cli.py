@@ -1,18 +1,28 @@
-"""The ``solsphere`` command: a thin layer over the library.
+"""The ``solsphere`` command: the option parser and the error handling.
 
+The subcommands themselves (parse the options, call a workflow, print) are in
+:mod:`solsphere.commands`, imported when a subcommand runs, so that ``--help`` and option
+errors answer at once (the science imports scipy, which takes seconds on a busy machine).
 Every subcommand prints a human table by default and one JSON object with ``--json``.
 Exit codes: 0 success, 2 bad input or usage, 1 internal error (a bug).
-Heavy imports (plotly, dash, scipy) happen inside the subcommands so ``--help`` is instant.
 """
 
 from __future__ import annotations
 
 import argparse
 import json
+import os
 import sys
+import traceback
+from pathlib import Path
 
-from solsphere import limits
+from solsphere import __version__, limits
 from solsphere.errors import FitError, InputError, SolsphereError, numeric_notes
+
+#: The choices of --pool and --rank-by (kept equal to solsphere.library.pools.POOLS and
+#: solsphere.workflows.RANK_CHOICES by a test; the parser must not import them, see main).
+POOLS = ("common", "liquids")
+RANK_CHOICES = ("red", "drying", "cost")
 
 EPILOG = ("Predictions are guides, not guarantees: confirm at the bench. Solvents are "
           "flammable and toxic: read each safety data sheet and work with ventilation and "
@@ -46,11 +56,19 @@ def _count(text: str) -> int:
     return _whole(text, 0)
 
 
-def _port(text: str) -> int:
-    v = _positive_int(text)
-    if v > 65535:
-        raise argparse.ArgumentTypeError(f"expected a port from 1 to 65535, found {v}")
-    return v
+def _at_most(maximum: int, what: str):
+    """An option type: a whole number from 1 to ``maximum`` ``what``."""
+    def parse(text: str) -> int:
+        v = _positive_int(text)
+        if v > maximum:
+            raise argparse.ArgumentTypeError(f"expected at most {maximum} {what}, found {v}")
+        return v
+    return parse
+
+
+_port = _at_most(65535, "(a port number)")
+#: --workers: about one per core is enough.
+_workers = _at_most(64, "worker processes")
 
 
 def _number(text: str) -> float:
@@ -107,7 +125,7 @@ def _add_pool(p, pool: str = "liquids"):
     p.add_argument("--candidates", metavar="SHELF",
                    help="CSV of the solvents you have (column 'solvent', optional dD,dP,dH); "
                         "overrides --pool")
-    p.add_argument("--pool", choices=("common", "liquids"), default=pool,
+    p.add_argument("--pool", choices=POOLS, default=pool,
                    help="candidates without a shelf: 'common' = our curated list of about "
                         "150 solvents in common industrial and lab use (no reagents; "
                         "data/common_solvents.csv); 'liquids' = every liquid in the library "
@@ -182,13 +200,13 @@ def build_parser() -> argparse.ArgumentParser:
                    help="two- or three-solvent blends (default 2)")
     p.add_argument("--max-fraction", action="append", default=[], metavar="NAME=F",
                    help="upper volume-fraction limit for a solvent in 3-component blends, "
-                        "e.g. toluene=0.3 (repeatable)")
+                        "e.g. toluene=0.3 or toluene=30%% (repeatable)")
     p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
                    help="lower volume-fraction limit (repeatable)")
     p.add_argument("--drying", action="store_true",
                    help="simulate evaporation (Raoult's law) and report when the drying "
                         "liquid leaves the sphere")
-    p.add_argument("--rank-by", choices=("red", "drying", "cost"), default="red",
+    p.add_argument("--rank-by", choices=RANK_CHOICES, default="red",
                    help="order: RED (default); drying (with --drying: longest inside "
                         "first); cost (inside blends, cheapest first; needs shelf prices)")
 
@@ -221,320 +239,32 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def _version() -> str:
-    from solsphere import __version__
     return f"solsphere {__version__}"
 
 
 # ---------------------------------------------------------------- shared steps
 
-def load_session(args):
-    """Read FILE (results or project) and return (project, fit dict, library)."""
-    from solsphere.library.table import load_library
-    from solsphere.io.project import load_any
-    from solsphere.workflows import fit_project
-    lib = load_library()
-    project = load_any(args.file, library=lib)
-    fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
-                      method=args.method)
-    # problems that did not stop reading (repeated rows, ignored columns, saved
-    # coordinates used ...) are reported with the fit, not dropped
-    fit.warnings[:0] = [w for w in project.trials.warnings if w not in fit.warnings]
-    return project, fit, lib
+#: Each workflow setting an error can be about, with the option that sets it and a hint.
+SETTING_OPTIONS = {
+    "drying": ("--rank-by", "add --drying"),
+    "rank_by": ("--rank-by", "give --candidates SHELF with columns solvent,price"),
+    "max_fraction": ("--max-fraction", "write e.g. --max-fraction toluene=0.3 or toluene=30%"),
+    "min_fraction": ("--min-fraction", "write e.g. --min-fraction toluene=0.1"),
+    "exclude": ("--exclude", None),
+    "filters": (None, "relax --min-flash-point / --max-boiling-point / --min-boiling-point / "
+                      "--min-exposure-limit / --exclude / --restricted, or add solvents to "
+                      "the shelf (or use --pool liquids)"),
+}
 
 
-def candidate_pool(args, lib, project, *, limits: bool = True):
-    """The pool per the options; ``limits=False`` leaves the flash/boiling point filters
-    to the caller (the blend screen applies them itself and counts what they remove)."""
-    from solsphere.errors import UnknownSolventError
-    from solsphere.workflows import candidate_pool as pool
-    from solsphere.workflows import at_temperature
-    try:
-        solvents, filters = pool(lib, shelf=args.candidates, exclude=_split(args.exclude),
-                                 min_flash_point=args.min_flash_point if limits else None,
-                                 max_boiling_point=args.max_boiling_point if limits else None,
-                                 exclude_carcinogens=args.no_carcinogens,
-                                 min_boiling_point=args.min_boiling_point,
-                                 min_exposure_limit=args.min_exposure_limit,
-                                 restricted=args.restricted, pool=args.pool)
-    except UnknownSolventError as exc:
-        if exc.file is None:  # a name given to --exclude
-            exc.file, exc.column = "<command line>", "--exclude"
-            exc.args = (str(exc),)
-        raise
-    solvents, notes = at_temperature(solvents, args.temperature)
-    if notes:
-        filters["temperature"] = args.temperature
-        filters["temperature_notes"] = notes
-    return solvents, filters
-
-
-def _limits(values, lib, option: str) -> dict[str, float]:
-    """Parse NAME=F fraction limits (names resolved through the library)."""
-    out = {}
-    for v in values or []:
-        name, sep, frac = v.rpartition("=")
-        try:
-            f = float(frac.replace(",", "."))
-        except ValueError:
-            f = None
-        if not sep or not name.strip() or f is None or not 0.0 <= f <= 1.0:
-            raise InputError(f"{option} {v!r} is not NAME=F with F between 0 and 1.",
-                             file="<command line>", column=option,
-                             hint=f"write e.g. {option} toluene=0.3")
-        out[lib.lookup(name.strip()).name] = f
-    return out
-
-
-def _split(values) -> list[str]:
-    out = []
-    for v in values or []:
-        out += [x.strip() for x in v.split(",") if x.strip()]
-    return out
-
-
-def _emit(args, obj, text: str):
-    if args.json:
-        print(json.dumps(obj, ensure_ascii=False, allow_nan=False))
-    else:
-        print(text)
-
-
-# ---------------------------------------------------------------- subcommands
-
-def _progress(args, label: str):
-    """A progress bar on the terminal (none under --json or when not a terminal)."""
-    if args.json or not sys.stderr.isatty():
-        return None
-
-    def show(done: int, total: int) -> None:
-        width = 30
-        k = int(width * done / max(total, 1))
-        sys.stderr.write(f"\r{label} [{'#' * k}{'.' * (width - k)}] {done}/{total}")
-        if done >= total:
-            sys.stderr.write("\n")
-        sys.stderr.flush()
-    return show
-
-
-def _bootstrap(args, project, fit, n: int):
-    from solsphere.uncertainty.bootstrap import bootstrap
-    return bootstrap(project.trials, n_bootstrap=n, seed=args.seed, method=args.method,
-                     partial=fit.partial, bounds=fit.bounds,
-                     progress=_progress(args, "resampling"))
-
-
-def _posterior(args, project, fit, n: int):
-    from solsphere.uncertainty.posterior import sample_posterior
-    return sample_posterior(project.trials, n_samples=n, seed=args.seed,
-                            partial=fit.partial if fit.partial != "ordinal" else "good",
-                            bounds=fit.bounds)
-
-
-def cmd_fit(args) -> int:
-    if args.save:  # say so before the fit, and never open a pipe or device
-        from solsphere.io.files import check_output
-        check_output(args.save, inputs=[args.file])
-    project, fit, lib = load_session(args)
-    obj, text = fit.to_dict(), str(fit)
-    if args.bootstrap:
-        boot = _bootstrap(args, project, fit, args.bootstrap)
-        obj["intervals"] = boot.intervals
-        obj["n_bootstrap"] = boot.n_bootstrap
-        obj["bootstrap"] = boot.to_dict()
-        text += "\n" + str(boot)
-    if args.posterior:
-        post = _posterior(args, project, fit, args.posterior)
-        obj["posterior"] = post.to_dict()
-        text += "\n" + str(post)
-    n_trials = len(project.trials)
-    if not args.no_influence and n_trials * n_trials > limits.current().resample_work:
-        obj["influence"] = None
-        text += (f"\n[[Re-check first]] not computed: {n_trials} results need {n_trials:,}"
-                 f" leave-one-out refits, above the limit of resample work (raise it with "
-                 f"--max-resample-work N, or add --no-influence)")
-    elif not args.no_influence:
-        from solsphere.uncertainty.bootstrap import influence
-        # leave-one-out refits rank the list; the flipped-result refits (the app shows
-        # them) would double the time of every fit
-        inf = influence(project.trials, partial=fit.partial, bounds=fit.bounds, flips=False)
-        rows = inf.to_dict()["influence"]
-        obj["influence"] = rows
-        text += "\n[[Re-check first]] (results whose removal moves the sphere most)\n" + "\n".join(
-            f"    {r['name']}: centre moves {r['shift']:.1f} MPa½, R0 {r['dR0']:+.1f}"
-            if r["shift"] is not None else f"    {r['name']}: {r['note']}"
-            for r in rows[:5])
-    if args.spheres == 2:
-        from solsphere.models.twosphere import fit_two_spheres
-        two = fit_two_spheres(project.trials, partial=fit.partial if fit.partial != "ordinal"
-                              else "good", seed=args.seed)
-        obj["two_spheres"] = two.to_dict()
-        text += "\n" + str(two)
-    if args.save:
-        from solsphere.io.project import save
-        project.fit = fit.to_dict()
-        project.settings["partial"] = fit.partial
-        project.settings["method"] = args.method
-        save(project, args.save)
-        if not args.json:
-            text += f"\nProject saved to {args.save}"
-    _emit(args, obj, text)
-    return 0
-
-
-def cmd_rank(args) -> int:
-    from solsphere.design.ranking import rank_solvents
-    project, fit, lib = load_session(args)
-    pool, filters = candidate_pool(args, lib, project)
-    tested = set(project.trials.names) | {t.cas for t in project.trials if t.cas}
-    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
-    if args.posterior:
-        boot = _posterior(args, project, fit, args.posterior)
-    ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
-                            include_tested=args.include_tested, filters=filters,
-                            temperature_C=_temperature(args), bootstrap=boot)
-    _emit(args, ranking.to_dict(), str(ranking) + "\n" + _pool_line(filters))
-    return 0
-
-
-def cmd_next(args) -> int:
-    from solsphere.uncertainty.nexttrials import suggest_next
-    project, fit, lib = load_session(args)
-    pool, filters = candidate_pool(args, lib, project)
-    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
-    sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
-                        n_samples=args.samples, seed=args.seed,
-                        partial=fit.partial if fit.partial != "ordinal" else "good",
-                        progress=_progress(args, "resampling"))
-    obj = dict(sugg.to_dict(), filters=filters)
-    _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
-    return 0
-
-
-def _pool_line(filters: dict) -> str:
-    """Which candidates were used, for the human output."""
-    other = {"common solvents": " (--pool liquids: every library liquid)",
-             "library liquids": " (--pool common: the curated common solvents)"}
-    return f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
-
-
-def _temperature(args) -> float:
-    return 25.0 if args.temperature is None else args.temperature
-
-
-def cmd_blend(args) -> int:
-    from solsphere.workflows import add_safety_and_drying, blend_notes
-    if args.rank_by == "drying" and not args.drying:  # say so before the long screen
-        raise InputError("ranking by drying needs the drying simulation.",
-                         file="<command line>", hint="add --drying")
-    project, fit, lib = load_session(args)
-    pool, filters = candidate_pool(args, lib, project)  # says so when nothing is left
-    if args.min_flash_point is not None or args.max_boiling_point is not None:
-        # the screen applies the same limits (known and within) and records what each
-        # one removed, so its report counts them truthfully
-        pool, _ = candidate_pool(args, lib, project, limits=False)
-    centre = (fit.dD, fit.dP, fit.dH)
-    if args.rank_by == "cost" and not any(s.price is not None for s in pool):
-        raise InputError("no candidate has a price: ranking by cost needs a shelf file with "
-                         "a price column.", file="<command line>", column="--rank-by",
-                         hint="give --candidates SHELF with columns solvent,price")
-    # ranking by cost or drying looks at every inside blend, not only the nearest
-    top = None if args.rank_by != "red" else args.top
-    limits = dict(min_flash_point=args.min_flash_point, max_boiling_point=args.max_boiling_point,
-                  top=top, only_blends=not args.with_single)
-    if args.components == 3:
-        from solsphere.design.triples import screen_triples, triple_shortlist
-        upper = _limits(args.max_fraction, lib, "--max-fraction")
-        lower = _limits(args.min_fraction, lib, "--min-fraction")
-        short = triple_shortlist(pool, centre, fit.R0, keep=set(upper) | set(lower))
-        if len(short) < len(pool):
-            filters["shortlist"] = (f"{len(short)} of {len(pool)} candidates: the nearest "
-                                    f"and the partners of the best pairs")
-        screen = screen_triples(short, centre, fit.R0, max_fraction=upper,
-                                min_fraction=lower, **limits)
-    else:
-        if args.max_fraction or args.min_fraction:
-            raise InputError("--max-fraction / --min-fraction apply to 3-component blends.",
-                             file="<command line>", hint="add --components 3")
-        from solsphere.design.pairs import screen_blends
-        screen = screen_blends(pool, centre, fit.R0, **limits)
-    screen.filters.update(filters)
-    if top is None:  # keep the work bounded: the inside blends (or the nearest 500)
-        inside = [b for b in screen.blends if b.red <= 1.0]
-        screen.blends = (inside or screen.blends)[:max(500, args.top)]
-    blends = add_safety_and_drying(screen, pool, centre, fit.R0, drying=args.drying,
-                                   temperature_C=_temperature(args),
-                                   rank_by=args.rank_by, top=args.top)
-    _emit(args, dict(screen.to_dict(), blends=blends),
-          str(screen) + blend_notes(blends, args.drying))
-    return 0
-
-
-def cmd_replace(args) -> int:
-    from solsphere.library.table import load_library
-    from solsphere.design.substitution import find_substitutes
-    lib = load_library()
-    target = lib.lookup(args.name)
-    material = None
-    if args.for_material:
-        from solsphere.io.project import load_any
-        from solsphere.workflows import fit_project
-        fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
-                          library=lib)
-        material = ((fit.dD, fit.dP, fit.dH), fit.R0)
-    pool, filters = candidate_pool(args, lib, None)
-    result = find_substitutes(target, pool, top=args.top, n_pairs=max(args.pairs, 0),
-                              material=material)
-    _emit(args, dict(result.to_dict(), filters=filters), str(result))
-    return 0
-
-
-def cmd_share(args) -> int:
-    from solsphere.io.files import atomic_write_text
-    from solsphere.io.files import check_output
-    from solsphere.workflows import share_page
-    check_output(args.output, inputs=[args.file])
-    project, fit, lib = load_session(args)
-    _check_share_target(args.output)
-    page = share_page(project, fit, lib, title=args.title)
-    atomic_write_text(args.output, page)
-    _emit(args, {"output": args.output, "bytes": len(page.encode())},
-          f"Wrote {args.output} ({len(page.encode()) / 1e6:.1f} MB, self-contained, opens offline)")
-    return 0
-
-
-def _check_share_target(path: str) -> None:
-    """Refuse to replace an existing file that is not an HTML page (a results file or a
-    project given to -o by mistake must never be lost)."""
-    from pathlib import Path
-    p = Path(path)
-    if not p.is_file():
-        return  # new file; a folder or a missing folder is reported by the writer
-    try:
-        with open(p, "rb") as fh:
-            head = fh.read(512).lstrip(b"\xef\xbb\xbf").lstrip().lower()
-    except OSError:
-        return
-    if not (head.startswith(b"<!doctype html") or head.startswith(b"<html")):
-        raise InputError("this file exists and is not an HTML page; not overwriting it.",
-                         file=path, hint="choose another name, e.g. one ending in .html")
-
-
-def _workers(text: str) -> int:
-    """--workers: a whole number from 1 to app.server.MAX_WORKERS (64)."""
-    v = _positive_int(text)
-    if v > 64:
-        raise argparse.ArgumentTypeError(f"expected at most 64 worker processes, found {v}")
-    return v
-
-
-def cmd_app(args) -> int:
-    from solsphere.app.server import serve
-    serve(args.file, host=args.host, port=args.port, workers=args.workers)
-    return 0
-
-
-COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
+def located(exc: InputError) -> InputError:
+    """A workflow's neutral error in the command line's words (its option and hint)."""
+    if exc.setting in SETTING_OPTIONS and exc.file is None:
+        option, hint = SETTING_OPTIONS[exc.setting]
+        return exc.located(file="<command line>", column=option, hint=hint)
+    if exc.setting == "filters":
+        return exc.located(hint=SETTING_OPTIONS["filters"][1])
+    return exc
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -544,6 +274,9 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help()
         return 2
     try:
+        # deferred: the subcommands import the science (numpy, scipy: seconds to load)
+        from solsphere.commands import COMMANDS
+
         with limits.limited(**_limits_of(args)):  # for this command only
             if args.command == "app":  # a server: its requests answer for themselves
                 return COMMANDS[args.command](args)
@@ -553,6 +286,8 @@ def main(argv: list[str] | None = None) -> int:
             print(f"solsphere: note: {note}", file=sys.stderr)
         return code
     except SolsphereError as exc:
+        if isinstance(exc, InputError):
+            exc = located(exc)
         text = str(exc)
         where = getattr(args, "file", None) or getattr(args, "for_material", None)
         if isinstance(exc, FitError) and where and where not in text:
@@ -565,8 +300,6 @@ def main(argv: list[str] | None = None) -> int:
     except BrokenPipeError:
         return 0
     except Exception as exc:  # a bug: say so in one line, keep the trace for developers
-        import os
-        import traceback
         if os.environ.get("SOLSPHERE_DEBUG"):
             traceback.print_exc()
         print(f"solsphere: internal error (a bug, please report it): {type(exc).__name__}: {exc}. "

@@ -3,6 +3,12 @@
 Every problem with user input is raised as :class:`InputError` at the edge (reading a
 file, loading a project, parsing the command line). Its message names the place
 (file, line, column), what was found and what would fix it, on one line.
+
+The library speaks in neutral words: an error about a setting (rather than a file) names
+the setting in ``setting`` (e.g. ``"rank_by"``, ``"max_fraction"``) and says what is wrong
+in terms of the data. Each front end adds its own place and hint with
+:meth:`InputError.located` (the command line names its option, the app its field); no
+front end parses an error's text.
 """
 
 from __future__ import annotations
@@ -30,16 +36,37 @@ class InputError(SolsphereError, ValueError):
         1-based column number, or the column's name.
     hint : str or None, default=None
         What would fix it.
+    setting : str or None, default=None
+        The setting the problem is about, in the library's own words (a keyword argument
+        of the workflow, e.g. ``"rank_by"``), for front ends to name their own control.
     """
 
     def __init__(self, message: str, file: str | None = None, line: int | None = None,
-                 column: int | str | None = None, hint: str | None = None):
+                 column: int | str | None = None, hint: str | None = None,
+                 setting: str | None = None):
         self.message = message
         self.file = file
         self.line = line
         self.column = column
         self.hint = hint
+        self.setting = setting
         super().__init__(self.__str__())
+
+    def located(self, *, file=None, column=None, hint=None) -> "InputError":
+        """This error with a front end's place and hint filled in where still empty.
+
+        >>> e = InputError("ranking by drying needs the drying simulation.", setting="drying")
+        >>> str(e.located(file="<command line>", column="--rank-by", hint="add --drying"))
+        '<command line>, column --rank-by: ranking by drying needs the drying simulation. Fix: add --drying'
+        """
+        if self.file is None and file is not None:
+            self.file = file
+        if self.column is None and column is not None:
+            self.column = column
+        if hint is not None and self.hint is None:
+            self.hint = hint
+        self.args = (self.__str__(),)
+        return self
 
     def where(self) -> str:
         parts = []
@@ -61,7 +88,8 @@ class InputError(SolsphereError, ValueError):
 
     def to_dict(self) -> dict:
         return {"error": str(self), "file": self.file, "line": self.line,
-                "column": self.column, "message": self.message, "hint": self.hint}
+                "column": self.column, "message": self.message, "hint": self.hint,
+                "setting": self.setting}
 
 
 class UnknownSolventError(InputError):

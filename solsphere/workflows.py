@@ -1,17 +1,59 @@
-"""One working session: a project's trials fitted, the candidate pool chosen, the share page.
+"""The steps the command line, the app and a notebook share.
 
-These steps are shared by the command line and the app, so both stay thin and neither
-recomputes what the library returns.
+Each front end parses its own input (options, form fields, arguments) and then calls one
+of these functions; none re-implements a rule that another applies:
+
+- :func:`fit_project` — a project's trials fitted (classic or graded) with its settings;
+- :func:`candidate_pool` — the one pool rule: library liquids, the curated common solvents,
+  a shelf or ticked solvents, filtered (:func:`solsphere.library.pools.apply_filters`),
+  restricted solvents removed, shifted to a process temperature;
+- :func:`parse_fraction_limits` — the one reader of per-solvent share limits;
+- :func:`design_blends` — the one blend workflow (pairs or triples, limits, flash point,
+  price, drying, ranking order);
+- :func:`find_replacements` — replacements for a solvent from a pool.
+
+Errors are raised in neutral words (:class:`~solsphere.errors.InputError` with ``setting``
+naming the keyword argument); each front end adds its own place and hint.
 """
 
 from __future__ import annotations
 
+import dataclasses
+from dataclasses import dataclass, field
+from typing import Any, Iterable
+
+import numpy as np
+
+from solsphere import hansen as hsp
+from solsphere.design.pairs import may_not_mix, screen_blends
+from solsphere.design.ranking import CAUTION
+from solsphere.design.substitution import Substitution, find_substitutes
+from solsphere.design.triples import screen_triples, triple_shortlist
 from solsphere.errors import InputError
+from solsphere.formatting import blend_label, split_names
+from solsphere.io.shelf import read_shelf
+from solsphere.library.pools import POOLS, apply_filters
+from solsphere.library.table import Library
+from solsphere.mixtures.drying import drying_path, volume_to_mole_fractions
+from solsphere.mixtures.flash import blend_flash_point, vapour_pressure
+from solsphere.models.base import SPREAD_WARN  # noqa: F401  (re-exported for callers)
+from solsphere.models.classic import SphereModel
+from solsphere.models.graded import GradedSphereModel
+from solsphere.results import Result
 from solsphere.limits import check_temperature
 
-SPREAD_WARN = 1.0  # MPa½: compilations disagreeing by more than this earn a warning (common practice, no source)
+__all__ = ["fit_project", "candidate_pool", "at_temperature", "parse_fraction_limits",
+           "design_blends", "BlendDesign", "add_safety_and_drying", "blend_notes",
+           "find_replacements", "RANK_CHOICES", "RERANK_POOL", "CAUTION"]
+
+#: Orders a blend list can take.
+RANK_CHOICES = ("red", "drying", "cost")
+#: With ranking by cost or drying, the blends nearest the centre that are looked at (the
+#: inside ones among them are re-ranked): bounded work whatever the pool.
+RERANK_POOL = 500
 
 
+# ----------------------------------------------------------------------------- fit
 def fit_project(project, partial: str | None = None, library=None, seed: int = 0,
                 method: str = "classic"):
     """Fit the sphere to a project's trials.
@@ -23,57 +65,45 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
     partial : {"good", "bad", "skip"} or None, default=None
         How to count 'partly' results; None takes the project's setting, else "good".
     library : Library or None
-        Used to add a warning when compilations disagree for a tested solvent.
+        Unused (kept for callers that pass it); the trials carry their library records.
     method : {"classic", "graded"}, default="classic"
-        Hansen's desirability fit, or the graded (probabilistic) boundary of
-        :mod:`solsphere.graded`, where 'partly' results are their own middle class
-        unless ``partial`` says otherwise.
+        Hansen's desirability fit, or the graded (probabilistic) boundary, where 'partly'
+        results are their own middle class unless ``partial`` says otherwise.
 
     Returns
     -------
-    SphereFit or GradedFit
+    SphereFitResult or GradedFitResult
+        With the trials' reading warnings and the "compilations disagree" warnings.
     """
-    from solsphere.models.classic import SphereModel
     if method not in ("classic", "graded"):
         raise ValueError(f"method must be 'classic' or 'graded'; found {method!r}")
     if method == "graded":
-        partial = partial or "ordinal"
+        return GradedSphereModel(partial=partial or "ordinal", seed=seed).fit(
+            project.trials).result_
     partial = partial or project.settings.get("partial") or "good"
-    warnings = []
-    for t in project.trials:
-        s = getattr(t, "solvent", None)
-        if s is not None and s.spread is not None and s.spread > SPREAD_WARN and t.source == "library":
-            warnings.append(f"the compilations disagree by {s.spread:.1f} MPa½ for {t.name} "
-                            f"(line {t.line}); its coordinates are less certain")
-    if method == "graded":
-        from solsphere.models.graded import GradedModel
-        result = GradedModel(partial=partial, seed=seed).fit(project.trials).result_
-        result.warnings.extend(warnings)
-        return result
-    model = SphereModel(partial=partial, seed=seed).fit(project.trials, warnings=warnings)
-    return model.result_
+    return SphereModel(partial=partial, seed=seed).fit(project.trials).result_
 
 
+# ----------------------------------------------------------------------------- pool
 def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_point=None,
                    max_boiling_point=None, exclude_carcinogens: bool = False,
                    min_boiling_point=None, min_exposure_limit=None, restricted: str | None = None,
-                   liquid_only: bool | None = None, pool: str = "liquids"):
-    """The solvents to rank or blend: the library's liquids, the curated common solvents
-    or a user's shelf, filtered.
+                   liquid_only: bool | None = None, pool: str = "liquids",
+                   ticked: Iterable[str] | None = None, temperature: float | None = None,
+                   limits: bool = True):
+    """The solvents to rank, blend or test: the one pool rule of every front end.
 
     Parameters
     ----------
     library : Library
     shelf : str or None
-        A shelf file (the user's solvents); None means the library, per ``pool``.
+        A shelf file (the user's solvents); it overrides ``pool``.
     exclude : iterable of str
         Names, CAS numbers or abbreviations to leave out.
     min_flash_point, max_boiling_point, min_boiling_point : float or None
         Limits [°C]; a solvent whose value is unknown does not pass an active limit.
-        For blends a minimum flash point on every component is the conservative rule:
-        for ideal mixtures the blend's flash point is not below its lowest component's,
-        so requiring each component to pass keeps the blend at or above the limit
-        (non-ideal blends can flash lower: see :mod:`solsphere.flash`).
+        For blends a minimum flash point on every component is the conservative rule for
+        ideal mixtures (non-ideal blends can flash lower: see :mod:`solsphere.mixtures.flash`).
     exclude_carcinogens : bool
         Leave out solvents with any carcinogen classification.
     min_exposure_limit : float or None
@@ -82,96 +112,105 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
     restricted : str or None
         A file listing restricted solvents (column ``solvent``), all left out.
     liquid_only : bool or None
-        Keep only liquids at 25 °C; None means yes for the library, no for a shelf.
+        Keep only liquids at 25 °C; None means yes for the library, no for a shelf or
+        ticked solvents.
     pool : {"liquids", "common"}, default="liquids"
-        Without a shelf: every compound of the library (its liquids, with
-        ``liquid_only``), or only those on the curated list of common solvents
-        (:meth:`Library.common`; reagents left out). A shelf overrides it.
+        Without a shelf or ticked solvents: every library liquid, or only the curated
+        common solvents (:meth:`Library.common`; reagents left out).
+    ticked : iterable of str or None
+        Library solvents picked by name (at least two); overrides ``pool``.
+    temperature : float or None
+        Process temperature [°C]: coordinates shifted there (:func:`at_temperature`).
+    limits : bool, default=True
+        False leaves ``min_flash_point`` and ``max_boiling_point`` to the caller (the blend
+        screens apply them and record what each one removed), after checking that
+        something passes them.
 
     Returns
     -------
     pool : list of Solvent
     filters : dict
-        What was applied, for the record.
+        What was applied, for the record (and ``temperature_notes`` when shifted).
+
+    Raises
+    ------
+    InputError
+        Nothing left after the filters (``setting="filters"``), fewer than two ticked
+        solvents (``setting="ticked"``), or an unknown name (``setting="exclude"``).
     """
-    from solsphere.library.pools import POOLS
-    from solsphere.library.table import Library
-    from solsphere.io.shelf import read_shelf
     if pool not in POOLS:
         raise ValueError(f"pool must be one of {', '.join(map(repr, POOLS))}; found {pool!r}")
-    common = pool == "common" and not shelf
-    filters = {"pool": shelf or ("common solvents" if common else "library liquids"),
-               "exclude": list(exclude),
+    ticked = list(ticked) if ticked is not None else None
+    common = pool == "common" and not shelf and ticked is None
+    if shelf:
+        label = shelf
+    elif ticked is not None:
+        label = f"{len(ticked)} ticked solvents"
+    else:
+        label = "common solvents" if common else "library liquids"
+    filters = {"pool": label, "exclude": list(exclude),
                "min_flash_point": min_flash_point, "max_boiling_point": max_boiling_point,
                "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
                "exclude_carcinogens": exclude_carcinogens, "restricted": restricted}
     if shelf:
         base = Library.from_records(read_shelf(shelf, library))
+    elif ticked is not None:
+        base = Library.from_records([library.lookup(n) for n in ticked])
+        if len(base) < 2:
+            raise InputError("at least two ticked solvents are needed to combine.",
+                             setting="ticked")
     else:
         base = library.common() if common else library
     if liquid_only is None:
-        liquid_only = not shelf
+        liquid_only = not shelf and ticked is None
     # a shelf's own solvents by their shelf names; everything else through the full
     # library, so abbreviations (MEK) work on shelves too
-    names = {((base.find(n) if shelf else None) or library.lookup(n)).name for n in exclude}
+    try:
+        names = {((base.find(n) if shelf else None) or library.lookup(n)).name
+                 for n in exclude}
+    except InputError as exc:
+        exc.setting = exc.setting or "exclude"
+        raise
     if restricted:
         banned = {s.name for s in read_shelf(restricted, library)}
         filters["restricted_names"] = sorted(banned)
         names |= banned
-    pool = base.select(liquid_only=liquid_only, min_flash_point=min_flash_point,
-                       max_boiling_point=max_boiling_point,
-                       exclude_carcinogens=exclude_carcinogens, exclude=())
-    pool = [s for s in pool if s.name not in names]
-    if min_boiling_point is not None:
-        pool = [s for s in pool if s.boiling_point is not None and s.boiling_point >= min_boiling_point]
-    if min_exposure_limit is not None:
-        pool = [s for s in pool if s.twa_ppm is None or s.twa_ppm >= min_exposure_limit]
-    if not pool:
+    kept = base.select(liquid_only=liquid_only, exclude_carcinogens=exclude_carcinogens).records
+    from_filter = apply_pool_filters(kept, names, min_flash_point, max_boiling_point,
+                                     min_boiling_point, min_exposure_limit)
+    if not from_filter:
         raise InputError("no candidate solvent is left after the filters "
-                         f"({_describe(filters)}).", file=shelf,
-                         hint="relax --min-flash-point / --max-boiling-point / "
-                              "--min-boiling-point / --min-exposure-limit / --exclude / "
-                              "--restricted, or add solvents to the shelf"
-                              + (" (or use --pool liquids)" if common else ""))
-    return list(pool), filters
+                         f"({describe_filters(filters)}).", file=shelf, setting="filters")
+    solvents = from_filter if limits else apply_pool_filters(
+        kept, names, None, None, min_boiling_point, min_exposure_limit)
+    solvents, notes = at_temperature(solvents, temperature)
+    if notes:
+        filters["temperature"] = temperature
+        filters["temperature_notes"] = notes
+    return solvents, filters
 
 
-def _describe(filters: dict) -> str:
+def apply_pool_filters(solvents, names, min_flash_point, max_boiling_point, min_boiling_point,
+                       min_exposure_limit) -> list:
+    """:func:`solsphere.library.pools.apply_filters` with the pool's settings."""
+    return apply_filters(
+        solvents, exclude_names=names, min_flash_point=min_flash_point,
+        max_boiling_point=max_boiling_point, min_boiling_point=min_boiling_point,
+        min_exposure_limit=min_exposure_limit).kept
+
+
+def describe_filters(filters: dict) -> str:
+    """The active filters as ``key=value`` text, or "none"."""
     parts = [f"{k}={v}" for k, v in filters.items() if v not in (None, False, [], ())]
     return ", ".join(parts) or "none"
-
-
-def share_page(project, fit, library, title: str | None = None, n_blends: int = 5) -> str:
-    """The standalone HTML page for a fitted project: 3D map (with the best blends and
-    their drying paths), the projections, and the reports."""
-    from solsphere.report import figures
-    from solsphere.design.pairs import screen_blends
-    from solsphere.design.ranking import CAUTION, rank_solvents
-    pool, _ = candidate_pool(library)
-    tested = set(project.trials.names)
-    centre = (fit.dD, fit.dP, fit.dH)
-    ranking = rank_solvents(pool, centre, fit.R0, tested=tested)
-    blends = screen_blends(pool, centre, fit.R0, top=n_blends)
-    bl = add_safety_and_drying(blends, pool, centre, fit.R0, drying=True)
-    paths = [{"points": b["drying"]["points"],
-              "label": "drying: " + " + ".join(b["solvents"])}
-             for b in bl if b.get("drying")]
-    fd = fit.to_dict()
-    fig3 = figures.map3d(fd, untried=ranking.to_dict()["solvents"], blends=bl, paths=paths)
-    fig2 = figures.projections(fd, blends=bl)
-    top = rank_solvents(pool, centre, fit.R0, top=15, tested=tested)
-    title = title or f"Hansen solubility sphere — {project.trials.source}"
-    return figures.share_html(fig3, fig2, str(fit), title=title, caution=CAUTION,
-                              extra_sections=[("Untried solvents nearest the sphere", str(top)),
-                                              ("Blends", str(blends) + blend_notes(bl, True))])
 
 
 def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0):
     """The pool's coordinates shifted to a process temperature.
 
-    Uses the Hansen–Beerbower relations (:func:`solsphere.hsp.shift_to_temperature`)
+    Uses the Hansen–Beerbower relations (:func:`solsphere.hansen.shift_to_temperature`)
     with each solvent's thermal expansion coefficient from the library. A solvent without
-    an expansion coefficient keeps its 25 °C values and is listed in the returned notes.
+    an expansion coefficient keeps its 25 °C values and is counted in the returned notes.
     The material's sphere is kept as fitted at the bench temperature (its own shift is
     unknown): the comparison is a guide, not a prediction at temperature.
 
@@ -180,11 +219,6 @@ def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0)
     pool : list of Solvent
     notes : list of str
     """
-    import dataclasses
-
-    import numpy as np
-
-    from solsphere import hansen as hsp
     temperature_C = check_temperature(temperature_C)
     if temperature_C is None or abs(temperature_C - reference_C) < 1e-12:
         return list(pool), []
@@ -204,27 +238,201 @@ def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0)
     return out, notes
 
 
+# ----------------------------------------------------------------------------- limits
+def _share(text: str) -> tuple[str, str] | None:
+    """Split 'NAME=SHARE', 'NAME: SHARE' or 'NAME SHARE' (linear time, no regex)."""
+    item = text.strip()
+    for sep in ("=", ":"):
+        if sep in item:
+            name, _, value = item.rpartition(sep)
+            return name.strip(), value.strip()
+    name, _, value = item.rpartition(" ")
+    return (name.strip(), value.strip()) if name.strip() else None
+
+
+def parse_fraction_limits(items, library, names: Iterable[str] = (),
+                          setting: str = "max_fraction") -> dict[str, float]:
+    """Per-solvent volume-fraction limits: ``"toluene=0.3"``, ``"toluene=30%"``,
+    ``"toluene 30"`` -> ``{"toluene": 0.3}``.
+
+    ``items`` is a list of such texts or one comma-separated text. A share is a fraction
+    (0 to 1) or a percentage (``30%``, or a number above 1 read as percent). Names are
+    resolved through ``names`` (as typed, case-insensitive) or the library.
+
+    >>> from solsphere.library.table import Solvent
+    >>> lib = Library([Solvent("toluene", 18.0, 1.4, 2.0, cas="108-88-3")])
+    >>> parse_fraction_limits(["toluene=30%"], lib), parse_fraction_limits("toluene 0.5", lib)
+    ({'toluene': 0.3}, {'toluene': 0.5})
+
+    Raises
+    ------
+    InputError
+        An item without a share, a share outside 0-100 %, or an unknown name, with
+        ``setting`` naming the limit.
+    """
+    by_key = {n.casefold(): n for n in names}
+    out: dict[str, float] = {}
+    for item in split_names(items):
+        parts = _share(item)
+        value = None
+        if parts and parts[0]:
+            raw = parts[1]
+            percent = raw.endswith("%")
+            try:
+                value = float(raw.rstrip("%").strip().replace(",", "."))
+            except ValueError:
+                value = None
+        if value is None or value != value:
+            raise InputError(f"{item[:80]!r} is not a solvent and a share (e.g. toluene=0.3 "
+                             "or toluene=30%).", setting=setting)
+        frac = value / 100.0 if (percent or value > 1.0) else value
+        if not 0.0 <= frac <= 1.0:
+            raise InputError(f"the share {raw[:20]} for {parts[0][:60]} is not between 0 and "
+                             "100 %.", setting=setting)
+        name = parts[0]
+        try:
+            key = by_key.get(name.casefold()) or library.lookup(name).name
+        except InputError as exc:
+            exc.setting = setting
+            raise
+        out[key] = frac
+    return out
+
+
+# ----------------------------------------------------------------------------- blends
+@dataclass
+class BlendDesign(Result):
+    """Result of :func:`design_blends`: the screen, its blends with their flash point,
+    price and drying facts in the final order, and notes about the run."""
+
+    screen: Any
+    blends: list
+    notes: list = field(default_factory=list)
+    components: int = 2
+    rank_by: str = "red"
+    drying: bool = False
+    n_pool: int = 0
+
+    rows_key = "blends"
+
+    @property
+    def n_screened(self) -> int:
+        s = self.screen
+        return int(getattr(s, "n_triples_screened", None) or getattr(s, "n_pairs_screened", 0))
+
+    def to_dict(self) -> dict:
+        return dict(self.screen.to_dict(), blends=self.blends, notes=list(self.notes),
+                    rank_by=self.rank_by)
+
+    def __str__(self) -> str:
+        text = str(self.screen) + blend_notes(self.blends, self.drying)
+        if self.notes:
+            text += "\n\nNotes:\n" + "\n".join(f"  - {n}" for n in self.notes)
+        return text
+
+
+def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: str = "red",
+                  drying: bool = False, max_fraction=None, min_fraction=None,
+                  with_single: bool = False, **pool_options) -> BlendDesign:
+    """The one blend workflow: pool, screen (pairs or triples), safety and drying, order.
+
+    Parameters
+    ----------
+    fit : result or dict
+        The fitted sphere (``dD``, ``dP``, ``dH``, ``R0`` as attributes or keys).
+    library : Library
+    components : {2, 3}, default=2
+    top : int, default=20
+    rank_by : {"red", "drying", "cost"}, default="red"
+        "drying" needs ``drying``; "cost" needs prices (a shelf with a price column).
+        Ranking by drying or cost looks at the :data:`RERANK_POOL` blends nearest the
+        centre and orders the inside ones among them.
+    drying : bool, default=False
+        Simulate each blend's drying path (vapour pressures at the pool's temperature).
+    max_fraction, min_fraction : list of str, str or dict, default=None
+        Per-solvent share limits for three-solvent blends (:func:`parse_fraction_limits`);
+        with two components they are noted and not used.
+    with_single : bool, default=False
+        Also list pairs whose best mix is one solvent alone.
+    **pool_options
+        Passed to :func:`candidate_pool` (``pool``, ``shelf``, ``ticked``, ``exclude``,
+        ``min_flash_point``, ``max_boiling_point``, ``temperature`` ...).
+
+    Returns
+    -------
+    BlendDesign
+    """
+    if rank_by not in RANK_CHOICES:
+        raise ValueError(f"rank_by must be one of {RANK_CHOICES}; found {rank_by!r}")
+    if int(components) not in (2, 3):
+        raise ValueError(f"components must be 2 or 3; found {components!r}")
+    if rank_by == "drying" and not drying:
+        raise InputError("ranking by drying needs the drying simulation.", setting="drying")
+    get = fit.get if isinstance(fit, dict) else lambda k: getattr(fit, k)
+    centre, R0 = (get("dD"), get("dP"), get("dH")), get("R0")
+    pool, filters = candidate_pool(library, limits=False, **pool_options)
+    if rank_by == "cost" and not any(s.price is not None for s in pool):
+        raise InputError("ranking by cost needs prices, and no candidate has one (a shelf "
+                         "file with a price column gives them).", setting="rank_by")
+    notes = list(filters.get("temperature_notes") or [])
+    top = int(top)
+    screen_top = top if rank_by == "red" else max(RERANK_POOL, top)
+    limits = dict(min_flash_point=pool_options.get("min_flash_point"),
+                  max_boiling_point=pool_options.get("max_boiling_point"),
+                  top=screen_top, only_blends=not with_single)
+    if int(components) == 3:
+        names = [s.name for s in pool]
+        upper = (dict(max_fraction) if isinstance(max_fraction, dict) else
+                 parse_fraction_limits(max_fraction, library, names, "max_fraction"))
+        lower = (dict(min_fraction) if isinstance(min_fraction, dict) else
+                 parse_fraction_limits(min_fraction, library, names, "min_fraction"))
+        short = triple_shortlist(pool, centre, R0, keep=set(upper) | set(lower))
+        if len(short) < len(pool):
+            filters["shortlist"] = (f"{len(short)} of {len(pool)} candidates: the nearest "
+                                    f"and the partners of the best pairs")
+            notes.append(f"three-solvent blends from a shortlist of {len(short)} of "
+                         f"{len(pool)} candidates (the nearest the sphere centre and the "
+                         f"partners of the best pairs; all triples would be too many)")
+        screen = screen_triples(short, centre, R0, max_fraction=upper, min_fraction=lower,
+                                **limits)
+        if screen.filters.get("n_infeasible"):
+            notes.append(f"{screen.filters['n_infeasible']} triples cannot meet the fraction "
+                         "limits together and were left out")
+    else:
+        if split_names(max_fraction) or split_names(min_fraction):
+            notes.append("share limits apply to three-solvent blends only; not used for pairs")
+        screen = screen_blends(pool, centre, R0, **limits)
+    screen.filters.update(filters)
+    if rank_by != "red":  # order the inside blends among those looked at
+        inside = [b for b in screen.blends if b.red <= 1.0]
+        screen.blends = inside or screen.blends
+    blends = add_safety_and_drying(screen, pool, centre, R0, drying=drying,
+                                   temperature_C=pool_options.get("temperature") or 25.0,
+                                   rank_by=rank_by, top=top)
+    return BlendDesign(screen=screen, blends=blends, notes=notes, components=int(components),
+                       rank_by=rank_by, drying=drying,
+                       n_pool=len(apply_pool_filters(pool, (), limits["min_flash_point"],
+                                                     limits["max_boiling_point"], None, None)))
+
+
 def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
                           temperature_C: float = 25.0, rank_by: str = "red",
                           top: int | None = None):
     """Attach the blend flash-point estimate (and, asked for, the drying path) to each blend.
 
     Each blend's dict (``screen.to_dict()``) then carries ``flash_point_estimate``,
-    ``price_per_litre`` (Σ volume fraction × price, when the shelf gives every price) and,
-    with ``drying``, ``drying`` (the :class:`~solsphere.drying.DryingPath` dict).
-    ``rank_by`` re-sorts: "red" (as screened), "drying" (those that stay inside longest
-    first) or "cost" (blends inside the sphere, cheapest first, those whose components may
-    not mix after the others; then the rest by RED).
-    ``screen.blends`` is put in the same order and cut to ``top``.
+    ``may_not_mix``, ``price_per_litre`` (Σ volume fraction × price, when every component
+    has a price) and, with ``drying``, ``drying`` (the
+    :class:`~solsphere.mixtures.drying.DryingPath` dict). ``rank_by`` re-sorts: "red" (as
+    screened), "drying" (those that stay inside longest first) or "cost" (blends inside
+    the sphere, cheapest first, those whose components may not mix after the others;
+    then the rest by RED). ``screen.blends`` is put in the same order and cut to ``top``.
 
     Returns
     -------
     list of dict
         The blends as dicts, in the final order.
     """
-    from solsphere.design.pairs import may_not_mix
-    from solsphere.mixtures.drying import drying_path, volume_to_mole_fractions
-    from solsphere.mixtures.flash import blend_flash_point, vapour_pressure
     by_name = {s.name: s for s in pool}
     out = []
     for b in screen.blends:
@@ -256,15 +464,13 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
         out.append((b, d))
     if rank_by == "drying":
         if not drying:
-            raise InputError("ranking by drying needs the drying simulation.",
-                             file="<command line>", hint="add --drying")
+            raise InputError("ranking by drying needs the drying simulation.", setting="drying")
         out.sort(key=lambda bd: -(bd[1]["drying_inside_until"]
                                   if bd[1]["drying_inside_until"] is not None else -1.0))
     elif rank_by == "cost":
         if not any(d["price_per_litre"] is not None for _, d in out):
-            raise InputError("no blend has a price: ranking by cost needs a shelf file with "
-                             "a price column.", file="<command line>",
-                             hint="give --candidates SHELF with columns solvent,price")
+            raise InputError("ranking by cost needs prices, and no blend has one (a shelf "
+                             "file with a price column gives them).", setting="rank_by")
         out.sort(key=lambda bd: (bd[1]["red"] > 1.0, bd[1]["may_not_mix"],
                                  bd[1]["price_per_litre"] is None,
                                  bd[1]["price_per_litre"] or 0.0, bd[1]["red"]))
@@ -279,7 +485,6 @@ def blend_notes(blends: list[dict], drying: bool) -> str:
     """Flash-point estimates and drying outcomes, one line per blend."""
     lines = []
     for k, b in enumerate(blends, 1):
-        label = " + ".join(f"{100 * f:.0f}% {n}" for n, f in zip(b["solvents"], b["volume_fractions"]))
         parts = []
         if b.get("price_per_litre") is not None:
             parts.append(f"price ≈ {b['price_per_litre']:.2f} per litre")
@@ -297,7 +502,38 @@ def blend_notes(blends: list[dict], drying: bool) -> str:
             else:
                 parts.append(f"drying: leaves the sphere at {100 * d['leaves_at']:.0f}% evaporated")
         if parts:
-            lines.append(f"  {k}. {label}: " + "; ".join(parts))
+            lines.append(f"  {k}. {blend_label(b['solvents'], b['volume_fractions'])}: "
+                         + "; ".join(parts))
     if not lines:
         return ""
     return "\n\nFlash point and drying (estimates, not measurements):\n" + "\n".join(lines)
+
+
+# ----------------------------------------------------------------------------- replace
+def find_replacements(library, name: str, *, fit=None, top: int = 10, n_pairs: int = 5,
+                      **pool_options) -> Substitution:
+    """Solvents and pairs that can take the place of ``name``, from the pool.
+
+    Parameters
+    ----------
+    library : Library
+    name : str
+        The solvent to replace (name, CAS number or abbreviation).
+    fit : result or dict or None
+        A fitted sphere: rank by behaviour towards that material.
+    top, n_pairs : int
+    **pool_options
+        Passed to :func:`candidate_pool`.
+    """
+    target = library.lookup(name.strip())
+    pool, filters = candidate_pool(library, **pool_options)
+    material = None
+    if fit is not None:
+        get = fit.get if isinstance(fit, dict) else lambda k: getattr(fit, k)
+        material = ((get("dD"), get("dP"), get("dH")), get("R0"))
+    result = find_substitutes(target, pool, top=int(top), n_pairs=max(int(n_pairs), 0),
+                              material=material)
+    result.filters = filters
+    return result
+
+

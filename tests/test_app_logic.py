@@ -12,14 +12,12 @@ import json
 
 import pytest
 
+from solsphere.workflows import parse_fraction_limits
+
 from solsphere.app import blendlogic, logic, uncertainty
 from solsphere.errors import InputError
 from solsphere.library.table import load_library
 
-
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
 
 
 @pytest.fixture(scope="module")
@@ -344,15 +342,17 @@ def test_three_component_designer_is_the_triple_screen_of_the_shortlist(demo_res
 
 
 def test_share_limits_hold_and_bad_limits_say_how_to_write_them(demo_result, lib):
+    # the one parser of share limits, shared with the command line
     names = ["toluene", "ethanol"]
-    assert blendlogic.parse_fraction_limits("toluene=30%, ethanol 0.5", names, lib, "at most") == \
+    assert parse_fraction_limits("toluene=30%, ethanol 0.5", lib, names) == \
         {"toluene": 0.3, "ethanol": 0.5}
-    assert blendlogic.parse_fraction_limits("MEK: 20", [], lib, "at least") == \
+    assert parse_fraction_limits("MEK: 20", lib, [], "min_fraction") == \
         {lib.lookup("MEK").name: 0.2}
-    with pytest.raises(InputError, match="toluene=30%"):
-        blendlogic.parse_fraction_limits("toluene", names, lib, "at most")
+    with pytest.raises(InputError, match="toluene=30%") as info:
+        parse_fraction_limits("toluene", lib, names)
+    assert info.value.setting == "max_fraction"
     with pytest.raises(InputError, match="between 0 and 100"):
-        blendlogic.parse_fraction_limits("toluene=130%", names, lib, "at most")
+        parse_fraction_limits("toluene=130%", lib, names)
     out = blendlogic.blend_designer(demo_result, lib, components=3, pool_choice="ticked",
                                     ticked=["toluene", "ethanol", "acetone", "water", "MEK"],
                                     max_fraction="toluene=20%", min_fraction="ethanol=10%",

@@ -35,10 +35,6 @@ from solsphere.library.table import load_library
 pytestmark = pytest.mark.skipif(sys.platform == "win32", reason="gunicorn is Unix only")
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def projects(lib):

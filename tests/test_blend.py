@@ -324,11 +324,11 @@ def test_to_dict_contract_and_json():
     assert "flash pt" in text and "two non-solvents" in text
 
 
-def test_component_flags_are_the_librarys_with_names():
+def testcomponent_flags_are_the_librarys_with_names():
     from solsphere.library.table import hazard_flags
     hot = _solv("hot", A, flash_point=-18.0)
     safe = _solv("safe", B, flash_point=95.0, twa_ppm=100.0)
-    flags = blend_mod._component_flags([hot, safe])
+    flags = blend_mod.component_flags([hot, safe])
     assert flags == [f"hot: {t}" for t in hazard_flags(hot)] + [f"safe: {t}" for t in hazard_flags(safe)]
     assert any("highly flammable" in t for t in flags)
 

@@ -1,4 +1,4 @@
-"""Tests for solsphere.cli: the command-line contract (CONVENTIONS.md, "Command line").
+"""Tests for solsphere.cli: the command-line contract (DEVELOPERS.md, "Conventions": the command line).
 
 Most calls run ``solsphere.cli.main([...])`` in-process; a few run the installed
 ``solsphere`` script in a subprocess to check real exit codes and imports. Every file
@@ -21,7 +21,7 @@ from pathlib import Path
 
 import pytest
 
-from solsphere import cli
+from solsphere import cli, commands
 
 from solsphere.io import files as fileio
 from solsphere.library.table import load_library
@@ -76,10 +76,6 @@ def one_error_line(err: str) -> str:
 def red_of(p, c, R0) -> float:
     return math.sqrt(4 * (p[0] - c[0]) ** 2 + (p[1] - c[1]) ** 2 + (p[2] - c[2]) ** 2) / R0
 
-
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
 
 
 @pytest.fixture(scope="module")
@@ -273,7 +269,7 @@ def test_internal_error_is_exit_1_one_line(monkeypatch, work):
     def boom(args):
         raise RuntimeError("simulated bug")
 
-    monkeypatch.setitem(cli.COMMANDS, "fit", boom)
+    monkeypatch.setitem(commands.COMMANDS, "fit", boom)
     monkeypatch.delenv("SOLSPHERE_DEBUG", raising=False)
     rc, out, err = run(["fit", work["dir"] / "small.csv"])
     assert rc == 1
@@ -545,3 +541,10 @@ def test_help_under_importtime_loads_no_heavy_modules():
     assert "import time:" in p.stderr  # importtime really ran
     heavy = [ln for ln in p.stderr.splitlines() if re.search(r"\b(plotly|dash|scipy)\b", ln)]
     assert heavy == []
+
+
+def test_parser_choices_match_the_library():
+    # the parser keeps its own copy of the choices so that --help imports no science
+    from solsphere.library.pools import POOLS
+    from solsphere.workflows import RANK_CHOICES
+    assert cli.POOLS == POOLS and cli.RANK_CHOICES == RANK_CHOICES

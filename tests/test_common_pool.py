@@ -35,10 +35,6 @@ LEFT_OUT = ("benzene", "carbon tetrachloride", "1,1,1-trichloroethane", "trichlo
             "2-ethoxyethanol", "1-methylnaphthalene", "phenylhydrazine", "benzoyl chloride")
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def entries():

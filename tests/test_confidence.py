@@ -13,10 +13,11 @@ import numpy as np
 import pytest
 from scipy.special import expit
 
-from solsphere.uncertainty.bootstrap import (WARM_SEARCH, Bootstrap, binary_data, bootstrap,
-                                  influence, resample_counts)
+from solsphere.models.base import binary_data
+from solsphere.uncertainty.bootstrap import (WARM_SEARCH, Bootstrap, bootstrap, influence,
+                                             resample_counts)
 from solsphere.errors import FitError
-from solsphere.models.classic import default_bounds, desirability, fit_sphere
+from solsphere.models.classic import default_bounds, desirability, best_sphere
 from solsphere.hansen import ra
 
 
@@ -147,11 +148,11 @@ def test_warm_refits_find_the_optimum_like_full_refits():
     # at most 2 of 24 worse than 1e-3, and the same spread of the centres.
     X, g = panel(7)
     box = default_bounds(X)
-    c0, _, _ = fit_sphere(X, g)
+    c0, _, _ = best_sphere(X, g)
     W = resample_counts(g, 24, np.random.default_rng(5))
-    warm = [fit_sphere(X, g, weights=w, bounds=box, seed=i, start=c0[None], **WARM_SEARCH)
+    warm = [best_sphere(X, g, weights=w, bounds=box, seed=i, start=c0[None], **WARM_SEARCH)
             for i, w in enumerate(W)]
-    full = [fit_sphere(X, g, weights=w, bounds=box, seed=i) for i, w in enumerate(W)]
+    full = [best_sphere(X, g, weights=w, bounds=box, seed=i) for i, w in enumerate(W)]
     ld = np.log([w[2] for w in warm]) - np.log([f[2] for f in full])
     assert ld.min() > -1e-2 and np.sum(ld < -1e-3) <= 2
     sw = np.std([w[0] for w in warm], axis=0)
@@ -201,11 +202,11 @@ def test_influence_against_direct_leave_one_out_refits():
     box = default_bounds(X)
     names = [f"s{k}" for k in range(len(X))]
     inf = influence(X, g, names=names, refit="full", n_jobs=1)
-    assert inf.centre == pytest.approx(fit_sphere(X, g, bounds=box)[0].tolist())
+    assert inf.centre == pytest.approx(best_sphere(X, g, bounds=box)[0].tolist())
     for r in inf.rows:
         i = names.index(r["name"])
         keep = np.arange(len(X)) != i
-        _, _, D_direct = fit_sphere(X[keep], g[keep], bounds=box)
+        _, _, D_direct = best_sphere(X[keep], g[keep], bounds=box)
         D_ours = desirability(ra(X[keep], r["centre_without"]), g[keep], r["R0_without"])
         assert np.log(D_ours) == pytest.approx(np.log(D_direct), abs=1e-3)
         assert r["shift"] == pytest.approx(ra(r["centre_without"], inf.centre)[0])

@@ -28,10 +28,6 @@ from solsphere.models.classic import SphereModel
 from solsphere.library.table import load_library
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 def hansen_ra(p, c) -> np.ndarray:
     p = np.atleast_2d(np.asarray(p, dtype=float))

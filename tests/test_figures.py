@@ -1,10 +1,10 @@
 """Tests for solsphere.figures: the 3D map, the projections and the share page.
 
-The look is our own and fixed in CONVENTIONS.md ("Look of the plots"): Dark2 colours,
+The look is our own and fixed in DEVELOPERS.md ("Conventions": the look of the plots): Dark2 colours,
 dissolves = teal circle, does not = orange x, partly = slate diamond, untried = small
 light-grey dots, blends = mustard segments + open circles, translucent grey sphere, δD
 drawn at twice the scale. The fit dicts below are invented (the figures take plain
-``SphereFit.to_dict()``-shaped dicts).
+``SphereFitResult.to_dict()``-shaped dicts).
 """
 
 from __future__ import annotations

@@ -13,8 +13,8 @@ import numpy as np
 import pytest
 
 from solsphere.errors import FitError, NotFittedError
-from solsphere.models.classic import (SphereFit, SphereModel, best_radius, default_bounds,
-                           desirability, fit_sphere, grid_search)
+from solsphere.models.classic import (SphereFitResult, SphereModel, best_radius, default_bounds,
+                           desirability, best_sphere, grid_search)
 from solsphere.hansen import ra
 
 
@@ -132,7 +132,7 @@ def test_fit_at_least_as_good_as_exhaustive_grid(seed, flips):
     X, good = invented_panel(seed, n=20, flips=flips,
                              box=((15.5, 19.5), (2.0, 12.0), (3.0, 15.0)), R0=5.0,
                              centre=(17.5, 7.0, 9.0))
-    c, R0, D = fit_sphere(X, good)
+    c, R0, D = best_sphere(X, good)
     gc, gR0, gD, n_grid = grid_search(X, good, step=0.2)
     assert n_grid > 10000
     assert D >= gD - 1e-12
@@ -164,14 +164,14 @@ def test_partial_modes():
         res = SphereModel(partial=mode).fit(X, list(out)).result_
         g = good.copy()
         g[[0, 5, 9]] = as_good
-        c, R0, D = fit_sphere(X, g, bounds=box)
+        c, R0, D = best_sphere(X, g, bounds=box)
         assert res.desirability == D and res.R0 == R0
         assert [res.table[i]["counted_as"] for i in (0, 5, 9)] == [mode] * 3
         assert res.n_partial == 3 and res.n_counted_good == int(g.sum())
     res = SphereModel(partial="skip").fit(X, list(out)).result_
     keep = np.ones(30, bool)
     keep[[0, 5, 9]] = False
-    c, R0, D = fit_sphere(X[keep], good[keep], bounds=box)
+    c, R0, D = best_sphere(X[keep], good[keep], bounds=box)
     assert res.desirability == D and res.n_counted_good + res.n_counted_bad == 27
     assert all(res.table[i]["counted_as"] == "skipped" and res.table[i]["agrees"] is None
                for i in (0, 5, 9))
@@ -244,11 +244,11 @@ def test_to_dict_from_dict_round_trip_and_report():
     for key in ("dD", "dP", "dH", "R0", "desirability", "n_good", "n_bad", "misfits",
                 "warnings", "table"):
         assert key in d
-    assert SphereFit.from_dict(d) == res
+    assert SphereFitResult.from_dict(d) == res
     assert set(d["table"][0]) == {"name", "dD", "dP", "dH", "outcome", "counted_as", "Ra",
                                   "red", "predicted", "on_surface", "agrees"}
     with pytest.raises(ValueError, match="missing"):
-        SphereFit.from_dict({k: v for k, v in d.items() if k != "R0"})
+        SphereFitResult.from_dict({k: v for k, v in d.items() if k != "R0"})
     text = str(res)
     for section in ("[[Fit]]", "[[Parameters]]", "[[Counts]]", "[[Misfits]]", "[[Warnings]]"):
         assert section in text
@@ -280,11 +280,11 @@ def test_perfect_fit_plateau_keeps_the_smallest_sphere():
     # A perfect fit can score -ln D = 1e-16 instead of 0 by rounding; that must still tie
     # with an exact 0 so the smallest R0 wins. Invented points: the three goods lie on a
     # sphere of Ra = 2 around (18, 10, 7), the bads far outside.
-    from solsphere.models.classic import fit_sphere
+    from solsphere.models.classic import best_sphere
     goods = [(17, 10, 7), (19, 10, 7), (18, 10, 9)]
     bads = [(10, 30, 30), (25, 0, 0), (14, 2, 20), (12, 25, 2)]
     X = np.array(goods + bads, dtype=float)
     g = np.array([True] * 3 + [False] * 4)
-    centre, R0, D = fit_sphere(X, g)
+    centre, R0, D = best_sphere(X, g)
     assert D == pytest.approx(1.0)
     assert R0 <= 2.0 + 1e-6          # the sphere through the three goods, not a bigger one

@@ -13,8 +13,8 @@ import pytest
 from scipy.optimize import approx_fprime
 
 from solsphere.errors import FitError, NotFittedError
-from solsphere.models.classic import fit_sphere
-from solsphere.models.graded import GradedModel, graded_nll
+from solsphere.models.classic import best_sphere
+from solsphere.models.graded import GradedSphereModel, graded_nll
 from solsphere.hansen import ra
 
 C, R = np.array([17.5, 8.0, 9.0]), 6.5
@@ -76,8 +76,8 @@ def test_agrees_with_classic_on_clean_panels():
     # 6 seeds: at most 0.42 MPa½ between the centres, 0.22 MPa½ between the radii.
     for seed in range(6):
         X, g = shell_panel(seed)
-        c, R0, D = fit_sphere(X, g)
-        m = GradedModel().fit(X, g)
+        c, R0, D = best_sphere(X, g)
+        m = GradedSphereModel().fit(X, g)
         assert ra(c, m.centre_)[0] < 0.5
         assert abs(m.R0_ - R0) < 0.5
         # The soft boundary leaves a few solvents just on the wrong side (measured: 1-5
@@ -91,9 +91,9 @@ def _accuracies(seeds, n, flips):
     acc_c, acc_g = [], []
     for s in seeds:
         X, g, H, truth = flipped_panel(s, n, flips)
-        c, R0, _ = fit_sphere(X, g)
+        c, R0, _ = best_sphere(X, g)
         acc_c.append(np.mean((ra(H, c) <= R0) == truth))
-        acc_g.append(np.mean(GradedModel().fit(X, g).predict(H) == truth))
+        acc_g.append(np.mean(GradedSphereModel().fit(X, g).predict(H) == truth))
     return float(np.mean(acc_c)), float(np.mean(acc_g))
 
 
@@ -123,7 +123,7 @@ def test_three_classes_recover_the_band():
                          rng.uniform(0, 20, 80)])
     d = ra(X, (17.0, 8.0, 9.0))
     out = np.where(d < 5.0, "good", np.where(d < 7.0, "partial", "bad"))
-    res = GradedModel().fit(X, out).result_
+    res = GradedSphereModel().fit(X, out).result_
     assert ra(res.centre, (17.0, 8.0, 9.0))[0] < 0.6
     assert res.R0 == pytest.approx(7.0, abs=0.4)
     assert res.R0_inner == pytest.approx(5.0, abs=0.4)
@@ -131,21 +131,21 @@ def test_three_classes_recover_the_band():
     row = res.table[int(np.argmin(d))]
     assert row["p_dissolves"] > 0.9 and row["p_good"] >= row["p_dissolves"]
     # Counting partly as good gives the binary model around the outer boundary.
-    res2 = GradedModel(partial="good").fit(X, out).result_
+    res2 = GradedSphereModel(partial="good").fit(X, out).result_
     assert res2.R0_inner is None and res2.R0 == pytest.approx(7.0, abs=0.4)
-    res3 = GradedModel(partial="bad").fit(X, out).result_
+    res3 = GradedSphereModel(partial="bad").fit(X, out).result_
     assert res3.R0 == pytest.approx(5.0, abs=0.4)
 
 
 def test_perfect_separation_is_well_behaved():
     X, g = shell_panel(4, 20, 20, 1.0)
-    m = GradedModel().fit(X, g)
+    m = GradedSphereModel().fit(X, g)
     r = m.result_
     assert r.success and np.isfinite(r.log_likelihood)
     assert 0.05 < r.width < 5.0  # held finite by the ridge on 1/w
     assert r.penalty == pytest.approx((1.0 / r.width) ** 2)
     # Without the ridge the width runs to its lower bound, and the result says so.
-    m0 = GradedModel(prior_strength=0.0).fit(X, g)
+    m0 = GradedSphereModel(prior_strength=0.0).fit(X, g)
     assert m0.width_ == pytest.approx(0.05, rel=1e-3)
     assert any("lower bound" in w for w in m0.result_.warnings)
 
@@ -153,8 +153,8 @@ def test_perfect_separation_is_well_behaved():
 def test_api_dict_and_errors():
     X, g, _, _ = flipped_panel(1)
     with pytest.raises(NotFittedError, match="not fitted yet"):
-        GradedModel().p_good(X)
-    m = GradedModel().fit(X, g, names=[f"s{i}" for i in range(len(X))])
+        GradedSphereModel().p_good(X)
+    m = GradedSphereModel().fit(X, g, names=[f"s{i}" for i in range(len(X))])
     p = m.p_good(X)
     Ra = ra(X, m.centre_)
     assert np.all(np.diff(p[np.argsort(Ra)]) <= 1e-12)  # falls with Ra
@@ -170,6 +170,6 @@ def test_api_dict_and_errors():
     text = str(m.result_)
     assert "width w" in text and "how sharp" in text
     with pytest.raises(FitError):
-        GradedModel().fit(X, np.ones(len(X), bool))
+        GradedSphereModel().fit(X, np.ones(len(X), bool))
     with pytest.raises(ValueError):
-        GradedModel(partial="maybe").fit(X, g)
+        GradedSphereModel(partial="maybe").fit(X, g)

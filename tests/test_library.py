@@ -16,10 +16,6 @@ from solsphere.library.table import (GHS_FLASH_CATEGORY_2_C, LOW_EXPOSURE_LIMIT_
 DATA = Path(__file__).resolve().parent.parent / "data"
 
 
-@pytest.fixture(scope="module")
-def lib() -> Library:
-    return load_library()
-
 
 def small() -> Library:
     recs = [

@@ -27,10 +27,6 @@ CRC_BOILING_POINTS = {
 }
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.mark.parametrize("name", sorted(CRC_BOILING_POINTS))
 def test_boiling_point_matches_the_handbook(lib, name):

@@ -37,10 +37,6 @@ SET_ASIDE = {("127-18-4", "ALSHERI_HANSEN"), ("124-38-9", "ALSHERI_HANSEN"),
 AGREE = 0.2  # MPa½
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 @pytest.fixture(scope="module")
 def tables():

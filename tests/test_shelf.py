@@ -9,10 +9,6 @@ from solsphere.library.table import load_library
 from solsphere.io.shelf import read_shelf
 
 
-@pytest.fixture(scope="module")
-def lib():
-    return load_library()
-
 
 def write(tmp_path, text, name="shelf.csv", encoding="utf-8"):
     p = tmp_path / name

@@ -59,8 +59,11 @@ from typing import Any, Iterable, Sequence
 import numpy as np
 
 from solsphere.limits import check as check_limit
+from solsphere.formatting import blend_label, float_or_none, format_table, num, pct, plain
 from solsphere.hansen import SCALE, flory_huggins_chi, mix, ra
+from solsphere.library.pools import apply_filters
 from solsphere.library.table import Solvent, hazard_flags
+from solsphere.results import Result
 
 __all__ = ["pair_screen", "best_fraction", "inside_window", "mass_fractions",
            "Blend", "BlendScreen", "screen_blends", "CAUTION"]
@@ -127,20 +130,20 @@ def _segment(ea: np.ndarray, eb: np.ndarray, R0: float | None):
     return phi, dist, lo, hi, same
 
 
-def _centred(points, centre) -> np.ndarray:
+def centred(points, centre) -> np.ndarray:
     p = np.asarray(points, dtype=float)
     c = np.asarray(centre, dtype=float)
     return (p - c) * SCALE
 
 
-def _check_radius(R0) -> float:
+def check_radius(R0) -> float:
     R0 = float(R0)
     if not (np.isfinite(R0) and R0 > 0):
         raise ValueError(f"R0 must be a positive finite number; found {R0!r}")
     return R0
 
 
-def _as_xyz(x, what: str) -> np.ndarray:
+def as_xyz(x, what: str) -> np.ndarray:
     """A single point from an array-like of 3 numbers or anything with ``.point``."""
     x = getattr(x, "point", x)
     p = np.asarray(x, dtype=float).reshape(-1)
@@ -186,8 +189,8 @@ def pair_screen(points, centre, R0: float, *, pairs=None,
     >>> round(float(out["phi"][0]), 6), round(float(out["red"][0]), 6)
     (0.25, 0.745356)
     """
-    R0 = _check_radius(R0)
-    e = _centred(points, centre)
+    R0 = check_radius(R0)
+    e = centred(points, centre)
     if e.ndim != 2 or e.shape[1] != 3:
         raise ValueError(f"points must have shape (n, 3); found {np.shape(points)}")
     if not np.all(np.isfinite(e)):
@@ -241,9 +244,9 @@ def best_fraction(a, b, centre) -> float:
     >>> best_fraction([18, 12, 6], [15, 0, 10], [16.75, 2, 9])
     0.25
     """
-    c = _as_xyz(centre, "centre")
-    ea = _centred(_as_xyz(a, "a")[None, :], c)
-    eb = _centred(_as_xyz(b, "b")[None, :], c)
+    c = as_xyz(centre, "centre")
+    ea = centred(as_xyz(a, "a")[None, :], c)
+    eb = centred(as_xyz(b, "b")[None, :], c)
     return float(_segment(ea, eb, None)[0][0])
 
 
@@ -252,10 +255,8 @@ def inside_window(a, b, centre, R0: float) -> tuple[float, float] | None:
 
     Parameters
     ----------
-    a, b : array-like of shape (3,) or Solvent
-        The two components' dD, dP, dH [MPa½].
-    centre : array-like of shape (3,)
-        Sphere centre [MPa½].
+    a, b, centre
+        As for :func:`best_fraction` [MPa½].
     R0 : float
         Sphere radius [MPa½].
 
@@ -270,10 +271,10 @@ def inside_window(a, b, centre, R0: float) -> tuple[float, float] | None:
     >>> round(lo, 6), round(hi, 6)   # 1/4 -+ 1/7
     (0.107143, 0.392857)
     """
-    R0 = _check_radius(R0)
-    c = _as_xyz(centre, "centre")
-    ea = _centred(_as_xyz(a, "a")[None, :], c)
-    eb = _centred(_as_xyz(b, "b")[None, :], c)
+    R0 = check_radius(R0)
+    c = as_xyz(centre, "centre")
+    ea = centred(as_xyz(a, "a")[None, :], c)
+    eb = centred(as_xyz(b, "b")[None, :], c)
     _, _, lo, hi, _ = _segment(ea, eb, R0)
     if np.isnan(lo[0]):
         return None
@@ -396,7 +397,7 @@ def may_not_mix(solvents: Sequence[Solvent]) -> bool:
                for b in solvents[k + 1:])
 
 
-def _component_flags(solvents: Sequence[Solvent]) -> list[str]:
+def component_flags(solvents: Sequence[Solvent]) -> list[str]:
     """Miscibility cautions for pairs of components first (a blend that separates is
     no blend; they must not hide at the end of a long line), then the library's hazard
     flags of each component, prefixed with its name."""
@@ -418,18 +419,6 @@ def _component_flags(solvents: Sequence[Solvent]) -> list[str]:
 # --------------------------------------------------------------------------------------
 # result objects
 # --------------------------------------------------------------------------------------
-
-def _f(x) -> float | None:
-    return None if x is None else float(x)
-
-
-def _pct(x: float) -> str:
-    return f"{100.0 * x:.0f}%"
-
-
-def _num(x: float | None, fmt: str = "{:.0f}") -> str:
-    return "?" if x is None else fmt.format(x)
-
 
 @dataclass
 class Blend:
@@ -497,14 +486,13 @@ class Blend:
 
     def label(self) -> str:
         """``"75% toluene + 25% ethanol"`` (volume %)."""
-        (a, b), (fa, fb) = self.solvents, self.volume_fractions
-        return f"{_pct(fa)} {a} + {_pct(fb)} {b}"
+        return blend_label(self.solvents, self.volume_fractions)
 
     def window_text(self) -> str:
         if self.inside_window is None:
             return "none"
         lo, hi = self.inside_window
-        return f"{_pct(lo)}-{_pct(hi)}"
+        return f"{pct(lo)}-{pct(hi)}"
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-safe plain types (keys per the CLI contract, plus more)."""
@@ -522,16 +510,16 @@ class Blend:
             "window_width": float(self.window_width),
             "both_non_solvents": bool(self.both_non_solvents),
             "red_components": [float(x) for x in self.red_components],
-            "flash_points": [_f(x) for x in self.flash_points],
-            "boiling_points": [_f(x) for x in self.boiling_points],
-            "twa_ppm": [_f(x) for x in self.twa_ppm],
+            "flash_points": [float_or_none(x) for x in self.flash_points],
+            "boiling_points": [float_or_none(x) for x in self.boiling_points],
+            "twa_ppm": [float_or_none(x) for x in self.twa_ppm],
             "flags": list(self.flags),
             "best_is_single": bool(self.best_is_single),
             "component_points": [[float(v) for v in p] for p in self.component_points],
         }
 
     def __str__(self) -> str:
-        fp = " / ".join(_num(x) for x in self.flash_points)
+        fp = " / ".join(num(x, "{:.0f}", "?") for x in self.flash_points)
         text = (f"{self.label()}: dD {self.dD:.1f}, dP {self.dP:.1f}, dH {self.dH:.1f} "
                 f"MPa½, RED {self.red:.2f}, inside for {self.solvents[0]} "
                 f"{self.window_text()}, flash points {fp} °C")
@@ -541,7 +529,7 @@ class Blend:
 
 
 @dataclass
-class BlendScreen:
+class BlendScreen(Result):
     """Ranked two-solvent blends for one sphere.
 
     Attributes
@@ -572,6 +560,8 @@ class BlendScreen:
     centre: tuple[float, float, float]
     R0: float
 
+    rows_key = "blends"
+
     def to_dict(self) -> dict[str, Any]:
         """``{"blends": [...], ...}`` with JSON-safe plain types."""
         return {
@@ -581,7 +571,7 @@ class BlendScreen:
             "n_candidates": int(self.n_candidates),
             "n_pairs_screened": int(self.n_pairs_screened),
             "n_single_best": int(self.n_single_best),
-            "filters": _plain(self.filters),
+            "filters": plain(self.filters),
             "caution": CAUTION,
         }
 
@@ -635,71 +625,37 @@ def blend_table(blends, window_header: str, fp_width: int, notes_of) -> list[str
             f"{'RED':>5}  {window_header:<{ww}}  {'flash pt °C':<{fp_width}}  note / flags")
     lines = [head, "-" * len(head)]
     for k, (b, lab) in enumerate(zip(blends, labels), 1):
-        fp = " / ".join(_num(x) for x in b.flash_points)
+        fp = " / ".join(num(x, "{:.0f}", "?") for x in b.flash_points)
         lines.append(f"{k:>3}  {lab:<{wl}}  {b.dD:5.1f} {b.dP:5.1f} {b.dH:5.1f} "
                      f"{b.red:5.2f}  {b.window_text():<{ww}}  {fp:<{fp_width}}  "
                      + "; ".join(notes_of(b)))
     return lines
 
 
-def _plain(x):
-    """Turn numpy scalars/tuples inside ``x`` into JSON-safe plain types."""
-    if isinstance(x, dict):
-        return {str(k): _plain(v) for k, v in x.items()}
-    if isinstance(x, (list, tuple)):
-        return [_plain(v) for v in x]
-    if isinstance(x, np.generic):
-        return x.item()
-    return x
-
-
 # --------------------------------------------------------------------------------------
 # screening a list of solvents
 # --------------------------------------------------------------------------------------
 
-def _apply_filters(candidates: Iterable[Solvent], exclude, min_flash_point,
+def screen_filters(candidates: Iterable[Solvent], exclude, min_flash_point,
                    max_boiling_point) -> tuple[list[Solvent], dict]:
+    """The screens' candidate filter (:func:`solsphere.library.pools.apply_filters`, with
+    repeated names dropped) and its record: what each limit removed, by name."""
     excl = [str(x) for x in (exclude or ())]
-    excl_keys = {x.casefold() for x in excl}
-    summary: dict[str, Any] = {
-        "exclude": excl, "excluded_by_name": [], "exclude_not_found": [],
-        "duplicates_dropped": [],
-        "min_flash_point": _f(min_flash_point),
-        "removed_low_flash_point": [], "removed_unknown_flash_point": [],
-        "max_boiling_point": _f(max_boiling_point),
-        "removed_high_boiling_point": [], "removed_unknown_boiling_point": [],
-    }
-    seen: set[str] = set()
-    kept: list[Solvent] = []
-    for s in candidates:
-        key = s.name.casefold()
-        if key in seen:
-            summary["duplicates_dropped"].append(s.name)
-            continue
-        seen.add(key)
-        if key in excl_keys:
-            summary["excluded_by_name"].append(s.name)
-            continue
-        if min_flash_point is not None:
-            if s.flash_point is None:
-                summary["removed_unknown_flash_point"].append(s.name)
-                continue
-            if s.flash_point < min_flash_point:
-                summary["removed_low_flash_point"].append(s.name)
-                continue
-        if max_boiling_point is not None:
-            if s.boiling_point is None:
-                summary["removed_unknown_boiling_point"].append(s.name)
-                continue
-            if s.boiling_point > max_boiling_point:
-                summary["removed_high_boiling_point"].append(s.name)
-                continue
-        kept.append(s)
+    candidates = list(candidates)
+    f = apply_filters(candidates, exclude_names=excl, min_flash_point=min_flash_point,
+                      max_boiling_point=max_boiling_point, drop_duplicates=True)
+    summary: dict[str, Any] = {"exclude": excl, "min_flash_point": float_or_none(min_flash_point),
+                               "max_boiling_point": float_or_none(max_boiling_point)}
+    for k in ("excluded_by_name", "duplicates_dropped", "removed_low_flash_point",
+              "removed_unknown_flash_point", "removed_high_boiling_point",
+              "removed_unknown_boiling_point"):
+        summary[k] = f.removed.get(k, [])
+    seen = {s.name.casefold() for s in candidates}
     summary["exclude_not_found"] = [x for x in excl if x.casefold() not in seen]
-    return kept, summary
+    return f.kept, summary
 
 
-def _top_order(red: np.ndarray, width: np.ndarray, top: int | None) -> np.ndarray:
+def top_order(red: np.ndarray, width: np.ndarray, top: int | None) -> np.ndarray:
     """Indices of the ``top`` best by (red ascending, width descending), in order.
 
     ``np.argpartition`` picks the candidates before any sort; pairs tied with the
@@ -762,11 +718,11 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
     """
     if top is not None:
         check_limit("top", top, "the blend list")
-    R0 = _check_radius(R0)
-    c = _as_xyz(centre, "centre")
+    R0 = check_radius(R0)
+    c = as_xyz(centre, "centre")
     if top is not None and int(top) < 0:
         raise ValueError(f"top must be a non-negative integer or None; found {top!r}")
-    kept, summary = _apply_filters(candidates, exclude, min_flash_point, max_boiling_point)
+    kept, summary = screen_filters(candidates, exclude, min_flash_point, max_boiling_point)
     summary["only_blends"] = bool(only_blends)
     n = len(kept)
     points = np.array([s.point for s in kept], dtype=float).reshape(n, 3)
@@ -776,10 +732,10 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
     n_single = int(single.sum())
     keep = np.flatnonzero(~single) if only_blends else np.arange(n_pairs)
     width = np.nan_to_num(res["hi"][keep] - res["lo"][keep], nan=-1.0)  # no window < 0 width
-    order = keep[_top_order(res["red"][keep], width, None if top is None else int(top))]
+    order = keep[top_order(res["red"][keep], width, None if top is None else int(top))]
 
     red_alone = ra(points, c) / R0 if n else np.empty(0)
-    blends = [_make_blend(kept[res["i"][k]], kept[res["j"][k]], float(res["phi"][k]),
+    blends = [make_blend(kept[res["i"][k]], kept[res["j"][k]], float(res["phi"][k]),
                           float(res["red"][k]), float(res["lo"][k]), float(res["hi"][k]),
                           float(red_alone[res["i"][k]]), float(red_alone[res["j"][k]]),
                           bool(single[k]), R0)
@@ -789,7 +745,7 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
                        centre=(float(c[0]), float(c[1]), float(c[2])), R0=R0)
 
 
-def _make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi: float,
+def make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi: float,
                 red_a: float, red_b: float, single: bool, R0: float) -> Blend:
     window = None if np.isnan(lo) else [lo, hi]
     if phi < 0.5:  # list the larger part first; the window follows the first solvent
@@ -806,10 +762,10 @@ def _make_blend(sa: Solvent, sb: Solvent, phi: float, red: float, lo: float, hi:
         window_width=0.0 if window is None else window[1] - window[0],
         both_non_solvents=bool(red_a > 1.0 and red_b > 1.0),
         red_components=[red_a, red_b],
-        flash_points=[_f(sa.flash_point), _f(sb.flash_point)],
-        boiling_points=[_f(sa.boiling_point), _f(sb.boiling_point)],
-        twa_ppm=[_f(sa.twa_ppm), _f(sb.twa_ppm)],
-        flags=_component_flags([sa, sb]),
+        flash_points=[float_or_none(sa.flash_point), float_or_none(sb.flash_point)],
+        boiling_points=[float_or_none(sa.boiling_point), float_or_none(sb.boiling_point)],
+        twa_ppm=[float_or_none(sa.twa_ppm), float_or_none(sb.twa_ppm)],
+        flags=component_flags([sa, sb]),
         best_is_single=single,
         component_points=[sa.point, sb.point],
     )

@@ -13,7 +13,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from solsphere import hansen as hsp
-from solsphere.library.table import Solvent, hazard_flags
+from solsphere.formatting import format_table, num
+from solsphere.library.table import Solvent, hazard_flags, is_tested, tested_keys
+from solsphere.results import Result
 
 CAUTION = ("Predictions are guides: confirm at the bench. Solvents are flammable and toxic: "
            "read each safety data sheet, work with ventilation and protection; local "
@@ -44,7 +46,7 @@ class RankedSolvent:
 
 
 @dataclass
-class Ranking:
+class Ranking(Result):
     """Candidates sorted by RED (smallest first)."""
 
     solvents: list[RankedSolvent]
@@ -52,6 +54,8 @@ class Ranking:
     R0: float
     n_candidates: int
     filters: dict = field(default_factory=dict)
+
+    rows_key = "solvents"
 
     def to_dict(self) -> dict:
         return {"centre": list(self.centre), "R0": self.R0, "n_candidates": self.n_candidates,
@@ -68,9 +72,10 @@ class Ranking:
         for r in self.solvents:
             s = r.solvent
             rows.append((s.name[:32], f"{s.dD:.1f}", f"{s.dP:.1f}", f"{s.dH:.1f}",
-                         f"{r.red:.2f}") + ((_num(r.p_good, 2),) if with_p else ())
-                        + (_num(r.chi, 2), _num(s.boiling_point, 0), _num(s.flash_point, 0),
-                           _num(s.twa_ppm, 3, g=True), "; ".join(r.flags)))
+                         f"{r.red:.2f}") + ((num(r.p_good, "{:.2f}"),) if with_p else ())
+                        + (num(r.chi, "{:.2f}"), num(s.boiling_point, "{:.0f}"),
+                           num(s.flash_point, "{:.0f}"), num(s.twa_ppm, "{:.3g}"),
+                           "; ".join(r.flags)))
         out = [head, format_table(rows)]
         if not self.solvents:
             out.append("No untried candidate to list: every candidate was tested (keep them "
@@ -79,25 +84,8 @@ class Ranking:
         return "\n".join(out + [CAUTION])
 
 
-def _num(x, digits: int, g: bool = False) -> str:
-    if x is None:
-        return "—"
-    return f"{x:.{digits}g}" if g else f"{x:.{digits}f}"
-
-
-def format_table(rows: list[tuple]) -> str:
-    """Left-aligned plain-text table; the first row is the header."""
-    widths = [max(len(str(r[i])) for r in rows) for i in range(len(rows[0]))]
-    lines = []
-    for k, r in enumerate(rows):
-        lines.append("  ".join(str(c).ljust(w) for c, w in zip(r, widths)).rstrip())
-        if k == 0:
-            lines.append("  ".join("-" * w for w in widths))
-    return "\n".join(lines)
-
-
 def rank_solvents(candidates, centre, R0: float, top: int | None = None,
-                  tested: set[str] | frozenset = frozenset(), include_tested: bool = False,
+                  tested=(), include_tested: bool = False,
                   filters: dict | None = None, temperature_C: float = 25.0,
                   bootstrap=None) -> Ranking:
     """Rank candidate solvents by RED to a sphere.
@@ -112,8 +100,10 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
         Sphere radius [MPa½].
     top : int or None, default=None
         Keep only the ``top`` nearest; None keeps all.
-    tested : set of str, default=frozenset()
-        Names (or CAS numbers) already tested; left out unless ``include_tested``.
+    tested : iterable of str, default=()
+        Names, abbreviations or CAS numbers already tested (matched by
+        :func:`solsphere.library.table.tested_keys`: ``"MEK"`` marks 2-butanone); left out
+        unless ``include_tested``.
     include_tested : bool, default=False
         Keep tested solvents in the table (marked ``tested``).
     filters : dict or None, default=None
@@ -131,12 +121,13 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
     """
     if top is not None and (isinstance(top, bool) or int(top) != top or top < 0):
         raise ValueError(f"top must be a non-negative whole number or None; found {top!r}")
+    keys = tested if isinstance(tested, frozenset) else tested_keys(tested)
     pool = []
     for s in candidates:
-        is_tested = s.name in tested or (s.cas is not None and s.cas in tested)
-        if is_tested and not include_tested:
+        was_tested = is_tested(s, keys)
+        if was_tested and not include_tested:
             continue
-        pool.append((s, is_tested))
+        pool.append((s, was_tested))
     centre = tuple(float(c) for c in centre)
     if not pool:
         return Ranking([], centre, float(R0), 0, dict(filters or {}))

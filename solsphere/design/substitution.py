@@ -25,9 +25,11 @@ import numpy as np
 
 from solsphere.limits import check as check_limit
 from solsphere import hansen as hsp
-from solsphere.design.pairs import pair_screen, _make_blend
+from solsphere.design.pairs import make_blend, pair_screen
 from solsphere.library.table import Solvent, hazard_flags
-from solsphere.design.ranking import CAUTION, format_table
+from solsphere.results import Result
+from solsphere.design.ranking import CAUTION
+from solsphere.formatting import format_table, plain
 
 
 @dataclass
@@ -49,7 +51,7 @@ class Substitute:
 
 
 @dataclass
-class Substitution:
+class Substitution(Result):
     """Ranked replacements for one solvent."""
 
     target: Solvent
@@ -57,13 +59,21 @@ class Substitution:
     pairs: list                      # Blend objects; their ``ra`` is the distance to the target
     material: dict | None = None     # {"dD", "dP", "dH", "R0", "red_target"} when given
     n_candidates: int = 0
+    filters: dict = field(default_factory=dict)
+
+    def records(self) -> list[dict]:
+        """The single solvents, then the pairs, each row marked with its ``kind``."""
+        d = self.to_dict()
+        return ([dict(s, kind="single") for s in d["singles"]]
+                + [dict(p, kind="pair") for p in d["pairs"]])
 
     def to_dict(self) -> dict:
         t = self.target
         return {"target": {"name": t.name, "cas": t.cas, "dD": t.dD, "dP": t.dP, "dH": t.dH},
                 "material": self.material, "n_candidates": self.n_candidates,
                 "singles": [s.to_dict() for s in self.singles],
-                "pairs": [p.to_dict() for p in self.pairs], "caution": CAUTION}
+                "pairs": [p.to_dict() for p in self.pairs], "caution": CAUTION,
+                "filters": plain(self.filters)}
 
     def __str__(self) -> str:
         t = self.target
@@ -154,6 +164,6 @@ def _pairs(pool, pts, tp, n_pairs, material, mat):
         a, b = pool[out["i"][k]], pool[out["j"][k]]
         ra_a = float(hsp.ra(a.point, tp)[0])
         ra_b = float(hsp.ra(b.point, tp)[0])
-        blends.append(_make_blend(a, b, float(out["phi"][k]), float(ra_t[k]),
+        blends.append(make_blend(a, b, float(out["phi"][k]), float(ra_t[k]),
                                   float("nan"), float("nan"), ra_a, ra_b, False, 1.0))
     return blends

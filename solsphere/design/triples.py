@@ -87,9 +87,10 @@ from typing import Any, Iterable, Mapping, Sequence
 import numpy as np
 
 from solsphere.limits import check as check_limit
-from solsphere.design.pairs import (CAUTION, Blend, BlendScreen, _apply_filters, _as_xyz,
-                             _centred, _check_radius, _component_flags, _f, _num, _pct,
-                             _plain, _top_order, blend_table, pair_screen)
+from solsphere.design.pairs import (CAUTION, Blend, BlendScreen, as_xyz, blend_table, centred,
+                                   check_radius, component_flags, pair_screen, screen_filters,
+                                   top_order)
+from solsphere.formatting import blend_label, float_or_none, num, pct, plain
 from solsphere.hansen import mix, ra
 from solsphere.library.table import Solvent
 
@@ -355,12 +356,8 @@ def triple_screen(points, centre, R0: float, triples=None, *, lower=None, upper=
 
     Parameters
     ----------
-    points : array-like of shape (n, 3)
-        Candidate solvents' dD, dP, dH [MPa½].
-    centre : array-like of shape (3,)
-        Sphere centre dD, dP, dH [MPa½].
-    R0 : float
-        Sphere radius [MPa½].
+    points, centre, R0
+        As for :func:`solsphere.design.pairs.pair_screen` [MPa½].
     triples : array-like of int of shape (m, 3), optional
         Screen only these triples of indices; default: all ``n(n-1)(n-2)/6`` triples
         ``i < j < k`` in lexicographic order.
@@ -387,8 +384,8 @@ def triple_screen(points, centre, R0: float, triples=None, *, lower=None, upper=
     >>> out["w"].round(6).tolist(), round(float(out["red"][0]), 6)
     ([[0.375, 0.375, 0.25]], 0.707107)
     """
-    R0 = _check_radius(R0)
-    e = _centred(points, centre)
+    R0 = check_radius(R0)
+    e = centred(points, centre)
     if e.ndim != 2 or e.shape[1] != 3:
         raise ValueError(f"points must have shape (n, 3); found {np.shape(points)}")
     if not np.all(np.isfinite(e)):
@@ -476,8 +473,8 @@ def best_fractions3(a, b, c, centre, lower=None, upper=None) -> np.ndarray:
     ...                 lower=[0.5, 0, 0]).round(12).tolist()
     [0.5, 0.3, 0.2]
     """
-    cc = _as_xyz(centre, "centre")
-    P = np.stack([_centred(_as_xyz(x, name), cc) for x, name in
+    cc = as_xyz(centre, "centre")
+    P = np.stack([centred(as_xyz(x, name), cc) for x, name in
                   ((a, "a"), (b, "b"), (c, "c"))])[None]
     lo, up = _limits3(lower, upper)
     return _best(P, lo[None], up[None])[0][0]
@@ -493,14 +490,10 @@ def inside_area_fraction(a, b, c, centre, R0: float, lower=None,
 
     Parameters
     ----------
-    a, b, c : array-like of shape (3,) or Solvent
-        The three components' dD, dP, dH [MPa½].
-    centre : array-like of shape (3,)
-        Sphere centre [MPa½].
+    a, b, c, centre, lower, upper
+        As for :func:`best_fractions3`.
     R0 : float
-        Sphere radius [MPa½].
-    lower, upper : array-like of shape (3,), optional
-        With limits, the fraction of the *allowed* polygon (``lower <= w <= upper``)
+        Sphere radius [MPa½]. With ``lower``/``upper``, the fraction of the *allowed* polygon (``lower <= w <= upper``)
         instead of the whole triangle.
 
     Returns
@@ -516,9 +509,9 @@ def inside_area_fraction(a, b, c, centre, R0: float, lower=None,
     >>> round(x, 12) == round(math.pi / 18, 12)   # a disc of radius 2 in a triangle of area 72
     True
     """
-    R0 = _check_radius(R0)
-    cc = _as_xyz(centre, "centre")
-    P = np.stack([_centred(_as_xyz(x, name), cc) for x, name in
+    R0 = check_radius(R0)
+    cc = as_xyz(centre, "centre")
+    P = np.stack([centred(as_xyz(x, name), cc) for x, name in
                   ((a, "a"), (b, "b"), (c, "c"))])
     if lower is not None or upper is not None:
         lo, up = _limits3(lower, upper)
@@ -595,8 +588,7 @@ class Blend3(Blend):
 
     def label(self) -> str:
         """``"50% toluene + 30% ethanol + 20% water"`` (volume %)."""
-        return " + ".join(f"{_pct(x)} {s}" for s, x in
-                          zip(self.solvents, self.volume_fractions))
+        return blend_label(self.solvents, self.volume_fractions)
 
     def window_text(self) -> str:
         """The inside area as a percentage of the triangle (``"none"`` if 0)."""
@@ -611,8 +603,8 @@ class Blend3(Blend):
         d["window_solvent"] = None
         d.update({
             "n_components": len(self.solvents),
-            "inside_area": _f(self.inside_area),
-            "inside_area_allowed": _f(self.inside_area_allowed),
+            "inside_area": float_or_none(self.inside_area),
+            "inside_area_allowed": float_or_none(self.inside_area_allowed),
             "all_non_solvents": bool(self.all_non_solvents),
             "lower_limits": [float(x) for x in self.lower_limits],
             "upper_limits": [float(x) for x in self.upper_limits],
@@ -620,7 +612,7 @@ class Blend3(Blend):
         return d
 
     def __str__(self) -> str:
-        fp = " / ".join(_num(x) for x in self.flash_points)
+        fp = " / ".join(num(x, "{:.0f}", "?") for x in self.flash_points)
         text = (f"{self.label()}: dD {self.dD:.1f}, dP {self.dP:.1f}, dH {self.dH:.1f} "
                 f"MPa½, RED {self.red:.2f}, inside area {self.window_text()} of the "
                 f"triangle, flash points {fp} °C")
@@ -657,7 +649,7 @@ class TripleScreen(BlendScreen):
             "n_candidates": int(self.n_candidates),
             "n_triples_screened": int(self.n_pairs_screened),
             "n_fewer_components_best": int(self.n_single_best),
-            "filters": _plain(self.filters),
+            "filters": plain(self.filters),
             "caution": CAUTION,
         }
 
@@ -675,7 +667,7 @@ class TripleScreen(BlendScreen):
         fl = self._filter_lines()
         for key, word in (("max_fraction", "at most"), ("min_fraction", "at least")):
             if f.get(key):
-                fl.append(f"{word} " + ", ".join(f"{_pct(v)} {k}"
+                fl.append(f"{word} " + ", ".join(f"{pct(v)} {k}"
                                                  for k, v in f[key].items()))
         if f.get("limits_not_found"):
             fl.append("limits for solvents not among the candidates: "
@@ -723,26 +715,15 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
 
     Parameters
     ----------
-    candidates : iterable of Solvent
-        The solvents to combine. Names are compared after ``casefold``; a repeated name
-        is screened once.
-    centre : array-like of shape (3,)
-        Sphere centre dD, dP, dH [MPa½].
-    R0 : float
-        Sphere radius [MPa½].
-    top : int or None, default=20
-        How many blends to return (None: all).
+    candidates, centre, R0, top
+        As for :func:`solsphere.design.pairs.screen_blends` (the solvents to combine).
     max_fraction, min_fraction : mapping of str to float, optional
         Per-solvent limits on the volume fraction (0 to 1), applied whenever that
         solvent is a component (``{"toluene": 0.3}``). Names as ``Solvent.name``
         (casefold); names not among the candidates are listed in
         ``filters["limits_not_found"]``.
-    exclude : iterable of str, default=()
-        Solvent names to leave out (as in :func:`solsphere.blend.screen_blends`).
-    min_flash_point : float or None, default=None
-        Keep only components whose flash point is known and at least this [°C].
-    max_boiling_point : float or None, default=None
-        Keep only components whose boiling point is known and at most this [°C].
+    exclude, min_flash_point, max_boiling_point
+        Filters of the components, as for :func:`solsphere.design.pairs.screen_blends`.
     only_blends : bool, default=True
         Rank only genuine three-component blends (all three fractions > 1e-9). False
         also keeps triples whose best blend is a pair or a single solvent, marked
@@ -767,13 +748,13 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
     """
     if top is not None:
         check_limit("top", top, "the blend list")
-    R0 = _check_radius(R0)
-    c = _as_xyz(centre, "centre")
+    R0 = check_radius(R0)
+    c = as_xyz(centre, "centre")
     if top is not None and int(top) < 0:
         raise ValueError(f"top must be a non-negative integer or None; found {top!r}")
     umap = _limit_map(max_fraction, "max_fraction")
     lmap = _limit_map(min_fraction, "min_fraction")
-    kept, summary = _apply_filters(candidates, exclude, min_flash_point, max_boiling_point)
+    kept, summary = screen_filters(candidates, exclude, min_flash_point, max_boiling_point)
     summary["only_blends"] = bool(only_blends)
     summary["max_fraction"] = dict(umap)
     summary["min_fraction"] = dict(lmap)
@@ -803,9 +784,9 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
     keep = np.flatnonzero(res["genuine"] if only_blends else feas)
 
     T = np.stack([res["i"], res["j"], res["k"]], axis=1)
-    e = _centred(points, c) if n else np.empty((0, 3))
+    e = centred(points, c) if n else np.empty((0, 3))
     area = _inside_area(e[T[keep]], R0) if keep.size else np.empty(0)
-    order = _top_order(res["red"][keep], np.nan_to_num(area, nan=-1.0),
+    order = top_order(res["red"][keep], np.nan_to_num(area, nan=-1.0),
                        None if top is None else int(top))
 
     red_alone = ra(points, c) / R0 if n else np.empty(0)
@@ -846,11 +827,12 @@ def _make_blend3(solvents: list[Solvent], w: np.ndarray, red: float, area: float
         window_width=0.0,
         both_non_solvents=all_non,
         red_components=[red_alone[q] for q in order],
-        flash_points=[_f(s.flash_point) for s in ss],
-        boiling_points=[_f(s.boiling_point) for s in ss],
-        twa_ppm=[_f(s.twa_ppm) for s in ss],
-        flags=_component_flags(ss),
+        flash_points=[float_or_none(s.flash_point) for s in ss],
+        boiling_points=[float_or_none(s.boiling_point) for s in ss],
+        twa_ppm=[float_or_none(s.twa_ppm) for s in ss],
+        flags=component_flags(ss),
         best_is_single=single,
+        component_points=[s.point for s in ss],
         inside_area=None if np.isnan(area) else float(area),
         inside_area_allowed=allowed,
         all_non_solvents=all_non,

@@ -29,10 +29,13 @@ from dataclasses import dataclass, field
 from datetime import datetime, timezone
 from pathlib import Path
 
+import numpy as np
+
 from solsphere.errors import InputError
 from solsphere.io.files import atomic_write_text, check_output, read_text
-from solsphere.io import trials as _trials
-from solsphere.io.trials import Trials
+from solsphere import __version__
+from solsphere.io import trials as bench
+from solsphere.io.trials import Trials, json_type
 from solsphere.limits import clip
 
 __all__ = ["Project", "save", "load", "load_any", "is_project_file", "FORMAT",
@@ -55,7 +58,6 @@ _DAMAGED = ("the project file was edited or damaged: restore it from a backup, o
 
 
 def _version() -> str:
-    from solsphere import __version__
     return __version__
 
 
@@ -99,7 +101,6 @@ class Project:
 
 def _plain(obj):
     """json.dumps fallback for numpy scalars and arrays."""
-    import numpy as np
     if isinstance(obj, np.generic):
         return obj.item()
     if isinstance(obj, np.ndarray):
@@ -231,7 +232,7 @@ def load(path, library=None) -> Project:
     doc, replaced = _checked(doc, label)
     if not isinstance(doc, dict):
         raise _error(label, f"not a solsphere project: the file holds "
-                            f"{_trials._json_type(doc)}, not an object.",
+                            f"{json_type(doc)}, not an object.",
                      hint="give a project file saved by solsphere, or a results CSV")
     if "format" not in doc:
         raise _error(label, "not a solsphere project: no 'format' key.",
@@ -254,18 +255,18 @@ def load(path, library=None) -> Project:
     for key in ("created_with", "saved_at"):
         if key in doc and not isinstance(doc[key], str):
             raise _error(label, f"{key!r} must be a string, found "
-                                f"{_trials._json_type(doc[key])}.")
+                                f"{json_type(doc[key])}.")
     settings = doc["settings"]
     if not isinstance(settings, dict):
         raise _error(label, f"'settings' must be an object, found "
-                            f"{_trials._json_type(settings)}.")
+                            f"{json_type(settings)}.")
     if "partial" in settings and settings["partial"] not in _PARTIAL_CHOICES:
         raise _error(label, f"settings.partial is {clip(settings['partial'])}; expected one of "
                             f"{', '.join(_PARTIAL_CHOICES)}.")
     fit = doc["fit"]
     if fit is not None and not isinstance(fit, dict):
         raise _error(label, f"'fit' must be an object or null, found "
-                            f"{_trials._json_type(fit)}.")
+                            f"{json_type(fit)}.")
     trials = Trials.from_dict(doc["trials"], library=library, file=label)
     if replaced:
         trials.warnings.append(f"{label}: {replaced} text value{'s' if replaced > 1 else ''} "
@@ -283,7 +284,7 @@ def _checked(doc, label: str):
 
     def fix(s: str) -> str:
         nonlocal replaced
-        new = _trials.replace_surrogates(s)
+        new = bench.replace_surrogates(s)
         replaced += new is not s
         return new
 
@@ -347,4 +348,4 @@ def load_any(path, library=None) -> Project:
     """
     if is_project_file(path):
         return load(path, library=library)
-    return Project(trials=_trials.read(path, library=library))
+    return Project(trials=bench.read(path, library=library))

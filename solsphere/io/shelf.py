@@ -29,8 +29,10 @@ import re
 
 from solsphere.errors import InputError
 from solsphere.io.files import MAX_FIELD, read_text
+from solsphere.io.trials import (COORDINATES, CellProblem, ReadContext, parse_coordinate,
+                                 parse_number, resolve_solvent, sniff_delimiter)
+from solsphere.library.table import Solvent, load_library
 from solsphere.limits import check as check_limit
-from solsphere.io.trials import _COORDS, _CellProblem, _Context, _coordinate, _parse_number, _resolve, _sniff
 
 #: shelf column -> (Solvent field, lowest, highest accepted value)
 PROPERTY_COLUMNS = {
@@ -125,7 +127,7 @@ def read_shelf(path, library) -> list:
     single = not any(ch in lines[0][1] for ch in ",;\t")
     # one column: each line is one name, so '1,4-dioxane' and 'N,N-dimethylformamide'
     # stay whole (the unit separator never occurs in text)
-    sep = "\x1f" if single else _sniff(lines[0][1], file, header_line)
+    sep = "\x1f" if single else sniff_delimiter(lines[0][1], file, header_line)
     check_limit("shelf", len(lines) - 1, "the shelf", file=file)  # before any row is read
     rows = _split_rows(lines, sep, file)
     columns = [_key(c) for c in rows[0][1]]
@@ -133,7 +135,7 @@ def read_shelf(path, library) -> list:
         raise InputError(f"no 'solvent' column (found {', '.join(map(repr, rows[0][1]))}).",
                          file=file, line=header_line,
                          hint="name the first column 'solvent'")
-    ctx = _Context(file=file, library=library, decimal_comma=sep != ",", unit="line")
+    ctx = ReadContext(file=file, library=library, decimal_comma=sep != ",", unit="line")
     out, seen = [], set()
     for line, row in rows[1:]:
         extra = [c for c in row[len(columns):] if c.strip()]
@@ -153,26 +155,26 @@ def read_shelf(path, library) -> list:
         if not name:
             continue
         coords = {}
-        for c in _COORDS:
+        for c in COORDINATES:
             if cells.get(c):
                 try:
-                    coords[c] = _coordinate(cells[c], c, ctx.decimal_comma)
-                except _CellProblem as p:
+                    coords[c] = parse_coordinate(cells[c], c, ctx.decimal_comma)
+                except CellProblem as p:
                     raise InputError(p.message, file=file, line=line, column=c, hint=p.hint) from None
         if 0 < len(coords) < 3:
             raise InputError("own coordinates need all three of dD, dP, dH.", file=file,
-                             line=line, column=next(c for c in _COORDS if c not in coords),
+                             line=line, column=next(c for c in COORDINATES if c not in coords),
                              hint="fill in the missing ones or clear them all")
-        point = tuple(coords[c] for c in _COORDS) if coords else None
-        label, p, source, _, cas, sol = _resolve(name, point, ctx, line, None)
+        point = tuple(coords[c] for c in COORDINATES) if coords else None
+        label, p, source, _, cas, sol = resolve_solvent(name, point, ctx, line, None)
         props = {}
         for col, (fld, lo, hi) in PROPERTY_COLUMNS.items():
             raw = cells.get(col)
             if not raw:
                 continue
             try:
-                v = _parse_number(raw, ctx.decimal_comma)
-            except _CellProblem as prob:
+                v = parse_number(raw, ctx.decimal_comma)
+            except CellProblem as prob:
                 raise InputError(prob.message.replace("MPa½", "the column's unit"), file=file,
                                  line=line, column=col, hint=f"write a number for {col}") from None
             if not (math.isfinite(v) and lo <= v <= hi):
@@ -180,7 +182,6 @@ def read_shelf(path, library) -> list:
                                  line=line, column=col, hint="check the value and its unit")
             props[fld] = v
         if sol is None:
-            from solsphere.library.table import Solvent
             sol = Solvent(name=label, dD=p[0], dP=p[1], dH=p[2], liquid=True)
         sol = dataclasses.replace(sol, dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), **props)
         ident = sol.cas or sol.name.casefold()

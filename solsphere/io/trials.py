@@ -1,6 +1,6 @@
 """Bench results: read, validate and resolve the trials a sphere is fitted to.
 
-A results file (CSV or TSV, see CONVENTIONS.md) has one row per trial::
+A results file (CSV or TSV, see DEVELOPERS.md, "Conventions") has one row per trial::
 
     solvent,outcome,dD,dP,dH,note
     toluene,good,,,,clear after 1 h
@@ -43,6 +43,7 @@ from __future__ import annotations
 
 import csv
 import difflib
+import io
 import math
 import re
 from dataclasses import dataclass, field
@@ -53,15 +54,16 @@ import numpy as np
 from solsphere import hansen as hsp
 from solsphere.errors import InputError, UnknownSolventError
 from solsphere.io.files import MAX_FIELD, read_text as _read_file_text
+from solsphere.library.table import load_library
 from solsphere.limits import check as check_limit, clip, current as current_limits
 
-__all__ = ["Trial", "Trials", "read", "read_text", "from_rows", "validate_rows",
+__all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
            "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
-#: Words shown to people for each outcome (CONVENTIONS.md).
+#: Words shown to people for each outcome (DEVELOPERS.md, "Conventions"): the one table.
 DISPLAY = {"good": "dissolves", "partial": "partly", "bad": "does not"}
 #: How :meth:`Trials.binary` counts a partial result unless told otherwise.
 DEFAULT_PARTIAL = "good"
@@ -79,7 +81,7 @@ OUTCOME_WORDS = {
     "partial": ("partial", "partly", "partially", "swells", "swollen", "0.5"),
 }
 _WORD_TO_OUTCOME = {w: k for k, words in OUTCOME_WORDS.items() for w in words}
-_COORDS = ("dD", "dP", "dH")
+COORDINATES = ("dD", "dP", "dH")
 _OVERRIDE = "+own override"
 _HEADER_ALIASES = {
     "solvent": "solvent", "solvents": "solvent",
@@ -260,7 +262,6 @@ class Trials:
 
     def to_csv(self) -> str:
         """The trials as the text of a results file (comma-separated, header first)."""
-        import io
         buf = io.StringIO()
         w = csv.writer(buf, lineterminator="\n")
         w.writerow(COLUMNS)
@@ -306,13 +307,13 @@ class Trials:
             return InputError(f"trials: {msg}", file=label, hint=hint)
 
         if not isinstance(data, dict):
-            raise bad(f"expected an object, found {_json_type(data)}")
+            raise bad(f"expected an object, found {json_type(data)}")
         for key, typ, tname in (("source", str, "a string"), ("warnings", list, "a list"),
                                 ("rows", list, "a list")):
             if key not in data:
                 raise bad(f"missing key {key!r}")
             if not isinstance(data[key], typ):
-                raise bad(f"{key!r} must be {tname}, found {_json_type(data[key])}")
+                raise bad(f"{key!r} must be {tname}, found {json_type(data[key])}")
         if not all(isinstance(w, str) for w in data["warnings"]):
             raise bad("'warnings' must be a list of strings")
         source = data["source"]
@@ -321,13 +322,13 @@ class Trials:
         for i, r in enumerate(data["rows"]):
             where = f"rows[{i}]"
             if not isinstance(r, dict):
-                raise bad(f"{where} must be an object, found {_json_type(r)}")
+                raise bad(f"{where} must be an object, found {json_type(r)}")
             for key in ("solvent", "outcome", "line", "resolved"):
                 if key not in r:
                     raise bad(f"{where} has no {key!r}")
             for key in ("solvent", "outcome", "note"):
                 if key in r and not isinstance(r[key], str):
-                    raise bad(f"{where}.{key} must be a string, found {_json_type(r[key])}")
+                    raise bad(f"{where}.{key} must be a string, found {json_type(r[key])}")
             if not isinstance(r["line"], int) or isinstance(r["line"], bool) or r["line"] < 1:
                 raise bad(f"{where}.line must be a positive integer, found {clip(r['line'])}")
             res = r["resolved"]
@@ -338,14 +339,14 @@ class Trials:
             if not all(0.0 <= v <= MAX_COORDINATE for v in res):
                 raise bad(f"{where}.resolved must hold coordinates from 0 to "
                           f"{MAX_COORDINATE:g} MPa½, found {clip(res)}")
-            for c in _COORDS:
+            for c in COORDINATES:
                 v = r.get(c)
                 if v is not None and not _is_number(v):
                     raise bad(f"{where}.{c} must be a number or null, found {clip(v)}")
             cells = {k: r.get(k) for k in COLUMNS}
             records.append((r["line"], cells, tuple(float(v) for v in res)))
         lib = _get_library(library)
-        ctx = _Context(file=source, library=lib, decimal_comma=True,
+        ctx = ReadContext(file=source, library=lib, decimal_comma=True,
                        unit="row" if source == "<table>" else "line")
         trials, errors = _collect(((ln, cells) for ln, cells, _ in records), ctx,
                                   stored=[s for _, _, s in records])
@@ -387,22 +388,9 @@ def read(path, library: LibraryLike | None = None) -> Trials:
 def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None) -> Trials:
     """Read bench results from the text of a results file.
 
-    Parameters
-    ----------
-    text : str
-        The whole file (any line endings; a leading BOM is ignored).
-    source : str, default="<text>"
-        Name used in messages.
-    library : Library or None, default=None
-        None means :func:`solsphere.library.load_library`.
-
-    Returns
-    -------
-    Trials
-
-    Raises
-    ------
-    InputError
+    ``text`` is the whole file (any line endings; a leading BOM is ignored); ``source``
+    names it in messages; ``library`` and the result are as for :func:`read`, and so is
+    the error raised for the first problem.
     """
     text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
     records, decimal_comma, header_warnings, header_line = _parse_table(text, source)
@@ -411,12 +399,45 @@ def read_text(text: str, source: str = "<text>", library: LibraryLike | None = N
                          line=header_line + 1,
                          hint="add one row per solvent tested, e.g. 'toluene,good'")
     check_limit("rows", len(records), "the results", file=source)
-    ctx = _Context(file=source, library=_get_library(library), decimal_comma=decimal_comma,
+    ctx = ReadContext(file=source, library=_get_library(library), decimal_comma=decimal_comma,
                    unit="line", warnings=list(header_warnings))
     trials, errors = _collect(records, ctx)
     if errors:
         raise _first(errors)
     return Trials(trials=trials, source=source, warnings=ctx.warnings)
+
+
+def read_trials(source, library: LibraryLike | None = None) -> Trials:
+    """Bench results from a file path or a table (a pandas DataFrame or a list of dicts).
+
+    A table is read exactly like a file with the same columns (``solvent``, ``outcome``,
+    optional ``dD``, ``dP``, ``dH``, ``note``; the header words a file may use), so its
+    problems get the same messages, with the row's line as in the CSV it stands for
+    (the header is line 1).
+
+    Parameters
+    ----------
+    source : str, os.PathLike, pandas.DataFrame or list of dict
+    library : Library or None, default=None
+
+    Examples
+    --------
+    >>> t = read_trials([{"solvent": "toluene", "outcome": "dissolves"},
+    ...                  {"solvent": "water", "outcome": "does not"}])
+    >>> t.names, t.outcomes
+    (['toluene', 'water'], ['good', 'bad'])
+    """
+    if hasattr(source, "to_csv") and hasattr(source, "columns"):  # a DataFrame
+        return read_text(source.to_csv(index=False), source="<DataFrame>", library=library)
+    if isinstance(source, (list, tuple)):
+        cols = list(dict.fromkeys(k for row in source for k in row))
+        buf = io.StringIO()
+        w = csv.DictWriter(buf, fieldnames=cols, lineterminator="\n")
+        w.writeheader()
+        w.writerows({k: ("" if row.get(k) is None else row.get(k)) for k in cols}
+                    for row in source)
+        return read_text(buf.getvalue(), source="<rows>", library=library)
+    return read(source, library=library)
 
 
 def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,
@@ -442,7 +463,7 @@ def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,
         One per bad cell, with ``line`` = row index + 1 and ``column`` = the column
         name. Empty when everything is fine.
     """
-    ctx = _Context(file=source, library=_get_library(library), decimal_comma=True,
+    ctx = ReadContext(file=source, library=_get_library(library), decimal_comma=True,
                    unit="row")
     rows = rows if isinstance(rows, (list, tuple)) else list(rows)
     if len(rows) > current_limits().rows:  # blank rows do not count
@@ -513,7 +534,7 @@ def parse_outcome(text) -> str | None:
 
 
 @dataclass
-class _Context:
+class ReadContext:
     file: str
     library: Any
     decimal_comma: bool
@@ -544,7 +565,7 @@ class _Context:
 SUGGEST_FIRST = 5
 
 
-class _CellProblem(Exception):
+class CellProblem(Exception):
     def __init__(self, message: str, hint: str | None = None):
         super().__init__(message)
         self.message, self.hint = message, hint
@@ -553,11 +574,10 @@ class _CellProblem(Exception):
 def _get_library(library):
     if library is not None:
         return library
-    from solsphere.library.table import load_library
     return load_library()
 
 
-def _json_type(v) -> str:
+def json_type(v) -> str:
     return {dict: "an object", list: "a list", str: "a string", bool: "true/false",
             type(None): "null"}.get(type(v), "a number" if _is_number(v) else type(v).__name__)
 
@@ -592,20 +612,20 @@ def _empty(v) -> bool:
 _NUMBER = re.compile(r"^[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?$")
 
 
-def _parse_number(raw, decimal_comma: bool) -> float:
-    """A float from a cell; raises _CellProblem with a reason."""
+def parse_number(raw, decimal_comma: bool) -> float:
+    """A float from a cell; raises CellProblem with a reason."""
     if _is_number(raw):
         return float(raw)
     s = str(raw).strip().replace("\u2212", "-").replace(" ", "")
     low = s.lower().lstrip("+-")
     if low in ("nan", "inf", "infinity"):
-        raise _CellProblem(f"{clip(raw)} is not a finite number.", "write a number in MPa½")
+        raise CellProblem(f"{clip(raw)} is not a finite number.", "write a number in MPa½")
     if not _NUMBER.match(s):
-        raise _CellProblem(f"{clip(str(raw).strip())} is not a number.",
-                           "write a number in MPa½, e.g. 17.8")
+        raise CellProblem(f"{clip(str(raw).strip())} is not a number.",
+                          "write a number in MPa½, e.g. 17.8")
     if "," in s:
         if not decimal_comma:
-            raise _CellProblem(f"{clip(str(raw).strip())} has a decimal comma, but this file "
+            raise CellProblem(f"{clip(str(raw).strip())} has a decimal comma, but this file "
                                f"separates its columns with commas.",
                                f"write {s.replace(',', '.')} with a decimal point, or save "
                                f"the file with semicolons")
@@ -613,15 +633,15 @@ def _parse_number(raw, decimal_comma: bool) -> float:
     return float(s)
 
 
-def _coordinate(raw, name: str, decimal_comma: bool) -> float:
-    v = _parse_number(raw, decimal_comma)
+def parse_coordinate(raw, name: str, decimal_comma: bool) -> float:
+    v = parse_number(raw, decimal_comma)
     if not math.isfinite(v):
-        raise _CellProblem(f"{name} {clip(raw)} is not a finite number.", "write a number in MPa½")
+        raise CellProblem(f"{name} {clip(raw)} is not a finite number.", "write a number in MPa½")
     if v < 0:
-        raise _CellProblem(f"{name} is {v:g}, but Hansen parameters cannot be negative.",
+        raise CellProblem(f"{name} is {v:g}, but Hansen parameters cannot be negative.",
                            "check the sign and the column")
     if v > MAX_COORDINATE:
-        raise _CellProblem(f"{name} is {v:g} MPa½, above {MAX_COORDINATE:g} (no solvent "
+        raise CellProblem(f"{name} is {v:g} MPa½, above {MAX_COORDINATE:g} (no solvent "
                            f"comes close).", "check the units (MPa½) and the column")
     return v
 
@@ -703,7 +723,7 @@ def _simplify(raw: str) -> str:
     return re.sub(r"[\s_\-.]", "", raw.strip().lower())
 
 
-def _sniff(header: str, file: str, line: int) -> str:
+def sniff_delimiter(header: str, file: str, line: int) -> str:
     bare = re.sub(r'"[^"]*"', "", header)
     counts = {sep: bare.count(sep) for sep in ("\t", ";", ",")}
     best = max(counts, key=counts.__getitem__)
@@ -729,7 +749,7 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list
             canon.append(None)
             unknown.append(name)
             continue
-        if key in _COORDS and unit:
+        if key in COORDINATES and unit:
             u = unit.replace(" ", "")
             if "cal" in u:
                 raise InputError(f"column {clip(name)} is in (cal/cm³)½; solsphere works in "
@@ -796,7 +816,7 @@ def _parse_table(text: str, file: str):
                              "one row per trial.", file=file, line=None,
                              hint=f"add a header such as {_HEADER_EXAMPLE}")
     header_line = kept[0][0]
-    sep = declared.group(1) if declared else _sniff(kept[0][1], file, header_line)
+    sep = declared.group(1) if declared else sniff_delimiter(kept[0][1], file, header_line)
     reader = csv.reader((s for _, s in kept), delimiter=sep, quotechar='"',
                         skipinitialspace=True)
     warnings: list[str] = []
@@ -843,7 +863,7 @@ def _parse_table(text: str, file: str):
 # ------------------------------------------------------------------------- resolution
 
 
-def _collect(records: Iterable, ctx: _Context, stored: list | None = None):
+def _collect(records: Iterable, ctx: ReadContext, stored: list | None = None):
     """Parse records into trials; drop repeats; gather errors in line order."""
     trials: list[Trial] = []
     errors: list[InputError] = []
@@ -889,7 +909,7 @@ def _outcome_hint() -> str:
     return "; ".join(f"{k}: {', '.join(v)}" for k, v in OUTCOME_WORDS.items())
 
 
-def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
+def _parse_row(cells: dict, line: int, ctx: ReadContext, stored=None):
     """(Trial, []) or (None, [InputError, ...]) for one row."""
     errors: list[InputError] = []
 
@@ -920,22 +940,22 @@ def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
             bad(f"{clip(_text(raw_outcome))} is not an outcome solsphere knows.", "outcome",
                 f"write one of: {_outcome_hint()}")
     coords: dict[str, float] = {}
-    given = [c for c in _COORDS if not _empty(cells.get(c))]
+    given = [c for c in COORDINATES if not _empty(cells.get(c))]
     coord_problem = False
     for c in given:
         try:
-            coords[c] = _coordinate(cells[c], c, ctx.decimal_comma)
-        except _CellProblem as p:
+            coords[c] = parse_coordinate(cells[c], c, ctx.decimal_comma)
+        except CellProblem as p:
             bad(f"{c}: {p.message}" if not p.message.startswith(c) else p.message, c, p.hint)
             coord_problem = True
     if 0 < len(given) < 3 and not coord_problem:
-        missing = [c for c in _COORDS if c not in given]
+        missing = [c for c in COORDINATES if c not in given]
         bad(f"only {', '.join(given)} given; own coordinates need all three of dD, dP, dH "
             f"(missing {', '.join(missing)}).", missing[0],
             f"fill in {', '.join(missing)}, or clear {', '.join(given)} to use the library "
             f"values")
         coord_problem = True
-    point = tuple(coords[c] for c in _COORDS) if len(coords) == 3 else None
+    point = tuple(coords[c] for c in COORDINATES) if len(coords) == 3 else None
     resolved = None
     if not text:
         bad("the solvent cell is empty.", "solvent",
@@ -943,7 +963,7 @@ def _parse_row(cells: dict, line: int, ctx: _Context, stored=None):
             "'toluene 70 + ethanol 30'")
     elif not coord_problem:
         try:
-            resolved = _resolve(text, point, ctx, line, stored)
+            resolved = resolve_solvent(text, point, ctx, line, stored)
         except InputError as e:
             errors.append(e)
     if errors:
@@ -989,7 +1009,7 @@ def _suggestions(library, text: str) -> list[str]:
     return []
 
 
-def _resolve(text: str, point, ctx: _Context, line: int, stored):
+def resolve_solvent(text: str, point, ctx: ReadContext, line: int, stored):
     """(name, point, source, components, cas, solvent) for a solvent cell."""
     lib = ctx.library
     sol = lib.find(text)
@@ -1078,7 +1098,7 @@ def _lead(piece: str) -> dict | None:
 MAX_BLEND_PART = 1e6
 
 
-def _parse_blend(text: str, ctx: _Context, line: int):
+def _parse_blend(text: str, ctx: ReadContext, line: int):
     """(label, point, components) of a blend cell such as 'toluene 70 + ethanol 30'."""
     lib = ctx.library
     example = "write each component with its volume part: 'toluene 70 + ethanol 30'"

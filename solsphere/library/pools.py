@@ -20,10 +20,14 @@ from __future__ import annotations
 
 import csv
 import io
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
+from typing import Any, Iterable
 
-__all__ = ["CommonSolvent", "FAMILIES", "POOLS", "read_common", "load_common", "common_cas"]
+from solsphere.library.data import data_dir
+
+__all__ = ["CommonSolvent", "FAMILIES", "POOLS", "read_common", "load_common", "common_cas",
+           "Filtered", "apply_filters"]
 
 #: The families used in the list (our own short words).
 FAMILIES = frozenset({
@@ -104,10 +108,123 @@ def read_common(text: str, source: str = "common_solvents.csv") -> tuple[CommonS
 @lru_cache(maxsize=1)
 def load_common() -> tuple[CommonSolvent, ...]:
     """The packaged common list, read once per process (cached)."""
-    from solsphere.library.table import _data_dir
-    return read_common(_data_dir().joinpath("common_solvents.csv").read_text(encoding="utf-8"))
+    return read_common(data_dir().joinpath("common_solvents.csv").read_text(encoding="utf-8"))
 
 
 def common_cas() -> frozenset[str]:
     """CAS numbers of the packaged common list."""
     return frozenset(s.cas for s in load_common())
+
+
+# ----------------------------------------------------------------------------- filters
+@dataclass
+class Filtered:
+    """The solvents that passed :func:`apply_filters` and, per reason, those that did not.
+
+    ``removed`` maps a reason (``"excluded_by_name"``, ``"duplicates_dropped"``,
+    ``"not_liquid"``, ``"removed_low_flash_point"``, ``"removed_unknown_flash_point"``,
+    ``"removed_high_boiling_point"``, ``"removed_unknown_boiling_point"``,
+    ``"removed_low_boiling_point"``, ``"removed_unknown_boiling_point_min"``,
+    ``"removed_low_exposure_limit"``, ``"removed_carcinogen"``) to the names removed for it;
+    a solvent whose value is unknown is never dropped silently.
+    """
+
+    kept: list
+    removed: dict[str, list[str]] = field(default_factory=dict)
+
+
+def apply_filters(solvents: Iterable[Any], *, exclude_names: Iterable[str] = (),
+                  liquid_only: bool = False, min_flash_point: float | None = None,
+                  max_boiling_point: float | None = None,
+                  min_boiling_point: float | None = None,
+                  min_exposure_limit: float | None = None,
+                  exclude_carcinogens: bool = False, keep_unknown: bool = False,
+                  drop_duplicates: bool = False) -> Filtered:
+    """The one candidate filter behind every pool (rank, blend, next, replace; CLI and app).
+
+    Parameters
+    ----------
+    solvents : iterable of Solvent
+    exclude_names : iterable of str, default=()
+        Display names to leave out (compared after ``casefold``; resolve abbreviations
+        through the library first).
+    liquid_only : bool, default=False
+        Keep only compounds known to be liquid at 25 °C.
+    min_flash_point, max_boiling_point, min_boiling_point : float or None
+        Limits [°C]. A solvent whose value is unknown does not pass an active limit
+        (it cannot be shown to pass) unless ``keep_unknown``; it is listed under its own
+        reason.
+    min_exposure_limit : float or None
+        Leave out solvents whose 8-hour exposure limit is below this [ppm]; a solvent
+        without exposure-limit data is kept (most of the library has none).
+    exclude_carcinogens : bool, default=False
+        Leave out solvents with any carcinogen listing.
+    keep_unknown : bool, default=False
+    drop_duplicates : bool, default=False
+        Keep only the first of solvents with the same name (after ``casefold``).
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as S
+    >>> a = S(name="a", liquid=True, flash_point=30.0, boiling_point=100.0, twa_ppm=None,
+    ...       carcinogen=None)
+    >>> b = S(name="b", liquid=True, flash_point=None, boiling_point=80.0, twa_ppm=None,
+    ...       carcinogen=None)
+    >>> f = apply_filters([a, b], min_flash_point=23.0)
+    >>> [s.name for s in f.kept], f.removed
+    (['a'], {'removed_unknown_flash_point': ['b']})
+    """
+    drop = {str(n).casefold() for n in exclude_names}
+    removed: dict[str, list[str]] = {}
+    seen: set[str] = set()
+    kept = []
+
+    def out(reason: str, s) -> None:
+        removed.setdefault(reason, []).append(s.name)
+
+    def unknown_or(value, fails: bool, low: str, unknown: str, s) -> bool:
+        if value is None:
+            if keep_unknown:
+                return False
+            out(unknown, s)
+            return True
+        if fails:
+            out(low, s)
+            return True
+        return False
+
+    for s in solvents:
+        key = s.name.casefold()
+        if drop_duplicates:
+            if key in seen:
+                out("duplicates_dropped", s)
+                continue
+            seen.add(key)
+        if key in drop:
+            out("excluded_by_name", s)
+            continue
+        if liquid_only and getattr(s, "liquid", None) is not True:
+            out("not_liquid", s)
+            continue
+        fp, bp = s.flash_point, s.boiling_point
+        if min_flash_point is not None and unknown_or(
+                fp, fp is not None and fp < min_flash_point, "removed_low_flash_point",
+                "removed_unknown_flash_point", s):
+            continue
+        if max_boiling_point is not None and unknown_or(
+                bp, bp is not None and bp > max_boiling_point, "removed_high_boiling_point",
+                "removed_unknown_boiling_point", s):
+            continue
+        if min_boiling_point is not None and unknown_or(
+                bp, bp is not None and bp < min_boiling_point, "removed_low_boiling_point",
+                "removed_unknown_boiling_point_min", s):
+            continue
+        if (min_exposure_limit is not None and s.twa_ppm is not None
+                and s.twa_ppm < min_exposure_limit):
+            out("removed_low_exposure_limit", s)
+            continue
+        if exclude_carcinogens and s.carcinogen:
+            out("removed_carcinogen", s)
+            continue
+        kept.append(s)
+    return Filtered(kept, removed)

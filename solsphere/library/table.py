@@ -41,16 +41,18 @@ import math
 import re
 from dataclasses import dataclass, field
 from functools import lru_cache
-from importlib.resources import files
-from pathlib import Path
 from typing import Iterable, Iterator, Mapping
 
 import numpy as np
 
 from solsphere.errors import UnknownSolventError
+from solsphere.formatting import short
+from solsphere.library.data import data_dir
+from solsphere.library.pools import apply_filters, common_cas
 
 __all__ = [
-    "Solvent", "Library", "load_library", "hazard_flags", "normalise",
+    "Solvent", "Library", "load_library", "hazard_flags", "normalise", "tested_keys",
+    "is_tested",
     "GHS_FLASH_CATEGORY_2_C", "GHS_FLASH_CATEGORY_3_C", "GHS_FLASH_CATEGORY_4_C",
     "GHS_BOILING_CATEGORY_1_C", "LOW_EXPOSURE_LIMIT_PPM", "SPREAD_FLAG_MPA",
 ]
@@ -299,7 +301,6 @@ class Library:
         number; it leaves out reagents, monomers and intermediates. Being on it says
         nothing about safety.
         """
-        from solsphere.library.pools import common_cas
         keep = common_cas()
         return self._subset(i for i, r in enumerate(self.records) if r.cas in keep)
 
@@ -334,30 +335,14 @@ class Library:
         """
         if isinstance(exclude, str):
             exclude = [exclude]
-        drop = {self._require(x) for x in exclude}
-
-        def ok(i: int, r: Solvent) -> bool:
-            if i in drop:
-                return False
-            if liquid_only and r.liquid is not True:
-                return False
-            if min_flash_point is not None:
-                if r.flash_point is None:
-                    if not keep_unknown:
-                        return False
-                elif r.flash_point < min_flash_point:
-                    return False
-            if max_boiling_point is not None:
-                if r.boiling_point is None:
-                    if not keep_unknown:
-                        return False
-                elif r.boiling_point > max_boiling_point:
-                    return False
-            if exclude_carcinogens and r.carcinogen:
-                return False
-            return True
-
-        return self._subset(i for i, r in enumerate(self.records) if ok(i, r))
+        drop = {self.records[self._require(x)].name for x in exclude}
+        kept = apply_filters(self.records, exclude_names=drop, liquid_only=liquid_only,
+                             min_flash_point=min_flash_point,
+                             max_boiling_point=max_boiling_point,
+                             exclude_carcinogens=exclude_carcinogens,
+                             keep_unknown=keep_unknown).kept
+        ids = {id(s) for s in kept}
+        return self._subset(i for i, r in enumerate(self.records) if id(r) in ids)
 
     def _require(self, text: str) -> int:
         i = self._index_of(text)
@@ -444,30 +429,47 @@ def _read_aliases(text: str) -> dict[str, str]:
             for row in csv.DictReader(io.StringIO(text)) if row.get("alias")}
 
 
-def _data_dir():
-    """The packaged data folder: ``solsphere.data`` when installed (pyproject maps it to
-    data/); in a source checkout that was never installed, the repository's data/."""
-    try:
-        return files("solsphere.data")
-    except ModuleNotFoundError:
-        return Path(__file__).resolve().parents[2] / "data"
-
-
 @lru_cache(maxsize=1)
 def load_library() -> Library:
     """The packaged library (``solsphere.data``: solvents.csv and aliases.csv).
 
     Read once per process and cached; the same object is returned on every call.
     """
-    data = _data_dir()
+    data = data_dir()
     records = _read_solvents(data.joinpath("solvents.csv").read_text(encoding="utf-8"))
     aliases = _read_aliases(data.joinpath("aliases.csv").read_text(encoding="utf-8"))
     return Library(records, aliases)
 
 
 # ----------------------------------------------------------------------------- hazards
-def _num(x: float) -> str:
-    return f"{round(float(x), 1):g}"
+def tested_keys(names: Iterable[str], library: "Library | None" = None) -> frozenset[str]:
+    """Lookup keys of solvents already tested: each name (or CAS number) as given and,
+    where the library knows it, its library name and CAS number, all :func:`normalise`-d.
+
+    One rule for every list that leaves tested solvents out (rank, next trials ...):
+    ``"MEK"`` marks 2-butanone as tested, and so does its CAS number.
+
+    >>> lib = Library([Solvent("2-butanone", 16.0, 9.0, 5.1, cas="78-93-3")], {"MEK": "78-93-3"})
+    >>> is_tested(lib[0], tested_keys(["MEK"], lib))
+    True
+    """
+    library = load_library() if library is None else library
+    keys = set()
+    for n in names:
+        if not str(n).strip():
+            continue
+        keys.add(normalise(n))
+        s = library.find(str(n))
+        if s is not None:
+            keys.add(normalise(s.name))
+            if s.cas:
+                keys.add(normalise(s.cas))
+    return frozenset(keys)
+
+
+def is_tested(solvent: Solvent, keys: frozenset[str]) -> bool:
+    """True when ``solvent`` (by name or CAS number) is among :func:`tested_keys`."""
+    return normalise(solvent.name) in keys or bool(solvent.cas and normalise(solvent.cas) in keys)
 
 
 def hazard_flags(solvent: Solvent) -> list[str]:
@@ -494,16 +496,16 @@ def hazard_flags(solvent: Solvent) -> list[str]:
             cat = "extremely flammable, GHS category 1"
         else:
             cat = "highly flammable, GHS category 2"
-        flags.append(f"flash point {_num(fp)} °C < {_num(GHS_FLASH_CATEGORY_2_C)} °C ({cat})")
+        flags.append(f"flash point {short(fp)} °C < {short(GHS_FLASH_CATEGORY_2_C)} °C ({cat})")
     elif fp <= GHS_FLASH_CATEGORY_3_C:
-        flags.append(f"flash point {_num(fp)} °C (flammable, GHS category 3)")
+        flags.append(f"flash point {short(fp)} °C (flammable, GHS category 3)")
     elif fp <= GHS_FLASH_CATEGORY_4_C:
-        flags.append(f"flash point {_num(fp)} °C (combustible, GHS category 4)")
+        flags.append(f"flash point {short(fp)} °C (combustible, GHS category 4)")
     if solvent.twa_ppm is not None and solvent.twa_ppm <= LOW_EXPOSURE_LIMIT_PPM:
         flags.append(f"exposure limit {solvent.twa_ppm:.3g} ppm "
-                     f"(≤ {_num(LOW_EXPOSURE_LIMIT_PPM)} ppm)")
+                     f"(≤ {short(LOW_EXPOSURE_LIMIT_PPM)} ppm)")
     if solvent.carcinogen:
         flags.append(f"carcinogen: {solvent.carcinogen}")
     if solvent.spread is not None and solvent.spread > SPREAD_FLAG_MPA:
-        flags.append(f"compilations disagree by {_num(solvent.spread)} MPa½")
+        flags.append(f"compilations disagree by {short(solvent.spread)} MPa½")
     return flags

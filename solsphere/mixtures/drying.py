@@ -52,6 +52,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from solsphere.hansen import as_points, mix, red
+from solsphere.results import Result
 
 __all__ = ["DryingPath", "drying_path", "volume_to_mole_fractions",
            "mole_to_volume_fractions"]
@@ -87,7 +88,7 @@ def mole_to_volume_fractions(mole_fractions, molar_volumes) -> np.ndarray:
 
 
 @dataclass
-class DryingPath:
+class DryingPath(Result):
     """The path of the remaining liquid while a blend evaporates.
 
     Attributes
@@ -166,6 +167,14 @@ class DryingPath:
         ``leaves_at``, or ``max_fraction_evaporated`` when it never leaves.
         """
         return self.max_fraction_evaporated if self.leaves_at is None else self.leaves_at
+
+    def records(self) -> list[dict]:
+        """One row per point of the path: fraction evaporated, composition, δ's, RED."""
+        return [dict({"evaporated": float(u)},
+                     **{f"phi_{n}": float(x) for n, x in zip(self.names, comp)},
+                     dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), red=float(r))
+                for u, comp, p, r in zip(self.fractions_evaporated, self.compositions,
+                                         self.points, self.red)]
 
     def to_dict(self) -> dict:
         """Plain JSON-safe types (lists, floats, None)."""

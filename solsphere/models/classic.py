@@ -27,32 +27,26 @@ References
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, fields
+from dataclasses import dataclass, fields
 from itertools import product
+from typing import Any, NamedTuple
 
 import numpy as np
-from scipy.stats import qmc
 
-from solsphere.errors import FitError, NotFittedError
+from solsphere.errors import FitError
+from solsphere.formatting import num, warning_lines
 from solsphere.hansen import as_points, ra
+from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
+                                   as_weights, estimator,
+                                   counted_classes, default_bounds, edge_warnings,
+                                   few_results_warnings, model_inputs, search_box,
+                                   unboundable_message)
 
-AXES = ("dD", "dP", "dH")
-WORDS = {"good": "dissolves", "bad": "does not", "partial": "partly"}
-MIN_ADVISED = 5  # fewer good or bad results than this gives a warning (common practice, no source)
-EDGE = 0.05  # MPa½: a centre this close to a bound of the search box is "at the edge"
+__all__ = ["SphereModel", "SphereFitResult", "SphereOptimum", "best_sphere", "best_radius",
+           "desirability", "grid_search", "default_bounds"]
+
 _R0_FLOOR = 1e-9  # R0 must be positive
-SURFACE = 1e-5  # MPa½: a solvent this close to the fitted surface lies on it
 _CUBE = np.array([d for d in product((-1.0, 0.0, 1.0), repeat=3) if any(d)])
-
-
-def _weights(weights, n: int) -> np.ndarray:
-    if weights is None:
-        return np.ones(n)
-    w = np.asarray(weights, dtype=float).reshape(-1)
-    if w.shape != (n,) or not np.all(np.isfinite(w)) or np.any(w < 0) or not w.sum() > 0:
-        raise ValueError(f"weights must be {n} finite numbers >= 0 with a positive sum; "
-                         f"found shape {w.shape}")
-    return w
 
 
 def desirability(ra, good, R0, weights=None):
@@ -80,7 +74,7 @@ def desirability(ra, good, R0, weights=None):
     """
     r = np.asarray(ra, dtype=float)
     g = np.asarray(good, dtype=bool)
-    w = _weights(weights, r.shape[-1])
+    w = as_weights(weights, r.shape[-1])
     R = np.asarray(R0, dtype=float)[..., None]
     inside = r <= R
     pen = np.where(g & ~inside, r - R, 0.0) + np.where(~g & inside, R - r, 0.0)
@@ -150,27 +144,11 @@ def best_radius(ra, good, weights=None):
     """
     r = np.asarray(ra, dtype=float)
     g = np.asarray(good, dtype=bool)
-    w = _weights(weights, r.shape[-1])
+    w = as_weights(weights, r.shape[-1])
     keep = w > 0
     R0, _ = _profile(np.atleast_2d(r)[:, keep], g[keep], w[keep])
     D = desirability(np.atleast_2d(r), g, R0, w)
     return (float(R0[0]), float(D[0])) if r.ndim == 1 else (R0, D)
-
-
-def default_bounds(points) -> np.ndarray:
-    """The box spanned by the tested solvents, intersected with δ >= 0; shape (3, 2)."""
-    p = as_points(points)
-    return np.maximum(np.column_stack([p.min(axis=0), p.max(axis=0)]), 0.0)
-
-
-def _box(bounds, points) -> np.ndarray:
-    if bounds is None:
-        return default_bounds(points)
-    b = np.maximum(np.asarray(bounds, dtype=float), 0.0)
-    if b.shape != (3, 2) or not np.all(np.isfinite(b)) or np.any(b[:, 0] > b[:, 1]):
-        raise ValueError("bounds must be [[dD_lo, dD_hi], [dP_lo, dP_hi], [dH_lo, dH_hi]] "
-                         f"with lo <= hi; found {np.asarray(bounds).tolist()}")
-    return b
 
 
 #: Two values of -ln D closer than this are a tie (rounding: a perfect fit can come out
@@ -191,6 +169,8 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
     ``start`` (array of shape (k, 3), optional) adds centres to the global stage's
     candidates (clipped to the box), e.g. a previous fit's centre for a warm start.
     """
+    from scipy.stats import qmc  # deferred: scipy.stats costs seconds to import (CLI start-up)
+
     rng = np.random.default_rng(seed)
     keep = w > 0
     X, g, w = X[keep], g[keep], w[keep]
@@ -238,8 +218,16 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
     return C[b], bool(np.all(s <= s_min)), count
 
 
-def fit_sphere(points, good, weights=None, bounds=None, seed=0, *, start=None,
-               n_global=2048, n_starts=8, xtol=1e-6):
+class SphereOptimum(NamedTuple):
+    """The sphere of greatest desirability: centre (3,), R0 and desirability D."""
+
+    centre: np.ndarray
+    R0: float
+    desirability: float
+
+
+def best_sphere(points, good, weights=None, bounds=None, seed=0, *, start=None,
+                n_global=2048, n_starts=8, xtol=1e-6) -> SphereOptimum:
     """Centre and radius of greatest desirability (ties: the smallest R0).
 
     Global stage: the goods' weighted centroid, each good solvent and 2048 scrambled
@@ -249,7 +237,7 @@ def fit_sphere(points, good, weights=None, bounds=None, seed=0, *, start=None,
     step without improvement, down to 1e-6 MPa½), clipped to the box. Deterministic for
     a given ``seed``. Checked against an exhaustive grid of centres in the tests.
     The optimum usually has several solvents exactly on the surface; the search leaves
-    them up to ~1e-6 MPa½ on either side of it (see ``SphereFit.table``'s on_surface).
+    them up to ~1e-6 MPa½ on either side of it (see ``SphereFitResult.table``'s on_surface).
 
     Parameters
     ----------
@@ -272,29 +260,30 @@ def fit_sphere(points, good, weights=None, bounds=None, seed=0, *, start=None,
 
     Returns
     -------
-    centre : ndarray of shape (3,), R0 : float, D : float
+    SphereOptimum
+        ``(centre, R0, desirability)``; unpacks like a tuple.
 
     Examples
     --------
     >>> X = [[17, 10, 7], [19, 10, 7], [10, 30, 30], [25, 0, 0], [14, 2, 20]]
-    >>> c, R0, D = fit_sphere(X, [True, True, False, False, False])  # invented
+    >>> c, R0, D = best_sphere(X, [True, True, False, False, False])  # invented
     >>> c.round(4).tolist(), round(R0, 4), D
     ([18.0, 10.0, 7.0], 2.0, 1.0)
     """
     c, _, _, R0, D = _fit(points, good, weights, bounds, seed, start=start,
                           n_global=n_global, n_starts=n_starts, xtol=xtol)
-    return c, R0, D
+    return SphereOptimum(c, R0, D)
 
 
 def _fit(points, good, weights, bounds, seed, **search):
     X = as_points(points)
     g = np.asarray(good, dtype=bool).reshape(-1)
-    w = _weights(weights, len(X))
+    w = as_weights(weights, len(X))
     if g.shape != (len(X),):
         raise ValueError(f"good must have {len(X)} entries; found {g.shape[0]}")
     if not (np.any(g & (w > 0)) and np.any(~g & (w > 0))):
         raise FitError("a sphere needs at least one good and one bad result (with weight > 0)")
-    box = _box(bounds, X)
+    box = search_box(bounds, X)
     c, ok, count = _search(X, g, w, box, seed, **search)
     R0, D = best_radius(ra(X, c), g, w)
     return c, ok, count, R0, D
@@ -307,9 +296,9 @@ def grid_search(points, good, weights=None, bounds=None, step=0.1, chunk=20000):
     """
     X = as_points(points)
     g = np.asarray(good, dtype=bool)
-    w = _weights(weights, len(X))
+    w = as_weights(weights, len(X))
     keep = w > 0
-    box = _box(bounds, X)
+    box = search_box(bounds, X)
     axes = [lo + step * np.arange(int(np.floor((hi - lo) / step + 1e-9)) + 1) for lo, hi in box]
     shape = tuple(len(a) for a in axes)
     total = int(np.prod(shape))
@@ -327,7 +316,7 @@ def grid_search(points, good, weights=None, bounds=None, step=0.1, chunk=20000):
 
 
 @dataclass
-class SphereFit:
+class SphereFitResult(FitResultBase):
     """Result of :meth:`SphereModel.fit` (flat attributes; units MPa½).
 
     ``n_good``, ``n_bad``, ``n_partial`` count the outcomes as tested; ``n_counted_good``
@@ -360,16 +349,11 @@ class SphereFit:
     success: bool
     n_evaluations: int
 
-    @property
-    def centre(self) -> np.ndarray:
-        return np.array([self.dD, self.dP, self.dH])
 
-    def to_dict(self) -> dict:
-        """JSON-safe plain types (the ``solsphere fit --json`` object)."""
-        return asdict(self)
+
 
     @classmethod
-    def from_dict(cls, data: dict) -> "SphereFit":
+    def from_dict(cls, data: dict) -> "SphereFitResult":
         names = [f.name for f in fields(cls)]
         missing = [k for k in names if k not in data]
         if missing:
@@ -382,7 +366,7 @@ class SphereFit:
         return cls(**d)
 
     def __str__(self) -> str:
-        f = lambda x: f"{x:.1f}"  # noqa: E731
+        f = num
         out = ["[[Fit]]", f"    desirability = {self.desirability:.4f}",
                f"    success      = {self.success}",
                f"    evaluations  = {self.n_evaluations}",
@@ -402,35 +386,8 @@ class SphereFit:
         on = [r["name"] for r in self.table if r.get("on_surface")]
         if on:
             out.append(f"    on the surface (RED 1.00, either outcome fits): {', '.join(on)}")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
-
-
-def _outcomes(good) -> list[str]:
-    a = np.asarray(good)
-    if a.dtype.kind in "biu":
-        return ["good" if v else "bad" for v in a.reshape(-1)]
-    out = [str(v).strip().lower() for v in a.reshape(-1)]
-    bad = sorted({v for v in out if v not in WORDS})
-    if bad:
-        raise ValueError(f"outcomes must be 'good', 'bad' or 'partial' (or booleans); "
-                         f"found {bad[:3]}")
-    return out
-
-
-def _edge_warnings(c, box) -> list[str]:
-    out = []
-    for a, x, (lo, hi) in zip(AXES, c, box):
-        span = f"tested {a} range {lo:.1f} to {hi:.1f}"
-        if hi - lo <= 2 * EDGE:
-            out.append(f"The {span} is too narrow to locate the centre's {a}; test solvents "
-                       f"with a wider spread of {a}.")
-        elif x - lo <= EDGE or hi - x <= EDGE:
-            side = "lower" if x - lo <= EDGE else "upper"
-            out.append(f"Centre {a} = {x:.1f} is at the {side} edge of the tested region "
-                       f"({span}): the true centre may lie beyond it; test solvents with "
-                       f"{'lower' if side == 'lower' else 'higher'} {a}.")
-    return out
 
 
 #: Smallest radius reported as a sphere [MPa½]. A smaller fitted R0 means the results
@@ -461,64 +418,8 @@ def _degenerate(X: np.ndarray, good: np.ndarray, bad: np.ndarray, names, R0: flo
             f"the results and their coordinates.")
 
 
-def _unboundable(n_cg: int, n_cb: int, n_partial: int, partial: str) -> str:
-    n = n_cg + n_cb
-    note = (f" ({n_partial} 'partly' results are "
-            f"{'left out' if partial == 'skip' else 'counted as ' + partial}; another "
-            "partial setting may help)") if n_partial else ""
-    if n == 0:
-        return (f"No results to fit{note}: record at least one solvent that dissolves the "
-                "material and one that does not.")
-    if n_cb == 0:
-        return (f"All {n} results count as 'dissolves'{note}: the sphere has no outer boundary "
-                "yet. Test some solvents far from these in Hansen space (e.g. water, hexane, "
-                "methanol, a glycol) to find where the material does not dissolve.")
-    return (f"None of the {n} results counts as 'dissolves'{note}: the sphere has no inside "
-            "yet. Test solvents unlike these, with a wide spread of dD, dP and dH (e.g. "
-            "toluene, acetone, ethyl acetate, dichloromethane, DMSO), until one dissolves it.")
-
-
-def model_inputs(X, good=None, names=None, weights=None):
-    """Validated (points (n, 3), outcomes, names, weights) for a model's ``fit``.
-
-    ``X`` is an array of points with ``good`` given, or a trials object (``.points``,
-    ``.outcomes``, ``.names``) with ``good`` None.
-    """
-    if good is None:
-        if not hasattr(X, "points"):
-            raise TypeError("good is required when X is an array (or pass a trials object)")
-        X, good, names = X.points, X.outcomes, list(X.names) if names is None else names
-    outcomes = _outcomes(good)
-    n = len(outcomes)
-    P = as_points(X) if n else np.empty((0, 3))
-    names = [f"trial {i + 1}" for i in range(n)] if names is None else [str(s) for s in names]
-    if len(P) != n or len(names) != n or not np.all(np.isfinite(P)):
-        raise ValueError(f"need {n} finite points and names, one per outcome; found "
-                         f"{len(P)} points and {len(names)} names")
-    w = _weights(weights, n) if n else np.ones(0)
-    return P, outcomes, names, w
-
-
-class FittedSphere:
-    """What every fitted sphere model offers: ``predict`` and ``red`` from ``centre_`` and
-    ``R0_``, and the not-fitted check."""
-
-    def _check(self):
-        if not hasattr(self, "result_"):
-            raise NotFittedError(f"{type(self).__name__} is not fitted yet. Call 'fit' first.")
-
-    def predict(self, points) -> np.ndarray:
-        """True where points lie inside the sphere (Ra <= R0); shape (n,)."""
-        self._check()
-        return ra(points, self.centre_) <= self.R0_
-
-    def red(self, points) -> np.ndarray:
-        """RED = Ra / R0 of each point; shape (n,)."""
-        self._check()
-        return ra(points, self.centre_) / self.R0_
-
-
-class SphereModel(FittedSphere):
+@estimator
+class SphereModel(SphereEstimator):
     """Hansen sphere estimator (scikit-learn style).
 
     Parameters
@@ -529,32 +430,52 @@ class SphereModel(FittedSphere):
         Search box for the centre; default: the box spanned by the tested solvents, δ >= 0.
     seed : int, default=0
         Seed of the quasi-random global stage and search directions (reproducible fits).
+
+    Examples
+    --------
+    >>> X = [[17, 10, 7], [19, 10, 7], [10, 30, 30], [25, 0, 0], [14, 2, 20]]  # invented
+    >>> m = SphereModel().fit(X, ["dissolves", "dissolves", "does not", "does not", "does not"])
+    >>> m.centre_.round(1).tolist(), round(m.R0_, 1), m.score(X, [1, 1, 0, 0, 0])
+    ([18.0, 10.0, 7.0], 2.0, 1.0)
     """
 
-    def __init__(self, partial: str = "good", bounds=None, seed: int = 0):
-        self.partial = partial
-        self.bounds = bounds
-        self.seed = seed
+    partial: str = "good"
+    bounds: Any = None
+    seed: int = 0
 
-    def fit(self, X, good=None, names=None, weights=None, *, warnings=None,
-            extra_warnings=None) -> "SphereModel":
-        """Fit to arrays (X (n, 3), good) or to a trials object (``.points``, ``.outcomes``,
-        ``.names``). ``good`` may be booleans or "good"/"bad"/"partial" strings; ``weights``
-        per trial (default 1); ``warnings`` / ``extra_warnings`` are appended to the result's.
+    def fit(self, X, y=None, names=None, weights=None, *, warnings=None) -> "SphereModel":
+        """Fit the sphere.
+
+        Parameters
+        ----------
+        X : Trials or array-like of shape (n, 3)
+            Bench results (a :class:`~solsphere.io.trials.Trials` object, whose reading
+            warnings come along), or the solvents' δD, δP, δH [MPa½].
+        y : array-like of shape (n,), default=None
+            With an array ``X``: each result in any bench-sheet word ("dissolves" /
+            "partly" / "does not", 1 / 0, True / False, "good" / "partial" / "bad").
+        names : list of str, default=None
+        weights : array-like of shape (n,), default=None
+            Per-result weights (default 1).
+        warnings : list of str, default=None
+            More warnings to carry in the result.
+
+        Returns
+        -------
+        self
+            With ``centre_``, ``R0_`` and ``result_`` (a :class:`SphereFitResult`).
         """
         if self.partial not in ("good", "bad", "skip"):
             raise ValueError(f"partial must be 'good', 'bad' or 'skip'; found {self.partial!r}")
-        P, outcomes, names, w = model_inputs(X, good, names, weights)
+        P, outcomes, names, w, notes_in = model_inputs(X, y, names, weights)
         n = len(outcomes)
-        counted = [("skipped" if self.partial == "skip" else self.partial) if o == "partial"
-                   else o for o in outcomes]
-        use = np.array([c != "skipped" for c in counted], dtype=bool)
-        g = np.array([c == "good" for c in counted], dtype=bool)
+        use, codes, _, counted = counted_classes(outcomes, self.partial)
+        g = codes == 2
         n_cg, n_cb = int(np.sum(use & g & (w > 0))), int(np.sum(use & ~g & (w > 0)))
         n_partial = outcomes.count("partial")
         if n_cg == 0 or n_cb == 0:
-            raise FitError(_unboundable(n_cg, n_cb, n_partial, self.partial))
-        box = _box(self.bounds, P)
+            raise FitError(unboundable_message(n_cg, n_cb, n_partial, self.partial))
+        box = search_box(self.bounds, P)
         c, ok, count, R0, D = _fit(P[use], g[use], w[use], box, self.seed)
         if R0 < MIN_R0:
             raise FitError(_degenerate(P[use], g[use] & (w[use] > 0), ~g[use] & (w[use] > 0),
@@ -567,18 +488,13 @@ class SphereModel(FittedSphere):
                       on_surface=bool(surf[i]),
                       agrees=bool((Ra[i] <= R0) == g[i] or surf[i]) if use[i] else None)
                  for i in range(n)]
-        notes = []
-        for k, m in (("good", n_cg), ("bad", n_cb)):
-            if m < MIN_ADVISED:
-                notes.append(f"Only {m} result{'s count' if m != 1 else ' counts'} as {k} (at "
-                             f"least {MIN_ADVISED} are advised): the sphere is poorly determined.")
-        notes += _edge_warnings(c, box)
+        notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box)
         if not ok:
             notes.append("The centre search stopped at its iteration limit: a better fit may "
                          "exist.")
-        notes += [str(t) for t in (warnings or [])] + [str(t) for t in (extra_warnings or [])]
+        notes += [str(t) for t in (warnings or []) if str(t) not in notes]
         self.centre_, self.R0_ = c, R0
-        self.result_ = SphereFit(
+        self.result_ = SphereFitResult(
             dD=float(c[0]), dP=float(c[1]), dH=float(c[2]), R0=float(R0), desirability=float(D),
             n_good=outcomes.count("good"), n_bad=outcomes.count("bad"), n_partial=n_partial,
             partial=self.partial, n_trials=n, n_counted_good=n_cg, n_counted_bad=n_cb,
@@ -586,10 +502,4 @@ class SphereModel(FittedSphere):
             warnings=notes, bounds=box.tolist(), success=ok, n_evaluations=count)
         return self
 
-
-    @property
-    def center_(self) -> np.ndarray:
-        """Alias of ``centre_``."""
-        self._check()
-        return self.centre_
 

@@ -47,22 +47,26 @@ References
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from scipy.optimize import minimize
 from scipy.special import expit
 
 from solsphere.errors import FitError
-from solsphere.models.classic import (AXES, MIN_ADVISED, SURFACE, WORDS, _box, _edge_warnings, _outcomes,
-                  FittedSphere, _unboundable, desirability, fit_sphere,
-                  model_inputs)
+from solsphere.formatting import num, warning_lines
+from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
+                                   counted_classes, estimator,
+                                   edge_warnings, few_results_warnings, model_inputs,
+                                   search_box, unboundable_message)
+from solsphere.models.classic import best_sphere, desirability
 from solsphere.hansen import SCALE, ra
 
-__all__ = ["GradedModel", "GradedFit", "graded_nll", "fit_theta", "start_thetas", "classes"]
+__all__ = ["GradedSphereModel", "GradedFitResult", "graded_nll", "fit_theta", "start_thetas",
+           "theta_bounds"]
 
 _S2 = SCALE ** 2
-_CLASS = {"bad": 0, "partial": 1, "good": 2}
 
 
 def _softplus(z):
@@ -137,28 +141,7 @@ def graded_nll(theta, X, y, wts, ordinal: bool, prior=(1.0, 1.0), grad: bool = T
 START_SEARCH = {"n_global": 512, "n_starts": 3, "xtol": 1e-4}
 
 
-def classes(outcomes, partial: str = "ordinal"):
-    """Class codes of the outcomes under a partial setting.
-
-    Returns ``use`` (bool, trials that count), ``y`` (2 good, 1 partial, 0 bad; -1 when
-    skipped), ``ordinal`` (three classes in play) and ``counted`` (the words).
-    """
-    outcomes = _outcomes(outcomes)
-    if partial not in ("ordinal", "good", "bad", "skip"):
-        raise ValueError("partial must be 'ordinal', 'good', 'bad' or 'skip'; found "
-                         f"{partial!r}")
-    ordinal = partial == "ordinal" and "partial" in outcomes
-    if partial == "ordinal":
-        counted = [o if ordinal or o != "partial" else "good" for o in outcomes]
-    else:
-        counted = [("skipped" if partial == "skip" else partial) if o == "partial" else o
-                   for o in outcomes]
-    use = np.array([c != "skipped" for c in counted], dtype=bool)
-    y = np.array([_CLASS.get(c, -1) for c in counted], dtype=np.int64)
-    return use, y, ordinal, counted
-
-
-def _theta_bounds(box, ordinal, min_width, max_width):
+def theta_bounds(box, ordinal, min_width, max_width):
     diag = float(ra(box[:, 0], box[:, 1])[0])
     Rmax = 2.0 * diag + 10.0
     bnds = [tuple(map(float, b)) for b in box] + [(1e-3, Rmax),
@@ -178,7 +161,7 @@ def fit_theta(X, y, wts, ordinal, box, starts, min_width=0.05, max_width=20.0,
     Returns ``theta`` (dD, dP, dH, R0, ln w[, ln b]), the penalised negative
     log-likelihood, the optimiser's success flag and the number of evaluations.
     """
-    bnds = _theta_bounds(box, ordinal, min_width, max_width)
+    bnds = theta_bounds(box, ordinal, min_width, max_width)
     lo = np.array([b[0] for b in bnds])
     hi = np.array([b[1] for b in bnds])
     best, nev = None, 0
@@ -196,7 +179,7 @@ def start_thetas(X, y, wts, ordinal, box, seed=0):
     """Starts: a classic fit (partly counted as good) and the goods' centroid, each with
     w = 0.3, 1 and 3 MPa½ (and b = 0.5 MPa½ when ordinal)."""
     goods = y > 0
-    c0, R00, _ = fit_sphere(X, goods, weights=wts, bounds=box, seed=seed, **START_SEARCH)
+    c0, R00, _ = best_sphere(X, goods, weights=wts, bounds=box, seed=seed, **START_SEARCH)
     wg = wts[goods]
     centroid = np.clip((wg @ X[goods]) / wg.sum(), box[:, 0], box[:, 1])
     out = []
@@ -208,10 +191,10 @@ def start_thetas(X, y, wts, ordinal, box, seed=0):
 
 
 @dataclass
-class GradedFit:
-    """Result of :meth:`GradedModel.fit` (flat attributes; units MPa½).
+class GradedFitResult(FitResultBase):
+    """Result of :meth:`GradedSphereModel.fit` (flat attributes; units MPa½).
 
-    Keys shared with :class:`~solsphere.fit.SphereFit`: dD, dP, dH, R0, desirability
+    Keys shared with :class:`~solsphere.models.classic.SphereFitResult`: dD, dP, dH, R0, desirability
     (the classic desirability at this sphere, partly counted as good in ordinal mode),
     n_good, n_bad, n_partial, partial, n_trials, n_counted_good, n_counted_bad, table,
     misfits, warnings, bounds, success, n_evaluations. Graded extras: ``width`` (w),
@@ -245,16 +228,11 @@ class GradedFit:
     n_evaluations: int
     method: str = "graded"
 
-    @property
-    def centre(self) -> np.ndarray:
-        return np.array([self.dD, self.dP, self.dH])
 
-    def to_dict(self) -> dict:
-        """JSON-safe plain types (``solsphere fit --method graded --json``)."""
-        return asdict(self)
+
 
     def __str__(self) -> str:
-        f = lambda x: f"{x:.1f}"  # noqa: E731
+        f = num
         w = self.width
         out = ["[[Graded fit]]",
                f"    log-likelihood = {self.log_likelihood:.3f} (ridge on 1/w {self.penalty:.3f})",
@@ -282,11 +260,12 @@ class GradedFit:
 
         out += [f"    {r['name']}: {WORDS[r['outcome']]} but {p_text(r)} (Ra {f(r['Ra'])}, "
                 f"RED {r['red']:.2f})" for r in rows] or ["    none"]
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
-class GradedModel(FittedSphere):
+@estimator
+class GradedSphereModel(SphereEstimator):
     """Graded (probabilistic) Hansen sphere estimator, scikit-learn style.
 
     Parameters
@@ -295,7 +274,7 @@ class GradedModel(FittedSphere):
         "ordinal": three classes (binary when no result is "partly"); otherwise partly
         results count as good, as bad, or are left out, and the model is binary.
     bounds : array-like of shape (3, 2), default=None
-        Box for the centre (default: the box spanned by the tested solvents, δ >= 0).
+        As for :class:`~solsphere.models.classic.SphereModel`.
     seed : int, default=0
         Seed of the classic fit used as the start.
     min_width, max_width : float, default=0.05, 20.0
@@ -307,37 +286,35 @@ class GradedModel(FittedSphere):
         ``min_width``).
     """
 
-    def __init__(self, partial: str = "ordinal", bounds=None, seed: int = 0,
-                 min_width: float = 0.05, max_width: float = 20.0, width_prior: float = 1.0,
-                 prior_strength: float = 1.0):
-        self.partial = partial
-        self.bounds = bounds
-        self.seed = seed
-        self.min_width = min_width
-        self.max_width = max_width
-        self.width_prior = width_prior
-        self.prior_strength = prior_strength
+    partial: str = "ordinal"
+    bounds: Any = None
+    seed: int = 0
+    min_width: float = 0.05
+    max_width: float = 20.0
+    width_prior: float = 1.0
+    prior_strength: float = 1.0
 
-    def fit(self, X, good=None, names=None, weights=None) -> "GradedModel":
-        """Fit to arrays (X (n, 3), outcomes) or to a trials object (``.points``,
-        ``.outcomes``, ``.names``). Outcomes: booleans or "good"/"bad"/"partial"."""
+    def fit(self, X, y=None, names=None, weights=None, *, warnings=None) -> "GradedSphereModel":
+        """Fit to a trials object or to arrays (X of shape (n, 3), labels ``y`` in any
+        bench-sheet word, as :meth:`SphereModel.fit <solsphere.models.classic.SphereModel.fit>`);
+        returns ``self``."""
         if self.partial not in ("ordinal", "good", "bad", "skip"):
             raise ValueError("partial must be 'ordinal', 'good', 'bad' or 'skip'; found "
                              f"{self.partial!r}")
         if not 0 < self.min_width < self.max_width:
             raise ValueError(f"need 0 < min_width < max_width; found {self.min_width}, "
                              f"{self.max_width}")
-        P, outcomes, names, w = model_inputs(X, good, names, weights)
+        P, outcomes, names, w, notes_in = model_inputs(X, y, names, weights)
         n = len(outcomes)
         n_partial = outcomes.count("partial")
-        use, y, ordinal, counted = classes(outcomes, self.partial)
+        use, y, ordinal, counted = counted_classes(outcomes, self.partial)
         g_outer = y > 0
         n_cg = int(np.sum(use & g_outer & (w > 0)))
         n_cb = int(np.sum(use & ~g_outer & (w > 0)))
         if n_cg == 0 or n_cb == 0:
-            raise FitError(_unboundable(n_cg, n_cb, n_partial,
+            raise FitError(unboundable_message(n_cg, n_cb, n_partial,
                                         "good" if self.partial == "ordinal" else self.partial))
-        box = _box(self.bounds, P)
+        box = search_box(self.bounds, P)
         Xu, yu, wu, gu = P[use], y[use], w[use], g_outer[use]
         theta, nll, ok, nev = fit_theta(
             Xu, yu, wu, ordinal, box, start_thetas(Xu, yu, wu, ordinal, box, self.seed),
@@ -363,12 +340,7 @@ class GradedModel(FittedSphere):
                 red=float(Ra[i] / R0), predicted="inside" if Ra[i] <= R0 else "outside",
                 on_surface=bool(surf[i]), p_good=float(p_out[i]), p_dissolves=float(p_in[i]),
                 agrees=agrees if use[i] else None))
-        notes = []
-        for k, m in (("good", n_cg), ("bad", n_cb)):
-            if m < MIN_ADVISED:
-                notes.append(f"Only {m} result{'s count' if m != 1 else ' counts'} as {k} (at "
-                             f"least {MIN_ADVISED} are advised): the sphere is poorly determined.")
-        notes += _edge_warnings(c, box)
+        notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box)
         if width <= self.min_width * 1.001:
             notes.append(f"The boundary width is at its lower bound ({self.min_width:g} "
                          "MPa½): the results are perfectly separated and the width only says "
@@ -379,10 +351,11 @@ class GradedModel(FittedSphere):
         if not ok:
             notes.append("The likelihood maximisation did not report convergence: a better "
                          "fit may exist.")
+        notes += [str(t) for t in (warnings or []) if str(t) not in notes]
         self.centre_, self.R0_, self.width_ = c, R0, width
         self.band_ = b
         self.theta_ = np.asarray(theta, dtype=float)
-        self.result_ = GradedFit(
+        self.result_ = GradedFitResult(
             dD=float(c[0]), dP=float(c[1]), dH=float(c[2]), R0=R0, width=width,
             desirability=float(D), n_good=outcomes.count("good"),
             n_bad=outcomes.count("bad"), n_partial=n_partial,
@@ -397,14 +370,18 @@ class GradedModel(FittedSphere):
 
     def p_good(self, points) -> np.ndarray:
         """P(at least partly) of each point, shape (n,)."""
-        self._check()
+        self.check_fitted()
         return expit((self.R0_ - ra(points, self.centre_)) / self.width_)
 
     def p_dissolves(self, points) -> np.ndarray:
         """P(dissolves) of each point (equals :meth:`p_good` unless ordinal), shape (n,)."""
-        self._check()
+        self.check_fitted()
         b = self.band_ or 0.0
         return expit((self.R0_ - b - ra(points, self.centre_)) / self.width_)
 
-    predict_proba = p_good
+    def predict_proba(self, points) -> np.ndarray:
+        """Probabilities of (does not, at least partly) per point: shape (n, 2), rows sum
+        to 1 (scikit-learn's convention for two classes)."""
+        p = self.p_good(points)
+        return np.column_stack([1.0 - p, p])
 

@@ -38,18 +38,22 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from solsphere.uncertainty.bootstrap import binary_data
-from solsphere.models.classic import MIN_ADVISED, SURFACE, WORDS, _edge_warnings, fit_sphere
+from solsphere.formatting import num, warning_lines
 from solsphere.hansen import SCALE, as_points, ra
+from solsphere.models.base import (MIN_ADVISED, SURFACE, WORDS, FitResultBase,
+                                   SphereEstimator, binary_data, counted_classes,
+                                   edge_warnings, estimator, model_inputs)
+from solsphere.models.classic import best_sphere
 
-__all__ = ["TwoSphereFit", "fit_two_spheres", "union_loss"]
+__all__ = ["TwoSphereModel", "TwoSphereFitResult", "fit_two_spheres", "union_loss"]
 
 #: Search settings inside the alternation and the cross-validation (the final spheres
-#: use the full search of :func:`~solsphere.fit.fit_sphere`).
+#: use the full search of :func:`~solsphere.models.classic.best_sphere`).
 QUICK_SEARCH = {"n_global": 256, "n_starts": 3, "xtol": 1e-4}
 MAX_ROUNDS = 12
 
@@ -66,7 +70,7 @@ def union_loss(X, good, spheres, weights=None) -> float:
 
 def _fit_one(X, g, w, box, seed, quick):
     kw = QUICK_SEARCH if quick else {}
-    c, R, _ = fit_sphere(X, g, weights=w, bounds=box, seed=seed, **kw)
+    c, R, _ = best_sphere(X, g, weights=w, bounds=box, seed=seed, **kw)
     return c, R
 
 
@@ -164,7 +168,7 @@ def _folds(g, k, rng):
 
 
 @dataclass
-class TwoSphereFit:
+class TwoSphereFitResult(FitResultBase):
     """Result of :func:`fit_two_spheres` (units MPa½).
 
     ``spheres``: list of {"dD", "dP", "dH", "R0", "n_good"} (the goods it holds), the
@@ -197,8 +201,7 @@ class TwoSphereFit:
     bounds: list
     method: str = "two-sphere"
 
-    def to_dict(self) -> dict:
-        return asdict(self)
+
 
     def predict(self, points) -> np.ndarray:
         """True where a point lies inside any of the chosen spheres."""
@@ -206,7 +209,7 @@ class TwoSphereFit:
                                             for s in self.spheres])
 
     def __str__(self) -> str:
-        f = lambda x: f"{x:.1f}"  # noqa: E731
+        f = num
         cr = self.criterion
         e, a = cr["held_back_errors"], cr["held_back_accuracy"]
         out = ["[[Two-sphere fit]]",
@@ -230,13 +233,13 @@ class TwoSphereFit:
         out += [f"    {r['name']}: {WORDS[r['outcome']]} but "
                 f"{'inside' if r['sphere'] is not None else 'outside'} (RED {r['red']:.2f})"
                 for r in rows] or ["    none"]
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
 def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bounds=None,
                     seed: int = 0, folds: int = 5, min_gain: int | None = None,
-                    force: int | None = None) -> TwoSphereFit:
+                    force: int | None = None) -> TwoSphereFitResult:
     """Fit one and two spheres; keep two only when they predict held-back results better.
 
     Parameters
@@ -259,19 +262,17 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
 
     Returns
     -------
-    TwoSphereFit
+    TwoSphereFitResult
     """
     X, g, names, box = binary_data(data, good, partial, names, bounds)
     n = len(X)
     w = np.ones(n)
-    outcomes = ["good" if v else "bad" for v in g]
-    if good is None and hasattr(data, "binary"):
-        kept = data.binary(partial)[2]
-        by_name = {t.name: t.outcome for t in data.trials}
-        outcomes = [by_name.get(nm, o) for nm, o in zip(kept, outcomes)]
+    _, every, _, _, _ = model_inputs(data, good)
+    use = counted_classes(every, partial)[0]
+    outcomes = [o for o, u in zip(every, use) if u]
     min_gain = max(2, math.ceil(0.05 * n)) if min_gain is None else int(min_gain)
     # Full fits on all trials.
-    c1, R1, D1 = fit_sphere(X, g, bounds=box, seed=seed)
+    c1, R1, D1 = best_sphere(X, g, bounds=box, seed=seed)
     two = _two_sphere(X, g, w, box, seed, quick=True, one=(c1, R1))
     spheres2, D2 = None, None
     if two is not None:
@@ -331,7 +332,7 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
                          f"its own good results and bads around it; {2 * MIN_ADVISED} or more "
                          "are advised.")
     for c, _ in spheres:
-        notes += _edge_warnings(c, box)
+        notes += edge_warnings(c, box)
     if force in (1, 2) and force != (2 if earns else 1):
         notes.append(f"{force} sphere{'s' if force > 1 else ''} returned as asked, although "
                      "the held-back results favour "
@@ -343,9 +344,59 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
             "held_back_errors": {"1": err1, "2": err2 if cv_two else None},
             "held_back_accuracy": {"1": 1 - err1 / n, "2": (1 - err2 / n) if cv_two else None},
             "min_gain": min_gain, "two_earns_keep": bool(earns)}
-    return TwoSphereFit(dD=sph[0]["dD"], dP=sph[0]["dP"], dH=sph[0]["dH"], R0=sph[0]["R0"],
+    return TwoSphereFitResult(dD=sph[0]["dD"], dP=sph[0]["dP"], dH=sph[0]["dH"], R0=sph[0]["R0"],
                         spheres=sph, n_spheres=len(sph), desirability=D,
                         desirability_1=float(D1), desirability_2=D2, criterion=crit,
                         n_good=int(g.sum()), n_bad=int((~g).sum()), n_trials=n,
                         table=table, misfits=[r["name"] for r in table if not r["agrees"]],
                         warnings=notes, bounds=box.tolist())
+
+
+@estimator
+class TwoSphereModel(SphereEstimator):
+    """One or two spheres (good if inside either), as an estimator: two only when they
+    predict held-back results better (:func:`fit_two_spheres`).
+
+    Parameters
+    ----------
+    partial : {"good", "bad", "skip"}, default="good"
+    bounds : array-like of shape (3, 2), default=None
+    seed : int, default=0
+    folds : int, default=5
+    min_gain : int or None, default=None
+    force : {1, 2} or None, default=None
+
+    Attributes
+    ----------
+    result_ : TwoSphereFitResult
+    spheres_ : list of (centre ndarray (3,), R0)
+    centre_, R0_ : the first sphere's centre and radius
+    """
+
+    partial: str = "good"
+    bounds: Any = None
+    seed: int = 0
+    folds: int = 5
+    min_gain: int | None = None
+    force: int | None = None
+
+    def fit(self, X, y=None, names=None) -> "TwoSphereModel":
+        """Fit to a trials object or to arrays (labels in any bench-sheet word)."""
+        self.result_ = fit_two_spheres(X, y, partial=self.partial, names=names,
+                                       bounds=self.bounds, seed=self.seed, folds=self.folds,
+                                       min_gain=self.min_gain, force=self.force)
+        self.spheres_ = [(np.array([s["dD"], s["dP"], s["dH"]]), s["R0"])
+                         for s in self.result_.spheres]
+        self.centre_, self.R0_ = self.spheres_[0]
+        return self
+
+    def predict(self, points) -> np.ndarray:
+        """True where a point lies inside any of the chosen spheres; shape (n,)."""
+        self.check_fitted()
+        return _predict(as_points(points), self.spheres_)
+
+    def red(self, points) -> np.ndarray:
+        """The smallest RED over the chosen spheres; shape (n,)."""
+        self.check_fitted()
+        P = as_points(points)
+        return np.min([ra(P, c) / R for c, R in self.spheres_], axis=0)

@@ -1,7 +1,7 @@
 """Plotly figures: the 3D map of Hansen space and its three 2D projections, and the
 standalone share file.
 
-Look (our own, see CONVENTIONS.md): ColorBrewer Dark2 colours; dissolves = teal filled
+Look (our own, see DEVELOPERS.md, "Conventions"): ColorBrewer Dark2 colours; dissolves = teal filled
 circle, does not = burnt-orange x, partly = slate diamond, untried library solvents =
 small light-grey dots, blends = mustard line + open circle, drying paths = brown dotted
 line, the sphere = translucent grey surface with a thin mesh. The δD axis is drawn at
@@ -16,6 +16,8 @@ from __future__ import annotations
 import html
 
 import numpy as np
+
+from solsphere import __version__
 
 STYLE = {
     "good": {"color": "#1b9e77", "symbol": "circle", "label": "dissolves"},
@@ -87,6 +89,17 @@ def _blend_segments(blends: list[dict]):
     return xs, ys, zs, pts, texts
 
 
+def _as_dicts(fit, untried=None, blends=None):
+    """Result objects as the plain dicts the figures draw from (dicts pass through)."""
+    if hasattr(fit, "to_dict"):
+        fit = fit.to_dict()
+    if hasattr(untried, "to_dict"):
+        untried = untried.to_dict()["solvents"]
+    if hasattr(blends, "to_dict"):
+        blends = blends.to_dict()["blends"]
+    return fit, untried, blends
+
+
 def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | None = None,
           cloud=None, paths: list[dict] | None = None, highlight: list[dict] | None = None,
           show_untried: bool = True, height: int = 620):
@@ -94,12 +107,14 @@ def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | Non
 
     Parameters
     ----------
-    fit : dict
-        ``SphereFit.to_dict()``: needs dD, dP, dH, R0 and the per-trial ``table``.
-    untried : list of dict or None
-        Ranked candidates (``Ranking.to_dict()["solvents"]``) drawn as faint dots.
-    blends : list of dict or None
-        Blends (``BlendScreen.to_dict()["blends"]``) drawn as segments and points.
+    fit : dict or fit result
+        A fit result (or its ``to_dict()``): needs dD, dP, dH, R0 and the per-trial
+        ``table``.
+    untried : Ranking, list of dict or None
+        Ranked candidates (a :class:`~solsphere.design.ranking.Ranking` or its
+        ``to_dict()["solvents"]``) drawn as faint dots.
+    blends : BlendScreen, list of dict or None
+        Blends (a screen, or its ``to_dict()["blends"]``) drawn as segments and points.
     cloud : array-like of shape (m, 3) or None
         Resampled sphere centres (uncertainty), drawn as a faint cloud.
     paths : list of dict or None
@@ -108,6 +123,7 @@ def map3d(fit: dict, untried: list[dict] | None = None, blends: list[dict] | Non
         Solvents to mark (e.g. one the user clicked), each with name, dD, dP, dH.
     """
     go = _go()
+    fit, untried, blends = _as_dicts(fit, untried, blends)
     c = (fit["dD"], fit["dP"], fit["dH"])
     R0 = fit["R0"]
     fig = go.Figure()
@@ -229,7 +245,9 @@ def projections(fit: dict, blends: list[dict] | None = None, height: int = 340):
     (an ellipse with δD semi-axis R0/2) looks round.
     """
     go = _go()
-    from plotly.subplots import make_subplots
+    from plotly.subplots import make_subplots  # deferred: plotly is heavy to import
+
+    fit, _, blends = _as_dicts(fit, None, blends)
     fig = make_subplots(rows=1, cols=3, horizontal_spacing=0.08,
                         subplot_titles=[f"{AXIS[a][:2]}–{AXIS[b][:2]}" for a, b in PLANES])
     c = np.array([fit["dD"], fit["dP"], fit["dH"]])
@@ -317,8 +335,7 @@ def share_html(fig3d, fig2d, report: str, title: str = "Hansen solubility sphere
                extra_sections: list[tuple[str, str]] | None = None, caution: str = "") -> str:
     """One self-contained HTML page (plotly.js inlined, no network) with both figures and
     the plain-text report. All user text is HTML-escaped."""
-    from plotly.offline import get_plotlyjs
-    from solsphere import __version__
+    from plotly.offline import get_plotlyjs  # deferred: plotly is heavy to import
     extra = "".join(f"<h2>{html.escape(h)}</h2>\n<pre>{html.escape(body)}</pre>\n"
                     for h, body in (extra_sections or []))
     return SHARE_TEMPLATE.format(

@@ -21,7 +21,7 @@ class; its intervals include the boundary width.
 Refits are warm-started by default (``refit="warm"``). Classic: the full fit's centre
 joins a reduced global stage (256 Sobol points instead of 2048, 3 polished starts
 instead of 8, polished down to 1e-4 MPa½ instead of 1e-6) of the same search
-(:func:`solsphere.fit.fit_sphere`); ``tests/test_confidence.py`` checks a sample of
+(:func:`solsphere.models.classic.best_sphere`); ``tests/test_confidence.py`` checks a sample of
 warm refits against full refits (desirability and spread of the centres). Graded: one
 likelihood maximisation started from the full fit. ``refit="full"`` runs the full search
 for every resample.
@@ -73,11 +73,16 @@ import numpy as np
 
 from solsphere.limits import check_work
 from solsphere.errors import FitError
-from solsphere.models.classic import AXES, EDGE, MIN_ADVISED, _box, _outcomes, desirability, fit_sphere
+from solsphere.formatting import warning_lines
 from solsphere.hansen import as_points, ra
+from solsphere.models.base import (AXES, EDGE, MIN_ADVISED, binary_data, graded_data,
+                                   search_box)
+from solsphere.models.classic import best_sphere, desirability
+from solsphere.models.graded import GradedSphereModel, fit_theta, start_thetas
+from solsphere.results import Result
 
 __all__ = ["Bootstrap", "SampledSpheres", "Influence", "bootstrap", "influence", "resample_counts",
-           "WARM_SEARCH", "binary_data"]
+           "WARM_SEARCH"]
 
 #: Search settings of a warm-started refit (the full fit: n_global=2048, n_starts=8,
 #: xtol=1e-6 MPa½).
@@ -92,60 +97,6 @@ MIN_RESAMPLES = 200
 _INTERVAL_KEYS = (*AXES, "R0")
 
 Progress = Callable[[int, int], None]
-
-
-# ----------------------------------------------------------------------------- data
-def binary_data(data, good=None, partial: str = "good", names=None, bounds=None):
-    """Points, yes/no answers, names and search box from a trials object or arrays.
-
-    Parameters
-    ----------
-    data : Trials or array-like of shape (n, 3)
-        A :class:`solsphere.trials.Trials` (its :meth:`~solsphere.trials.Trials.binary`
-        is used with ``partial``), or solvent coordinates.
-    good : array-like of bool, shape (n,), default=None
-        Required with arrays; ignored with a trials object.
-    partial : {"good", "bad", "skip"}, default="good"
-    names : list of str, default=None
-    bounds : array-like of shape (3, 2), default=None
-        Search box; default the box of *all* tested solvents (as :class:`SphereModel`).
-
-    Returns
-    -------
-    X : ndarray (n, 3), g : ndarray of bool (n,), names : list of str, box : ndarray (3, 2)
-    """
-    if good is None:
-        if not hasattr(data, "binary"):
-            raise TypeError("good is required when data is an array (or pass a Trials "
-                            "object)")
-        X, g, nm = data.binary(partial)
-        all_points = data.points
-        names = list(nm) if names is None else list(names)
-    else:
-        X = as_points(data)
-        g = np.asarray(good)
-        if g.dtype.kind not in "biu":
-            words = [str(v).strip().lower() for v in g.reshape(-1)]
-            keep = [w != "partial" or partial != "skip" for w in words]
-            g = np.array([w == "good" or (w == "partial" and partial == "good")
-                          for w in words], dtype=bool)
-            all_points = X
-            X, g = X[keep], g[keep]
-            if names is not None:
-                names = [s for s, k in zip(names, keep) if k]
-        else:
-            g = g.astype(bool).reshape(-1)
-            all_points = X
-        names = [f"trial {i + 1}" for i in range(len(X))] if names is None else \
-            [str(s) for s in names]
-    if len(g) != len(X) or len(names) != len(X):
-        raise ValueError(f"need one outcome and one name per point; found {len(X)} points, "
-                         f"{len(g)} outcomes, {len(names)} names")
-    if not (g.any() and (~g).any()):
-        raise FitError("a sphere needs at least one good and one bad result; found "
-                       f"{int(g.sum())} good and {int((~g).sum())} bad")
-    box = _box(bounds, all_points if len(all_points) else X)
-    return X, g, names, box
 
 
 def resample_counts(labels, n_resamples: int, rng) -> np.ndarray:
@@ -182,10 +133,9 @@ def _refit_chunk(X, box, W, G, seeds, search):
     graded = search.get("graded")
     if graded is None:
         for i in range(k):
-            C[i], R[i], D[i] = fit_sphere(X, G[i], weights=W[i], bounds=box,
+            C[i], R[i], D[i] = best_sphere(X, G[i], weights=W[i], bounds=box,
                                           seed=int(seeds[i]), **search)
         return C, R, D, E
-    from solsphere.models.graded import fit_theta, start_thetas
 
     for i in range(k):
         y, w = G[i], W[i].astype(float)
@@ -266,7 +216,7 @@ def _run_refits(X, box, W, G, seeds, search, n_jobs=None, progress: Progress | N
 
 
 # ----------------------------------------------------------------------------- bootstrap
-class SampledSpheres:
+class SampledSpheres(Result):
     """Shared by results that carry a cloud of plausible spheres (``centres`` (k, 3),
     ``radii`` (k,)): the bootstrap's resampled spheres, the posterior's samples."""
 
@@ -276,6 +226,21 @@ class SampledSpheres:
     @property
     def has_samples(self) -> bool:
         return self.centres is not None and self.radii is not None
+
+    def interval_lines(self, keys) -> list[str]:
+        """One report line per parameter: the point value, its interval and sd [MPa½]."""
+        full = dict(zip(("dD", "dP", "dH", "R0"), (*self.centre, self.R0)), width=self.width)
+        out = []
+        for k in keys:
+            lo, hi = self.intervals[k]
+            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
+                       f"(sd {self.sd[k]:.2f})")
+        return out
+
+    def records(self) -> list[dict]:
+        """One row per parameter: its interval ends and standard deviation [MPa½]."""
+        return [{"parameter": k, "low": lo, "high": hi, "sd": self.sd.get(k)}
+                for k, (lo, hi) in self.intervals.items()]
 
     def p_good(self, points) -> np.ndarray:
         """Share of sampled spheres containing each point (Ra <= R0), shape (m,).
@@ -330,7 +295,7 @@ class Bootstrap(SampledSpheres):
     fit_method : {"classic", "graded"}
     centre, R0, desirability :
         The fit to the whole panel (same search box and settings as
-        :class:`~solsphere.fit.SphereModel` / :class:`~solsphere.graded.GradedModel`
+        :class:`~solsphere.models.classic.SphereModel` / :class:`~solsphere.models.graded.GradedSphereModel`
         with seed 0); ``width`` is the graded fit's width (None for classic).
     centres : ndarray of shape (n_bootstrap, 3)
     radii : ndarray of shape (n_bootstrap,)
@@ -432,39 +397,9 @@ class Bootstrap(SampledSpheres):
                f", seed {self.seed}, {self.n_workers} process"
                f"{'es' if self.n_workers > 1 else ''}",
                f"[[Intervals]] ({pct}, percentile)"]
-        full = dict(zip(_INTERVAL_KEYS, (*self.centre, self.R0)), width=self.width)
-        for k in self.intervals:
-            lo, hi = self.intervals[k]
-            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
-                       f"(sd {self.sd[k]:.2f})")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += self.interval_lines(list(self.intervals))
+        out += warning_lines(self.warnings)
         return "\n".join(out)
-
-
-def _graded_data(data, good, partial, names, bounds):
-    """Points, class codes (2/1/0), names, box and ordinal flag for the graded fit."""
-    from solsphere.models.graded import classes
-
-    if good is None:
-        if not hasattr(data, "points"):
-            raise TypeError("good is required when data is an array (or pass a Trials "
-                            "object)")
-        P, outcomes, names = data.points, data.outcomes, (list(data.names) if names is None
-                                                         else list(names))
-    else:
-        P, outcomes = as_points(data), good
-    outcomes = _outcomes(outcomes)
-    names = ([f"trial {i + 1}" for i in range(len(P))] if names is None
-             else [str(x) for x in names])
-    if len(P) != len(outcomes) or len(names) != len(P):
-        raise ValueError(f"need one outcome and one name per point; found {len(P)} points, "
-                         f"{len(outcomes)} outcomes, {len(names)} names")
-    use, y, ordinal, _ = classes(outcomes, partial)
-    X, y = P[use], y[use]
-    if not ((y > 0).any() and (y == 0).any()):
-        raise FitError("a sphere needs at least one good and one bad result; found "
-                       f"{int((y > 0).sum())} good and {int((y == 0).sum())} bad")
-    return X, y, [n for n, u in zip(names, use) if u], _box(bounds, P), ordinal
 
 
 def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
@@ -484,7 +419,7 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
     seed : int or None, default=0
         Seed of the resampling and of every refit (reproducible).
     method : {"classic", "graded"}, default="classic"
-        The fit refitted to every resample: :func:`~solsphere.fit.fit_sphere` or the
+        The fit refitted to every resample: :func:`~solsphere.models.classic.best_sphere` or the
         graded fit of :mod:`solsphere.graded`.
     partial : str, default=None
         How "partly" results count: "good", "bad" or "skip" (default "good" for classic),
@@ -501,7 +436,7 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
         every resample.
     graded_options : dict, default=None
         ``min_width``, ``max_width``, ``width_prior``, ``prior_strength`` of
-        :class:`~solsphere.graded.GradedModel`.
+        :class:`~solsphere.models.graded.GradedSphereModel`.
     n_jobs : int or None, default=None
         Worker processes: None chooses (2 here, or 1 for jobs estimated under
         ``SERIAL_BELOW_S`` = 1 s); 1 runs serially; >= 2 always uses processes.
@@ -540,15 +475,14 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
         X, g, names, box = binary_data(data, good, partial, names, bounds)
         if good is None and hasattr(data, "outcomes"):
             n_partial = list(data.outcomes).count("partial")
-        c0, R00, D0 = fit_sphere(X, g, bounds=box, seed=0)
+        c0, R00, D0 = best_sphere(X, g, bounds=box, seed=0)
         labels, G = g, np.broadcast_to(g, (n_bootstrap, len(g)))
         search = dict(WARM_SEARCH, start=c0[None, :]) if refit == "warm" else {}
     else:
-        from solsphere.models.graded import GradedModel
 
         partial = "ordinal" if partial is None else partial
-        X, y, names, box, ordinal = _graded_data(data, good, partial, names, bounds)
-        model = GradedModel(partial=partial, bounds=box, **(graded_options or {}))
+        X, y, names, box, ordinal = graded_data(data, good, partial, names, bounds)
+        model = GradedSphereModel(partial=partial, bounds=box, **(graded_options or {}))
         opts = {"min_width": model.min_width, "max_width": model.max_width,
                 "prior": (model.prior_strength, model.width_prior)}
         outcomes = np.array(["good", "partial", "bad"])[2 - y]
@@ -615,7 +549,7 @@ def edge_notes(C, box, what: str) -> list[str]:
 
 # ----------------------------------------------------------------------------- influence
 @dataclass
-class Influence:
+class Influence(Result):
     """Result of :func:`influence`: one row per trial, the most influential first.
 
     Each row: ``name``, ``counted_as`` ("good"/"bad"), ``misfit`` (disagrees with the
@@ -631,6 +565,8 @@ class Influence:
     R0: float
     refit: str
     warnings: list = field(default_factory=list)
+
+    rows_key = "influence"
 
     def to_dict(self) -> dict:
         return {"influence": [dict(r) for r in self.rows], "centre": list(self.centre),
@@ -650,7 +586,7 @@ class Influence:
             mis = " (misfit)" if r["misfit"] else ""
             out.append(f"    {r['name']}{mis}: without it the centre moves {r['shift']:.2f} "
                        f"MPa½, R0 {r['dR0']:+.2f}{flip}")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
@@ -689,7 +625,7 @@ def influence(data, good=None, *, partial: str = "good", names=None, bounds=None
     X, g, names, box = binary_data(data, good, partial, names, bounds)
     n = len(X)
     check_work(influence_refits(n, flips), n, "the influence refits")
-    c0, R00, _ = fit_sphere(X, g, bounds=box, seed=0)
+    c0, R00, _ = best_sphere(X, g, bounds=box, seed=0)
     misfit = (ra(X, c0) <= R00) != g
     jobs = []
     n_good = int(g.sum())

@@ -58,11 +58,12 @@ import numpy as np
 from scipy.special import expit
 
 from solsphere.limits import check as check_limit
-from solsphere.uncertainty import bootstrap as confidence
-from solsphere.uncertainty.bootstrap import binary_data
-from solsphere.models.classic import _box
 from solsphere.hansen import ra
-from solsphere.library.table import hazard_flags, normalise
+from solsphere.library.table import hazard_flags, is_tested, tested_keys
+from solsphere.models.base import binary_data, search_box
+from solsphere.results import Result
+from solsphere.uncertainty import bootstrap as confidence
+from solsphere.uncertainty.posterior import Posterior, sample_posterior
 
 __all__ = ["Suggestion", "Suggestions", "suggest_next", "select_informative"]
 
@@ -100,7 +101,7 @@ class Suggestion:
 
 
 @dataclass
-class Suggestions:
+class Suggestions(Result):
     """Result of :func:`suggest_next`: the picks in order (the first is the best)."""
 
     suggestions: list
@@ -120,6 +121,8 @@ class Suggestions:
                 "uncertainty": self.uncertainty, "intervals": dict(self.intervals),
                 "seed": self.seed, "centre": list(self.centre), "R0": self.R0,
                 "warnings": list(self.warnings), "caution": CAUTION}
+
+    rows_key = "suggestions"
 
     @property
     def names(self) -> list[str]:
@@ -277,7 +280,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     Parameters
     ----------
     data : Trials or array-like of shape (n, 3)
-        Bench results so far (see :func:`solsphere.confidence.binary_data`).
+        Bench results so far (see :func:`solsphere.models.base.binary_data`).
     good : array-like of bool or outcome strings, default=None
         Required with arrays.
     candidates : sequence of Solvent
@@ -320,26 +323,25 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     Suggestions
     """
     check_limit("samples", n_samples, "the sampled spheres")
-    from solsphere.uncertainty.posterior import Posterior, sample_posterior
-
     if uncertainty not in ("posterior", "bootstrap"):
         raise ValueError(f"uncertainty must be 'posterior' or 'bootstrap'; found "
                          f"{uncertainty!r}")
     X, g, tnames, _ = binary_data(data, good, partial, names, bounds)
-    tested_keys = {normalise(s) for s in tnames}
+    every = list(data.names) if hasattr(data, "names") else list(tnames)
     if hasattr(data, "trials"):
-        tested_keys |= {normalise(t.cas) for t in data.trials if getattr(t, "cas", None)}
+        every += [t.cas for t in data.trials if getattr(t, "cas", None)]
+    keys = tested_keys(every)
     pool = []
     for s in candidates:
         if exclude_tested:
-            if normalise(s.name) in tested_keys or (s.cas and normalise(s.cas) in tested_keys):
+            if is_tested(s, keys):
                 continue
             if len(X) and ra(X, s.point).min() <= 1e-6:
                 continue
         pool.append(s)
     P = np.array([s.point for s in pool], dtype=float).reshape(-1, 3)
     all_points = data.points if hasattr(data, "points") else X
-    box = _box(bounds, np.vstack([all_points, P]))
+    box = search_box(bounds, np.vstack([all_points, P]))
     b = bootstrap
     if b is None and uncertainty == "posterior":
         b = sample_posterior(X, g, n_samples, seed=seed, names=tnames, bounds=box)

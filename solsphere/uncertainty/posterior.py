@@ -54,10 +54,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from solsphere.formatting import warning_lines
 from solsphere.limits import check_work
-from solsphere.uncertainty.bootstrap import SampledSpheres, binary_data, edge_notes, percentile_intervals
-from solsphere.models.classic import AXES, MIN_ADVISED, desirability
 from solsphere.hansen import SCALE, ra
+from solsphere.models.base import AXES, MIN_ADVISED, binary_data
+from solsphere.models.classic import desirability
+from solsphere.models.graded import GradedSphereModel, theta_bounds
+from solsphere.results import Result
+from solsphere.uncertainty.bootstrap import SampledSpheres, edge_notes, percentile_intervals
 
 __all__ = ["Posterior", "sample_posterior", "log_posterior"]
 
@@ -226,12 +230,8 @@ class Posterior(SampledSpheres):
                f"    results    = {self.n_good} good, {self.n_bad} bad (partly: "
                f"{self.partial})",
                f"[[Intervals]] ({100 * self.level:g} %, credible, equal-tailed)"]
-        full = dict(zip(_KEYS, (*self.centre, self.R0, self.width)))
-        for k in _KEYS:
-            lo, hi = self.intervals[k]
-            out.append(f"    {k:5s} = {full[k]:5.1f} MPa½   [{lo:.1f}, {hi:.1f}]   "
-                       f"(sd {self.sd[k]:.2f})")
-        out += ["[[Warnings]]"] + ([f"    {t}" for t in self.warnings] or ["    none"])
+        out += self.interval_lines(_KEYS)
+        out += warning_lines(self.warnings)
         return "\n".join(out)
 
 
@@ -245,7 +245,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     Parameters
     ----------
     data : Trials or array-like of shape (n, 3)
-        Bench results (see :func:`solsphere.confidence.binary_data`).
+        Bench results (see :func:`solsphere.models.base.binary_data`).
     good : array-like of bool or outcome strings, default=None
         Required with arrays.
     n_samples : int, default=1000
@@ -263,7 +263,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     burn, thin : int, default=600, 4
         Steps discarded at the start; steps between kept states.
     min_width, max_width, width_prior, prior_strength :
-        As for :class:`~solsphere.graded.GradedModel`.
+        As for :class:`~solsphere.graded.GradedSphereModel`.
 
     Returns
     -------
@@ -277,7 +277,6 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     ((256, 3), ['R0', 'dD', 'dH', 'dP', 'width'])
     """
     check_work(int(n_samples), len(data), "the posterior samples")
-    from solsphere.models.graded import GradedModel, _theta_bounds
 
     if partial not in ("good", "bad", "skip"):
         raise ValueError(f"partial must be 'good', 'bad' or 'skip'; found {partial!r}")
@@ -292,10 +291,10 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
         raise ValueError(f"need burn >= 0 and thin >= 1; found {burn}, {thin}")
     t0 = time.perf_counter()
     X, g, names, box = binary_data(data, good, partial, names, bounds)
-    model = GradedModel(partial="good", bounds=box, min_width=min_width,
+    model = GradedSphereModel(partial="good", bounds=box, min_width=min_width,
                         max_width=max_width, width_prior=width_prior,
                         prior_strength=prior_strength).fit(X, g)
-    bnds = np.array(_theta_bounds(box, False, min_width, max_width))
+    bnds = np.array(theta_bounds(box, False, min_width, max_width))
     lo, hi = bnds[:, 0], bnds[:, 1]
     prior = (prior_strength, width_prior)
     rng = np.random.default_rng(seed)

@@ -4,7 +4,7 @@ Invented 40-trial panel (the one of bench_fit.py: good iff inside an invented sp
 4 results flipped). Ours: :func:`solsphere.confidence.bootstrap` with 1,000 stratified
 resamples, warm-started refits, 2 worker processes (median of 3 runs; the first run,
 which starts the workers, is counted). Baseline ("naive"): a serial loop that builds each
-resampled panel (duplicated rows) and refits it with the full search of ``fit_sphere``;
+resampled panel (duplicated rows) and refits it with the full search of ``best_sphere``;
 timed on the first 100 resamples and scaled by 10 (said in the output). Prints
 
     BENCH bootstrap_1000 ratio=<naive serial time / ours> target=2 ok|FAIL
@@ -29,7 +29,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from bench_fit import panel  # noqa: E402
 from benchtime import timed  # noqa: E402
 from solsphere.uncertainty.bootstrap import bootstrap, resample_counts  # noqa: E402
-from solsphere.models.classic import default_bounds, fit_sphere  # noqa: E402
+from solsphere.models.classic import default_bounds, best_sphere  # noqa: E402
 
 TARGET = 2.0
 GOAL_S = 10.0
@@ -45,13 +45,13 @@ def naive(X, good, n, seed=0):
     out = []
     for i, w in enumerate(W):
         idx = np.repeat(np.arange(len(X)), w)
-        out.append(fit_sphere(X[idx], good[idx], bounds=box, seed=i))
+        out.append(best_sphere(X[idx], good[idx], bounds=box, seed=i))
     return out
 
 
 def main() -> int:
     X, good = panel()
-    fit_sphere(X, good)  # warm-up (imports, first Sobol)
+    best_sphere(X, good)  # warm-up (imports, first Sobol)
     times, b = timed(lambda: bootstrap(X, good, N, seed=0, n_jobs=2), 3)
     ours = float(np.median(times))
     t = time.perf_counter()

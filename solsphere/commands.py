@@ -1,0 +1,245 @@
+"""The ``solsphere`` subcommands: read the options, call a workflow, print the result.
+
+Each ``cmd_*`` takes the parsed arguments of :mod:`solsphere.cli` and returns the exit
+code; errors propagate to :func:`solsphere.cli.main`, which prints them on one line.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+from solsphere.design.ranking import rank_solvents
+from solsphere.errors import InputError
+from solsphere.formatting import num, split_names
+from solsphere import limits
+from solsphere.io.files import atomic_write_text, check_output
+from solsphere.io.project import load_any, save
+from solsphere.library.table import load_library
+from solsphere.models.twosphere import fit_two_spheres
+from solsphere.uncertainty.bootstrap import bootstrap, influence
+from solsphere.uncertainty.nexttrials import suggest_next
+from solsphere.uncertainty.posterior import sample_posterior
+from solsphere.workflows import candidate_pool, design_blends, find_replacements, fit_project
+
+
+def load_session(args):
+    """Read FILE (results or project) and return (project, fit result, library)."""
+    lib = load_library()
+    project = load_any(args.file, library=lib)
+    fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
+                      method=args.method)
+    return project, fit, lib
+
+
+def pool_options(args, *, limits: bool = True) -> dict:
+    """The keyword arguments of :func:`solsphere.workflows.candidate_pool` per the options."""
+    return dict(shelf=args.candidates, exclude=split_names(args.exclude),
+                min_flash_point=args.min_flash_point if limits else None,
+                max_boiling_point=args.max_boiling_point if limits else None,
+                exclude_carcinogens=args.no_carcinogens,
+                min_boiling_point=args.min_boiling_point,
+                min_exposure_limit=args.min_exposure_limit,
+                restricted=args.restricted, pool=args.pool, temperature=args.temperature)
+
+
+def _emit(args, obj, text: str):
+    if args.json:
+        print(json.dumps(obj, ensure_ascii=False, allow_nan=False))
+    else:
+        print(text)
+
+
+# ---------------------------------------------------------------- subcommands
+
+def _progress(args, label: str):
+    """A progress bar on the terminal (none under --json or when not a terminal)."""
+    if args.json or not sys.stderr.isatty():
+        return None
+
+    def show(done: int, total: int) -> None:
+        width = 30
+        k = int(width * done / max(total, 1))
+        sys.stderr.write(f"\r{label} [{'#' * k}{'.' * (width - k)}] {done}/{total}")
+        if done >= total:
+            sys.stderr.write("\n")
+        sys.stderr.flush()
+    return show
+
+
+def _binary_partial(fit) -> str:
+    return fit.partial if fit.partial != "ordinal" else "good"
+
+
+def _bootstrap(args, project, fit, n: int):
+    return bootstrap(project.trials, n_bootstrap=n, seed=args.seed, method=args.method,
+                     partial=fit.partial, bounds=fit.bounds,
+                     progress=_progress(args, "resampling"))
+
+
+def _posterior(args, project, fit, n: int):
+    return sample_posterior(project.trials, n_samples=n, seed=args.seed,
+                            partial=_binary_partial(fit), bounds=fit.bounds)
+
+
+def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:
+    """The re-check list: results whose removal moves the sphere most (a result whose
+    removal leaves no sphere to fit says so instead of a number)."""
+    out = []
+    for r in rows[:n]:
+        if r.get("shift") is None:
+            out.append(f"    {r['name']}: {r.get('note') or 'no refit without it'}")
+        else:
+            out.append(f"    {r['name']}: centre moves {num(r['shift'])} MPa½, R0 "
+                       f"{num(r['dR0'], '{:+.1f}')}")
+    return out
+
+
+def cmd_fit(args) -> int:
+    if args.save:  # said before the fit, and a pipe or device is never opened
+        check_output(args.save, inputs=[args.file])
+    project, fit, lib = load_session(args)
+    obj, text = fit.to_dict(), str(fit)
+    if args.bootstrap:
+        boot = _bootstrap(args, project, fit, args.bootstrap)
+        obj["intervals"] = boot.intervals
+        obj["n_bootstrap"] = boot.n_bootstrap
+        obj["bootstrap"] = boot.to_dict()
+        text += "\n" + str(boot)
+    if args.posterior:
+        post = _posterior(args, project, fit, args.posterior)
+        obj["posterior"] = post.to_dict()
+        text += "\n" + str(post)
+    n_trials = len(project.trials)
+    if not args.no_influence and n_trials * n_trials > limits.current().resample_work:
+        obj["influence"] = None
+        text += (f"\n[[Re-check first]] not computed: {n_trials} results need {n_trials:,}"
+                 f" leave-one-out refits of {n_trials:,} rows, above the limit of resample "
+                 f"work (raise it with --max-resample-work N, or add --no-influence)")
+    elif not args.no_influence:
+        # leave-one-out refits rank the list; the flipped-result refits (the app shows
+        # them) would double the time of every fit
+        inf = influence(project.trials, partial=fit.partial, bounds=fit.bounds, flips=False)
+        rows = inf.to_dict()["influence"]
+        obj["influence"] = rows
+        text += ("\n[[Re-check first]] (results whose removal moves the sphere most)\n"
+                 + "\n".join(recheck_lines(rows)))
+    if args.spheres == 2:
+        two = fit_two_spheres(project.trials, partial=_binary_partial(fit), seed=args.seed)
+        obj["two_spheres"] = two.to_dict()
+        text += "\n" + str(two)
+    if args.save:
+        project.fit = fit.to_dict()
+        project.settings["partial"] = fit.partial
+        project.settings["method"] = args.method
+        save(project, args.save)
+        if not args.json:
+            text += f"\nProject saved to {args.save}"
+    _emit(args, obj, text)
+    return 0
+
+
+def cmd_rank(args) -> int:
+    project, fit, lib = load_session(args)
+    pool, filters = candidate_pool(lib, **pool_options(args))
+    tested = list(project.trials.names) + [t.cas for t in project.trials if t.cas]
+    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
+    if args.posterior:
+        boot = _posterior(args, project, fit, args.posterior)
+    ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
+                            include_tested=args.include_tested, filters=filters,
+                            temperature_C=_temperature(args), bootstrap=boot)
+    _emit(args, ranking.to_dict(), str(ranking) + "\n" + _pool_line(filters))
+    return 0
+
+
+def cmd_next(args) -> int:
+    project, fit, lib = load_session(args)
+    pool, filters = candidate_pool(lib, **pool_options(args))
+    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
+    sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
+                        n_samples=args.samples, seed=args.seed,
+                        partial=_binary_partial(fit), progress=_progress(args, "resampling"))
+    obj = dict(sugg.to_dict(), filters=filters)
+    _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
+    return 0
+
+
+def _pool_line(filters: dict) -> str:
+    """Which candidates were used, for the human output."""
+    other = {"common solvents": " (--pool liquids: every library liquid)",
+             "library liquids": " (--pool common: the curated common solvents)"}
+    return f"Candidates: {filters['pool']}{other.get(filters['pool'], '')}."
+
+
+def _temperature(args) -> float:
+    return 25.0 if args.temperature is None else args.temperature
+
+
+def cmd_blend(args) -> int:
+    if args.rank_by == "drying" and not args.drying:  # say so before the long screen
+        raise InputError("ranking by drying needs the drying simulation.", setting="drying")
+    project, fit, lib = load_session(args)
+    design = design_blends(fit, lib, components=args.components, top=args.top,
+                           rank_by=args.rank_by, drying=args.drying,
+                           max_fraction=args.max_fraction, min_fraction=args.min_fraction,
+                           with_single=args.with_single, **pool_options(args))
+    _emit(args, design.to_dict(), str(design))
+    return 0
+
+
+def cmd_replace(args) -> int:
+    lib = load_library()
+    fit = None
+    if args.for_material:
+        fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
+                          library=lib)
+    result = find_replacements(lib, args.name, fit=fit, top=args.top, n_pairs=args.pairs,
+                               **pool_options(args))
+    _emit(args, result.to_dict(), str(result))
+    return 0
+
+
+def cmd_share(args) -> int:
+    from solsphere.report.share import share_page  # deferred: plotly is heavy to import
+
+    check_output(args.output, inputs=[args.file])
+    project, fit, lib = load_session(args)
+    _check_share_target(args.output)
+    page = share_page(project, fit, lib, title=args.title)
+    atomic_write_text(args.output, page)
+    _emit(args, {"output": args.output, "bytes": len(page.encode())},
+          f"Wrote {args.output} ({len(page.encode()) / 1e6:.1f} MB, self-contained, opens offline)")
+    return 0
+
+
+def _check_share_target(path: str) -> None:
+    """Refuse to replace an existing file that is not an HTML page (a results file or a
+    project given to -o by mistake must never be lost)."""
+    p = Path(path)
+    if not p.is_file():
+        return  # new file; a folder or a missing folder is reported by the writer
+    try:
+        with open(p, "rb") as fh:
+            head = fh.read(512).lstrip(b"\xef\xbb\xbf").lstrip().lower()
+    except OSError:
+        return
+    if not (head.startswith(b"<!doctype html") or head.startswith(b"<html")):
+        raise InputError("this file exists and is not an HTML page; not overwriting it.",
+                         file=path, hint="choose another name, e.g. one ending in .html")
+
+
+def cmd_app(args) -> int:
+    from solsphere.app.server import serve  # deferred: dash and the app are heavy to import
+
+    serve(args.file, host=args.host, port=args.port, workers=args.workers)
+    return 0
+
+
+COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
+
+
+COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
