@@ -23,6 +23,11 @@ from __future__ import annotations
 
 import json
 
+import flask
+from dash import html, set_props
+from werkzeug.exceptions import HTTPException
+from werkzeug.serving import WSGIRequestHandler
+
 from solsphere.limits import clip
 
 from . import ids
@@ -43,8 +48,6 @@ SERVER_NAME = "solsphere"
 def request_handler():
     """werkzeug's request handler, naming the server ``solsphere`` instead of
     ``Werkzeug/x.y Python/x.y`` (gunicorn, with ``--workers``, says ``gunicorn``)."""
-    from werkzeug.serving import WSGIRequestHandler
-
     class Handler(WSGIRequestHandler):
         def version_string(self) -> str:
             return SERVER_NAME
@@ -86,8 +89,6 @@ def callback_error_message(exc: BaseException) -> str:
 def on_callback_error(exc: BaseException):
     """Dash's ``on_error`` hook: the message goes to the page's notice area, the
     outputs stay as they were, the server logs one line."""
-    import flask
-    from dash import html, set_props
     flask.current_app.logger.warning("callback failed: %s: %s", type(exc).__name__,
                                      clip(str(exc), 300))
     set_props(ids.NOTICE, {"children": html.Div(callback_error_message(exc),
@@ -118,8 +119,6 @@ def install(app) -> None:
     """Add the headers, the per-callback size limit and the error answers to a
     :class:`dash.Dash` app (after its callbacks are registered: the policy hashes the
     inline scripts they add)."""
-    import flask
-
     server = app.server
     policy = content_security_policy(sorted(set(app.csp_hashes())))
 
@@ -150,7 +149,6 @@ def install(app) -> None:
 
     def unreadable(exc):
         """A request the dispatcher itself cannot read (not JSON, not an object)."""
-        from werkzeug.exceptions import HTTPException
         if isinstance(exc, HTTPException):
             return exc
         server.logger.warning("request refused: %s: %s", type(exc).__name__,

@@ -43,7 +43,7 @@ from solsphere.io import project as P
 
 from solsphere.io import trials as T
 from solsphere.errors import FitError, InputError
-from solsphere.models.classic import MIN_R0, SphereModel, best_radius, fit_sphere
+from solsphere.models.classic import MIN_R0, SphereModel, best_radius, best_sphere as fit_sphere
 from solsphere.hansen import ra
 from solsphere.library.table import load_library
 from solsphere.io.shelf import read_shelf

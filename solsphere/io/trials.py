@@ -987,7 +987,7 @@ def _has_surrogates(text: str) -> bool:
 
 
 def replace_surrogates(text: str) -> str:
-    """``text`` with every lone surrogate (which no file can store) replaced by U+FFFD.
+    r"""``text`` with every lone surrogate (which no file can store) replaced by U+FFFD.
 
     >>> replace_surrogates("note \ud800 end")
     'note \ufffd end'
