@@ -177,7 +177,7 @@ def check_work(n: int, rows: int, what: str, *, file=None, column=None) -> None:
                        limit, file, column)
 
 
-def check_temperature(value, *, file="<command line>", column="--temperature") -> float | None:
+def check_temperature(value, *, file=None, column=None) -> float | None:
     """A process temperature in °C within the physical range, or None.
 
     >>> check_temperature(25)
@@ -185,7 +185,7 @@ def check_temperature(value, *, file="<command line>", column="--temperature") -
     >>> check_temperature(-300)
     Traceback (most recent call last):
     ...
-    solsphere.errors.InputError: <command line>, column --temperature: the temperature -300 °C is outside -50 to 250 °C. Fix: give a process temperature in °C within that range (the temperature relations hold near room temperature)
+    solsphere.errors.InputError: the temperature -300 °C is outside -50 to 250 °C. Fix: give a process temperature in °C within that range (the temperature relations hold near room temperature)
     """
     if value is None:
         return None
