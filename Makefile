@@ -13,7 +13,7 @@ OUT    := out
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install -q --upgrade pip
-	$(PY) -m pip install -q -e '.[test]'
+	$(PY) -m pip install -q -e '.[test,structure]'
 	touch $(STAMP)
 
 run: $(STAMP)
@@ -22,6 +22,7 @@ run: $(STAMP)
 	$(VENV)/bin/solsphere rank $(OUT)/demo-project.json --top 10 --pool common
 	$(VENV)/bin/solsphere blend $(OUT)/demo-project.json --top 10 --pool common
 	$(VENV)/bin/solsphere share $(OUT)/demo-project.json -o $(OUT)/demo-sphere.html
+	$(VENV)/bin/solsphere estimate 'CC1CCC(=O)O1' 'O=C1CC[C@H]2CO[C@@H]1O2'
 	@echo "Shareable map written to $(OUT)/demo-sphere.html"
 ifndef NO_SERVE
 	$(VENV)/bin/solsphere app $(OUT)/demo-project.json --host 127.0.0.1 --port 8050
@@ -45,6 +46,8 @@ bench: $(STAMP)
 
 data: $(STAMP)
 	$(PY) data/build_solvents.py
+	$(PY) data/build_mixtures.py
+	$(PY) data/build_structure_model.py
 
 clean:
 	rm -rf $(VENV) $(OUT) build *.egg-info

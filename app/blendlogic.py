@@ -169,7 +169,7 @@ def drying_text(d: dict | None) -> str:
 
 
 def flash_text(fpe: dict | None) -> str:
-    """'≈ 28 (lowest 12)': the ideal-solution estimate and the lowest component [°C]."""
+    """'≈ 28 (lowest 12)': the blend's estimate (Liaw's model) and the lowest component [°C]."""
     fpe = fpe or {}
     est, low = fpe.get("estimate"), fpe.get("conservative")
     if est is not None:

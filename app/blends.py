@@ -84,8 +84,8 @@ def panel(library):
         html.P("Blends whose best mix (volume fractions) sits closest to the sphere centre. "
                "'Inside for': the range of the first solvent's share that stays inside "
                "(pairs) or the share of all mixes of the three that is inside (triples). "
-               "Drying: when the evaporating liquid would leave the sphere (ideal solution, "
-               "Raoult's law). Click a row to draw it, with its drying path, on the map.",
+               "Drying: when the evaporating liquid would leave the sphere (activity "
+               "coefficients, evaporative cooling). Click a row to draw it, with its drying path, on the map.",
                className="tip"),
         html.Div(className="pool", children=[
             html.Span("Components", className="ctl-label"),
@@ -240,8 +240,8 @@ def detail(b: dict):
         inside,
         f"Mass ratio {b['mass_text']} ({' : '.join(names)})." if b.get("mass_fractions") else
         "Mass ratio unknown (a density is missing).",
-        f"Flash point of the blend: {b['fp_text']} °C (≈ the ideal-solution estimate, "
-        f"lowest = the lowest component's); {fpe.get('caveat') or 'not a guarantee'}."
+        f"Flash point of the blend: {b['fp_text']} °C (≈ Liaw's model with activity "
+        f"coefficients, minus a safety margin; lowest = the lowest component's); {fpe.get('caveat') or 'not a guarantee'}."
         + (f" {'; '.join(fpe['notes'])}." if fpe.get("notes") else ""),
         f"Components: flash points {each('flash_points')} °C; boiling points "
         f"{each('boiling_points')} °C; exposure limits {each('twa_ppm', '{:.3g}')} ppm "
@@ -250,7 +250,7 @@ def detail(b: dict):
         + (f"; {b['drying_last']} is left last" if b.get("drying_last") else "")
         + (" (the dotted line on the map)" if b.get("drying_points") else
            " (vapour pressure, molar volume or boiling point missing)")
-        + ". Model: ideal solution, Raoult's law, same temperature throughout.",
+        + ". Model: activity coefficients (UNIFAC), gas-side mass transfer, evaporative cooling.",
     ]
     if b.get("price_per_litre") is not None:
         facts.append(f"Price about {b['price_per_litre']:.2f} per litre (shelf prices).")

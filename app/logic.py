@@ -155,11 +155,9 @@ def problem_dict(err: InputError) -> dict:
     """One bad cell for the table: row index, column name, message, suggestions."""
     line = getattr(err, "line", None)
     suggestions = list(getattr(err, "suggestions", []) or [])
-    message = " ".join(str(err.message).split())
-    if suggestions:  # the app offers them as buttons instead
-        cut = message.find("Did you mean ")  # (a string search: linear in the message)
-        if cut >= 0 and message.endswith("?"):
-            message = message[:cut].rstrip()
+    # with suggestions the app offers them as buttons, so the message goes without them
+    message = " ".join(str(getattr(err, "plain_message", None) if suggestions
+                           else err.message).split())
     return {"row": None if line is None else int(line) - 1,
             "column": err.column if isinstance(err.column, str) else None,
             "message": message,

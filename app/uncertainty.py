@@ -92,7 +92,7 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
         if method == "posterior":
             b = sample_posterior(X, outcomes, max(n, MIN_SAMPLES), seed=seed,
                                  partial=partial if partial != "ordinal" else "good",
-                                 names=names, bounds=fit.get("bounds"))
+                                 names=names)  # its own physically wide prior
         else:
             b = confidence.bootstrap(X, outcomes, n, seed=seed, method=method,
                                      partial=partial, names=names, bounds=fit.get("bounds"))

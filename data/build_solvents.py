@@ -35,6 +35,7 @@ OUT = HERE / "solvents.csv"
 ALIASES = HERE / "aliases.csv"
 
 T25 = 298.15  # K
+WATER = "7732-18-5"
 P_ATM = 101.325  # kPa
 
 #: The three compilations, in priority order (highest first) for the winner rule.
@@ -433,7 +434,13 @@ def properties(cas, mw, tables):
         if Vm50 is not None and Vm50 > 0 and m50 == m:
             a = math.log(Vm50 / Vm) / 25.0
             alpha = sig(a) if 0.0 < a < 5e-3 else None
-    put("alpha", alpha, f"{m} (secant 25-50 °C)" if alpha is not None else None)
+    alpha_method = f"{m} (secant 25-50 °C)" if alpha is not None else None
+    if cas == WATER:  # water: the IAPWS-95 formulation, not a generic density fit
+        from chemicals.iapws import iapws95_rho
+        rho25, rho50 = (iapws95_rho(T, 101325.0) for T in (T25, T25 + 25.0))
+        alpha = sig(math.log(rho25 / rho50) / 25.0)
+        alpha_method = "IAPWS-95 (chemicals.iapws, secant 25-50 °C at 101.325 kPa)"
+    put("alpha", alpha, alpha_method)
 
     Ps, m = tables.vapour_pressure(cas)
     put("vapour_pressure", sig(Ps / 1000.0) if Ps else None, m)  # kPa

@@ -36,6 +36,8 @@ API = {
     "solsphere.library.table": ("Library", "Solvent", "load_library"),
     "solsphere.mixtures.drying": ("DryingPath", "drying_path"),
     "solsphere.mixtures.flash": ("blend_flash_point",),
+    "solsphere.mixtures.mixture": ("MixtureReport", "analyse_mixture"),
+    "solsphere.estimate": ("Estimates", "estimate", "plan_from_structure"),
     "solsphere.models.classic": ("SphereFitResult", "SphereModel"),
     "solsphere.models.graded": ("GradedFitResult", "GradedSphereModel"),
     "solsphere.models.twosphere": ("TwoSphereFitResult", "TwoSphereModel"),
@@ -74,7 +76,9 @@ __all__ = [
     # design and mixtures
     "rank_solvents", "Ranking", "screen_blends", "BlendScreen", "Blend", "screen_triples",
     "TripleScreen", "find_substitutes", "Substitution", "drying_path", "DryingPath",
-    "blend_flash_point",
+    "blend_flash_point", "analyse_mixture", "MixtureReport",
+    # structure-based estimates (needs the optional extra solsphere[structure])
+    "estimate", "Estimates", "plan_from_structure",
     # workflows (what the CLI and the app do)
     "candidate_pool", "design_blends", "BlendDesign", "find_replacements", "fit_project",
     # figures

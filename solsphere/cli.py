@@ -103,9 +103,10 @@ def _limits_of(args) -> dict:
     return {name: getattr(args, f"limit_{name}", None) for name in limits.OPTIONS}
 
 
-def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)"):
+def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)",
+               optional: bool = False):
     _add_limits(p)
-    p.add_argument("file", metavar="FILE", help=what)
+    p.add_argument("file", metavar="FILE", help=what, nargs="?" if optional else None)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
                         "(default: good, or the project's setting)")
@@ -116,8 +117,13 @@ def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)
     p.add_argument("--json", action="store_true", help="print one JSON object")
 
 
+def _resamples(text: str) -> int:
+    """--bootstrap: a whole number of at least 2 (one resample gives no interval)."""
+    return _whole(text, 2)
+
+
 def _add_bootstrap(p, what: str):
-    p.add_argument("--bootstrap", type=_positive_int, metavar="N", default=None,
+    p.add_argument("--bootstrap", type=_resamples, metavar="N", default=None,
                    help=f"resample the trials N times (e.g. 1000) and {what}")
 
 
@@ -170,6 +176,9 @@ def build_parser() -> argparse.ArgumentParser:
                         "the second earns its keep")
     p.add_argument("--no-influence", action="store_true",
                    help="skip the leave-one-out list of results to re-check first")
+    p.add_argument("--compare", action="store_true",
+                   help="compare classic and graded fits and the 'partly' readings on "
+                        "held-back results and say which to trust (a few seconds)")
 
     p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
     _add_input(p)
@@ -182,14 +191,27 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)
-    _add_input(p)
+    _add_input(p, optional=True)  # no file with --smiles
     _add_pool(p, pool="common")  # a test campaign uses solvents on a shelf, not reagents
-    p.add_argument("--n", type=_positive_int, default=5, help="how many to suggest (default 5)")
+    p.add_argument("--n", type=_positive_int, default=None,
+                   help="how many to suggest (default 5; 16 with --smiles)")
+    p.add_argument("--smiles", metavar="SMILES", default=None,
+                   help="no results yet: plan the first trials from the material's "
+                        "structure (estimated centre ± its uncertainty, broad R0 prior; "
+                        "needs solsphere[structure])")
     p.add_argument("--samples", type=_positive_int, metavar="N", default=1000,
                    help="plausible spheres sampled from the posterior to score the "
                         "candidates (default 1000)")
     _add_bootstrap(p, "score the candidates by the disagreement among the resampled "
                       "spheres instead of the posterior samples")
+
+    p = sub.add_parser("estimate", help="dD, dP, dH, dT and molar volume estimated from "
+                                        "structures (SMILES), with 95 %% intervals",
+                       epilog=EPILOG)
+    p.add_argument("smiles", metavar="SMILES", nargs="*", help="SMILES strings")
+    p.add_argument("--from", dest="source", metavar="FILE",
+                   help="a file with one SMILES or compound name a line")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
     _add_input(p)
@@ -204,11 +226,24 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
                    help="lower volume-fraction limit (repeatable)")
     p.add_argument("--drying", action="store_true",
-                   help="simulate evaporation (Raoult's law) and report when the drying "
-                        "liquid leaves the sphere")
+                   help="simulate evaporation (activity coefficients, evaporative cooling) "
+                        "and report when the drying liquid leaves the sphere")
     p.add_argument("--rank-by", choices=RANK_CHOICES, default="red",
                    help="order: RED (default); drying (with --drying: longest inside "
                         "first); cost (inside blends, cheapest first; needs shelf prices)")
+
+    p = sub.add_parser("mixture", help="flash point, vapour pressure, phases and drying path "
+                       "of one blend (activity coefficients)", epilog=EPILOG)
+    p.add_argument("spec", metavar="SPEC",
+                   help="the blend as in a bench file, volume parts: \"ethanol 10 + water 90\" "
+                        "(one solvent alone is a mixture of one)")
+    p.add_argument("--material", metavar="PROJECT",
+                   help="results or project file: say when the drying liquid leaves its sphere")
+    p.add_argument("--temperature", type=_number, default=25.0, metavar="°C",
+                   help="temperature of the liquid and the air (default 25)")
+    p.add_argument("--humidity", type=_number, default=0.0, metavar="%",
+                   help="relative humidity of the air for the drying path, 0-100 (default 0)")
+    p.add_argument("--json", action="store_true", help="print one JSON object")
 
     p = sub.add_parser("replace", help="solvents and pairs that can replace a given solvent",
                        epilog=EPILOG)
@@ -289,7 +324,8 @@ def main(argv: list[str] | None = None) -> int:
         if isinstance(exc, InputError):
             exc = located(exc)
         text = str(exc)
-        where = getattr(args, "file", None) or getattr(args, "for_material", None)
+        where = (getattr(args, "file", None) or getattr(args, "for_material", None)
+                 or getattr(args, "material", None))
         if isinstance(exc, FitError) and where and where not in text:
             text = f"{where}: {text}"  # name the file whose results cannot be fitted
         print(f"solsphere: error: {text}", file=sys.stderr)

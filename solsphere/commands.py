@@ -11,12 +11,14 @@ import sys
 from pathlib import Path
 
 from solsphere.design.ranking import rank_solvents
-from solsphere.errors import InputError
+from solsphere.errors import FitError, InputError
 from solsphere.formatting import num, split_names
 from solsphere import limits
 from solsphere.io.files import atomic_write_text, check_output
 from solsphere.io.project import load_any, save
 from solsphere.library.table import load_library
+from solsphere.models.comparison import compare_models
+from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
 from solsphere.uncertainty.bootstrap import bootstrap, influence
 from solsphere.uncertainty.nexttrials import suggest_next
@@ -79,8 +81,9 @@ def _bootstrap(args, project, fit, n: int):
 
 
 def _posterior(args, project, fit, n: int):
+    # the posterior's own prior (physically wide), not the classic fit's tested box
     return sample_posterior(project.trials, n_samples=n, seed=args.seed,
-                            partial=_binary_partial(fit), bounds=fit.bounds)
+                            partial=_binary_partial(fit))
 
 
 def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:
@@ -125,6 +128,15 @@ def cmd_fit(args) -> int:
         obj["influence"] = rows
         text += ("\n[[Re-check first]] (results whose removal moves the sphere most)\n"
                  + "\n".join(recheck_lines(rows)))
+    if args.compare:
+        try:
+            cmp = compare_models(project.trials)
+        except FitError as exc:  # too few results to hold any back: say so, keep the fit
+            obj["model_comparison"] = {"error": str(exc)}
+            text += f"\n[[Which model?]]\n    not compared: {exc}"
+        else:
+            obj["model_comparison"] = cmp.to_dict()
+            text += "\n" + str(cmp)
     if args.spheres == 2:
         two = fit_two_spheres(project.trials, partial=_binary_partial(fit), seed=args.seed)
         obj["two_spheres"] = two.to_dict()
@@ -155,14 +167,73 @@ def cmd_rank(args) -> int:
 
 
 def cmd_next(args) -> int:
+    if args.smiles is not None:
+        return _next_from_structure(args)
+    if args.file is None:
+        raise InputError("next needs a results or project file, or --smiles for a first "
+                         "plan from a structure.", file="<command line>",
+                         hint="give FILE, or --smiles 'SMILES' when there are no results yet")
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(lib, **pool_options(args))
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
-    sugg = suggest_next(project.trials, candidates=pool, n=args.n, bootstrap=boot,
+    sugg = suggest_next(project.trials, candidates=pool, n=args.n or 5, bootstrap=boot,
                         n_samples=args.samples, seed=args.seed,
                         partial=_binary_partial(fit), progress=_progress(args, "resampling"))
     obj = dict(sugg.to_dict(), filters=filters)
     _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
+    return 0
+
+
+def _structure():
+    """The estimate package, or a one-line error naming the extra to install."""
+    try:
+        import solsphere.estimate as est  # deferred: RDKit is an optional extra
+    except ImportError as exc:
+        raise InputError(f"estimates from structure need RDKit ({exc}).",
+                         file="<command line>",
+                         hint="pip install 'solsphere[structure]'") from None
+    return est
+
+
+def _next_from_structure(args) -> int:
+    if args.file is not None:
+        raise InputError("--smiles plans the first trials when there are no results; "
+                         "with results, leave it out.", file="<command line>",
+                         column="--smiles", hint="drop FILE or drop --smiles")
+    est = _structure()
+    if est.features.parse_smiles(args.smiles) is None:
+        raise InputError(f"--smiles {args.smiles!r} is not a SMILES that RDKit can read.",
+                         file="<command line>", column="--smiles",
+                         hint="check brackets, ring-closure digits and element symbols; "
+                              "quote the SMILES in the shell")
+    e = est.estimate([args.smiles])[0]
+    if e.refused:
+        raise InputError(f"--smiles {args.smiles!r}: no estimate: {e.refused}.",
+                         file="<command line>", column="--smiles",
+                         hint="run 'solsphere fit' on bench results instead")
+    lib = load_library()
+    pool, filters = candidate_pool(lib, **pool_options(args))
+    plan = est.plan_from_structure(e, pool, n=args.n or 16, seed=args.seed)
+    _emit(args, dict(plan.to_dict(), filters=filters), str(plan) + "\n" + _pool_line(filters))
+    return 0
+
+
+def cmd_estimate(args) -> int:
+    est = _structure()
+    for i, s in enumerate(args.smiles, 1):  # name the argument that is wrong
+        if est.features.parse_smiles(s) is None:
+            raise InputError(f"SMILES argument {i} ({s!r}) is not a SMILES that RDKit can "
+                             f"read.", file="<command line>",
+                             hint="check brackets, ring-closure digits and element symbols; "
+                                  "quote the SMILES in the shell")
+    items = [(None, s) for s in args.smiles]
+    if args.source:
+        items += est.read_structures(args.source, load_library())
+    if not items:
+        raise InputError("no structure given.", file="<command line>",
+                         hint="give SMILES arguments or --from FILE")
+    result = est.estimate([s for _, s in items], labels=[lab for lab, _ in items])
+    _emit(args, result.to_dict(), str(result))
     return 0
 
 
@@ -186,6 +257,25 @@ def cmd_blend(args) -> int:
                            max_fraction=args.max_fraction, min_fraction=args.min_fraction,
                            with_single=args.with_single, **pool_options(args))
     _emit(args, design.to_dict(), str(design))
+    return 0
+
+
+def cmd_mixture(args) -> int:
+    if not 0.0 <= args.humidity <= 100.0:
+        raise InputError(f"--humidity {args.humidity:g} is not a relative humidity.",
+                         file="<command line>", column="--humidity",
+                         hint="give a percentage from 0 to 100")
+    if not -60.0 <= args.temperature <= 300.0:
+        raise InputError(f"--temperature {args.temperature:g} °C is outside -60 to 300 °C.",
+                         file="<command line>", column="--temperature",
+                         hint="give the process temperature in °C")
+    lib = load_library()
+    material = None
+    if args.material:
+        material = fit_project(load_any(args.material, library=lib), library=lib)
+    report = analyse_mixture(args.spec, library=lib, material=material,
+                             temperature_C=args.temperature, humidity=args.humidity / 100.0)
+    _emit(args, report.to_dict(), str(report))
     return 0
 
 
@@ -238,8 +328,5 @@ def cmd_app(args) -> int:
 
 
 COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
-
-
-COMMANDS = {"fit": cmd_fit, "rank": cmd_rank, "blend": cmd_blend, "share": cmd_share,
-            "replace": cmd_replace, "next": cmd_next, "app": cmd_app}
+            "replace": cmd_replace, "next": cmd_next, "app": cmd_app,
+            "estimate": cmd_estimate, "mixture": cmd_mixture}

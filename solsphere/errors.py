@@ -99,7 +99,8 @@ class UnknownSolventError(InputError):
         self.name = name
         self.suggestions = list(suggestions)[:3]
         shown = name if len(name) <= 60 else name[:60] + "…"  # never echo a page of text
-        msg = f"unknown solvent {shown!r}."
+        #: The message without the suggestions (a front end may offer them as buttons).
+        self.plain_message = msg = f"unknown solvent {shown!r}."
         if self.suggestions:
             msg += " Did you mean " + ", ".join(repr(s) for s in self.suggestions) + "?"
         where.setdefault("hint", "use a library name, CAS number or abbreviation, "

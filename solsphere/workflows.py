@@ -25,7 +25,7 @@ from typing import Any, Iterable
 import numpy as np
 
 from solsphere import hansen as hsp
-from solsphere.design.pairs import may_not_mix, screen_blends
+from solsphere.design.pairs import screen_blends
 from solsphere.design.ranking import CAUTION
 from solsphere.design.substitution import Substitution, find_substitutes
 from solsphere.design.triples import screen_triples, triple_shortlist
@@ -34,8 +34,11 @@ from solsphere.formatting import blend_label, split_names
 from solsphere.io.shelf import read_shelf
 from solsphere.library.pools import POOLS, apply_filters
 from solsphere.library.table import Library
-from solsphere.mixtures.drying import drying_path, volume_to_mole_fractions
-from solsphere.mixtures.flash import blend_flash_point, vapour_pressure
+from solsphere.mixtures.activity import ActivityModel
+from solsphere.mixtures.drying import drying_paths
+from solsphere.mixtures.flash import blend_flash_results
+from solsphere.mixtures.phases import blend_phases
+from solsphere.mixtures.vapour import VapourPressures
 from solsphere.models.base import SPREAD_WARN  # noqa: F401  (re-exported for callers)
 from solsphere.models.classic import SphereModel
 from solsphere.models.graded import GradedSphereModel
@@ -54,6 +57,14 @@ RERANK_POOL = 500
 
 
 # ----------------------------------------------------------------------------- fit
+
+def estimate_structure(smiles: str):
+    """Estimated coordinates of a shelf solvent from its SMILES (the ``structure`` of
+    :func:`solsphere.io.shelf.read_shelf`); ImportError without the structure extra."""
+    from solsphere.estimate.model import estimate_one  # deferred: loads RDKit (optional)
+
+    return estimate_one(smiles)
+
 def fit_project(project, partial: str | None = None, library=None, seed: int = 0,
                 method: str = "classic"):
     """Fit the sphere to a project's trials.
@@ -102,8 +113,8 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
         Names, CAS numbers or abbreviations to leave out.
     min_flash_point, max_boiling_point, min_boiling_point : float or None
         Limits [°C]; a solvent whose value is unknown does not pass an active limit.
-        For blends a minimum flash point on every component is the conservative rule for
-        ideal mixtures (non-ideal blends can flash lower: see :mod:`solsphere.mixtures.flash`).
+        For blends the limit applies to every component; non-ideal blends can still flash
+        lower (:mod:`solsphere.mixtures.flash`), which the blend workflow flags.
     exclude_carcinogens : bool
         Leave out solvents with any carcinogen classification.
     min_exposure_limit : float or None
@@ -153,7 +164,7 @@ def candidate_pool(library, shelf: str | None = None, exclude=(), min_flash_poin
                "min_boiling_point": min_boiling_point, "min_exposure_limit": min_exposure_limit,
                "exclude_carcinogens": exclude_carcinogens, "restricted": restricted}
     if shelf:
-        base = Library.from_records(read_shelf(shelf, library))
+        base = Library.from_records(read_shelf(shelf, library, structure=estimate_structure))
     elif ticked is not None:
         base = Library.from_records([library.lookup(n) for n in ticked])
         if len(base) < 2:
@@ -417,6 +428,17 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: 
     blends = add_safety_and_drying(screen, pool, centre, R0, drying=drying,
                                    temperature_C=pool_options.get("temperature") or 25.0,
                                    rank_by=rank_by, top=top)
+    low = limits["min_flash_point"]
+    if low is not None:  # every component passes; the blend itself may still flash lower
+        below = []
+        for b in blends:
+            est = (b.get("flash_point_estimate") or {}).get("estimate")
+            b["below_min_flash_point"] = est is not None and est < low
+            if b["below_min_flash_point"]:
+                below.append(blend_label(b["solvents"], b["volume_fractions"]))
+        if below:
+            notes.append(f"estimated to flash below the {low:g} °C limit although every "
+                         f"component passes it (non-ideal mixture): " + "; ".join(below))
     return BlendDesign(screen=screen, blends=blends, notes=notes, components=int(components),
                        rank_by=rank_by, drying=drying,
                        n_pool=len(apply_pool_filters(pool, (), limits["min_flash_point"],
@@ -425,16 +447,23 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20, rank_by: 
 
 def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
                           temperature_C: float = 25.0, rank_by: str = "red",
-                          top: int | None = None):
-    """Attach the blend flash-point estimate (and, asked for, the drying path) to each blend.
+                          top: int | None = None, humidity: float = 0.0):
+    """Attach the blend's real-mixture facts (flash point, phases, drying) to each blend.
 
-    Each blend's dict (``screen.to_dict()``) then carries ``flash_point_estimate``,
-    ``may_not_mix``, ``price_per_litre`` (Σ volume fraction × price, when every component
-    has a price) and, with ``drying``, ``drying`` (the
-    :class:`~solsphere.mixtures.drying.DryingPath` dict). ``rank_by`` re-sorts: "red" (as
-    screened), "drying" (those that stay inside longest first) or "cost" (blends inside
-    the sphere, cheapest first, those whose components may not mix after the others;
-    then the rest by RED). ``screen.blends`` is put in the same order and cut to ``top``.
+    Each blend's dict (``screen.to_dict()``) then carries ``flash_point_estimate``
+    (Liaw's model with activity coefficients, :mod:`solsphere.mixtures.flash`),
+    ``phases`` (1 or 2 liquid phases at the blend's composition and ``temperature_C``,
+    :mod:`solsphere.mixtures.phases`), ``may_not_mix`` (= two phases), ``inside`` (RED ≤ 1
+    and one phase: a blend that separates is not inside), ``price_per_litre`` (Σ volume
+    fraction × price, when the shelf gives every price) and, with ``drying``, ``drying``
+    (the :class:`~solsphere.mixtures.drying.DryingPath` dict, activity coefficients and
+    evaporative cooling at ``temperature_C`` and ``humidity``). All blends are computed
+    together (one activity model over the components used).
+    ``rank_by`` re-sorts: "red" (as screened: the order of the JSON contract; ``inside``
+    is false for a blend that separates), "drying" (one-phase blends that stay inside
+    longest first) or "cost" (blends inside the sphere,
+    cheapest first, those that separate after the others; then the rest by RED).
+    ``screen.blends`` is put in the same order and cut to ``top``.
 
     Returns
     -------
@@ -442,39 +471,64 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
         The blends as dicts, in the final order.
     """
     by_name = {s.name: s for s in pool}
+    blends = list(screen.blends)
+    comps_of = [[by_name[n] for n in b.solvents] for b in blends]
+    used = list({s.name: s for c in comps_of for s in c}.values())
+    pos = {s.name: i for i, s in enumerate(used)}
+    K = max((len(c) for c in comps_of), default=1)
+    n = len(blends)
+    idx = np.zeros((n, K), dtype=int)
+    phi = np.zeros((n, K))
+    for r, (b, c) in enumerate(zip(blends, comps_of)):
+        idx[r, :len(c)] = [pos[s.name] for s in c]
+        phi[r, :len(c)] = b.volume_fractions
+    vm = np.array([s.molar_volume or np.nan for s in used], dtype=float)
+    has_vm = np.all(np.isfinite(vm[idx]) | (phi == 0), axis=1) if n else np.zeros(0, bool)
+    flash = [None] * n
+    phases = np.ones(n, dtype=int)
+    phase_method = [None] * n
+    paths = [None] * n
+    if has_vm.any():
+        model, vapour = ActivityModel(used), VapourPressures(used)
+        rows = np.flatnonzero(has_vm)
+        ii, ph = idx[rows], phi[rows]
+        x = ph / np.where(np.isfinite(vm[ii]), vm[ii], 1.0)
+        x = x / x.sum(axis=1, keepdims=True)
+        p, m, split = blend_phases(model, ii, x, temperature_C, compositions=True)
+        for r, f in zip(rows, blend_flash_results(model, vapour, ii, x, split=split)):
+            flash[r] = f
+        phases[rows] = p
+        for r, label in zip(rows, m):
+            phase_method[r] = label
+        if drying:
+            for r, path in zip(rows, drying_paths(model, vapour, ii, ph, centre, R0,
+                                                  T_C=temperature_C, humidity=humidity)):
+                paths[r] = path
     out = []
-    for b in screen.blends:
+    for r, b in enumerate(blends):
         d = b.to_dict()
-        comps = [by_name[n] for n in b.solvents]
-        vm = [s.molar_volume for s in comps]
-        vp = [s.vapour_pressure for s in comps]
-        bp = [s.boiling_point for s in comps]
-        fp = [s.flash_point for s in comps]
-        x = (volume_to_mole_fractions(b.volume_fractions, vm).tolist()
-             if all(v is not None for v in vm) else None)
-        d["flash_point_estimate"] = (blend_flash_point(x, fp, vp, bp, names=b.solvents)
-                                     if x is not None else None)
-        d["may_not_mix"] = may_not_mix(comps)
+        comps = comps_of[r]
+        d["flash_point_estimate"] = flash[r]
+        d["phases"] = int(phases[r])
+        d["phase_method"] = phase_method[r]
+        d["may_not_mix"] = bool(phases[r] == 2)
+        d["inside"] = bool(d["red"] <= 1.0 and phases[r] == 1)
         prices = [s.price for s in comps]
         d["price_per_litre"] = (float(sum(f * p for f, p in zip(b.volume_fractions, prices)))
                                 if all(p is not None for p in prices) else None)
         if drying:
-            if all(v is not None for v in vm + vp + bp):
-                vpt = [float(vapour_pressure(temperature_C, p, t)[0]) if temperature_C != 25.0
-                       else p for p, t in zip(vp, bp)]
-                path = drying_path([s.point for s in comps], b.volume_fractions, vm, vpt,
-                                   centre, R0, names=b.solvents)
-                d["drying"] = path.to_dict()
-                d["drying_inside_until"] = path.inside_until
-            else:
-                d["drying"] = None
-                d["drying_inside_until"] = None
+            path = paths[r]
+            d["drying"] = path.to_dict() if path is not None else None
+            d["drying_inside_until"] = path.inside_until if path is not None else None
         out.append((b, d))
-    if rank_by == "drying":
+    if rank_by == "red":  # the JSON contract keeps RED order; ``inside`` says who separates
+        pass
+    elif rank_by == "drying":
         if not drying:
             raise InputError("ranking by drying needs the drying simulation.", setting="drying")
-        out.sort(key=lambda bd: -(bd[1]["drying_inside_until"]
-                                  if bd[1]["drying_inside_until"] is not None else -1.0))
+        out.sort(key=lambda bd: (bd[1]["phases"] == 2,
+                                 -(bd[1]["drying_inside_until"]
+                                   if bd[1]["drying_inside_until"] is not None else -1.0)))
     elif rank_by == "cost":
         if not any(d["price_per_litre"] is not None for _, d in out):
             raise InputError("ranking by cost needs prices, and no blend has one (a shelf "
@@ -482,7 +536,7 @@ def add_safety_and_drying(screen, pool, centre, R0: float, drying: bool = False,
         out.sort(key=lambda bd: (bd[1]["red"] > 1.0, bd[1]["may_not_mix"],
                                  bd[1]["price_per_litre"] is None,
                                  bd[1]["price_per_litre"] or 0.0, bd[1]["red"]))
-    elif rank_by != "red":
+    else:
         raise ValueError(f"rank_by must be 'red', 'drying' or 'cost'; found {rank_by!r}")
     out = out[:top] if top is not None else out
     screen.blends = [b for b, _ in out]
@@ -499,8 +553,15 @@ def blend_notes(blends: list[dict], drying: bool) -> str:
         fpe = b.get("flash_point_estimate") or {}
         if fpe.get("estimate") is not None:
             low = fpe.get("conservative")
-            parts.append(f"flash point ≈ {fpe['estimate']:.0f} °C (ideal-mixture estimate"
+            parts.append(f"flash point ≈ {fpe['estimate']:.0f} °C (Liaw's model, activity "
+                         f"coefficients, {fpe.get('safety_margin', 0):g} °C margin"
                          + (f"; lowest component {low:.0f} °C)" if low is not None else ")"))
+            if fpe.get("minimum_flash_point"):
+                parts.append("BELOW its lowest-flashing component (minimum-flash-point "
+                             "behaviour)")
+        if b.get("phases") == 2:
+            parts.append("SEPARATES into two liquid phases at this ratio"
+                         + (f" ({b['phase_method']})" if b.get("phase_method") else ""))
         if drying:
             d = b.get("drying")
             if d is None:

@@ -31,7 +31,9 @@ LAYERS = (
 # Function-level imports are allowed only to defer a heavy optional dependency.
 DEFERRABLE = ("plotly", "dash", "dash_ag_grid", "scipy.stats", "rdkit", "thermo", "gunicorn",
               "pandas", "sklearn", "kaleido", "openpyxl", "python_calamine", "odf", "emcee",
-              "diskcache", "solsphere.app", "solsphere.commands", "solsphere.report.share")
+              "diskcache", "solsphere.app", "solsphere.commands", "solsphere.report.share",
+              "solsphere.estimate", "chemicals")
+# (solsphere.estimate loads RDKit and chemicals its identifier database: optional extras)
 
 
 def _module_name(path: Path) -> str:
@@ -193,3 +195,11 @@ def test_the_checks_can_fail(tmp_path):
     assert isinstance(node, ast.ImportFrom)
     assert [a.name for a in node.names if a.name.startswith("_")] == ["_sniff"]
     assert _layer("solsphere.cli") > _layer("solsphere.hansen")
+
+
+def test_the_wheel_installs_only_the_solsphere_package():
+    import tomllib
+
+    cfg = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]
+    assert all(p == "solsphere" or p.startswith("solsphere.") for p in cfg["packages"])
+    assert cfg["package-dir"]["solsphere.app"] == "app"  # the app folder stays at the top

@@ -56,6 +56,11 @@ ALLOWED = {
         "DataFrame.to_csv() without a path returns the text; no file is written",
     ("data/build_solvents.py", "main"):
         "developer script that regenerates the packaged solvents.csv (never a user's file)",
+    ("data/build_mixtures.py", "main"):
+        "developer script that regenerates the packaged mixture_data.csv (never a user's file)",
+    ("data/build_structure_model.py", "main"):
+        "developer script that regenerates the packaged structure_model.zip (never a "
+        "user's file)",
 }
 
 

@@ -80,6 +80,10 @@ def test_fit_and_rank_with_posterior_samples(capsys):
     assert post["n_samples"] == 300 and post["fit_method"] == "posterior"
     assert set(post["intervals"]) == {"dD", "dP", "dH", "R0", "width"}
     assert post["intervals"] == b["posterior"]["intervals"]  # seeded
+    # converged by default: at least 1,000 effective samples, tau reported
+    assert post["effective_samples"] >= 1000 and post["converged"] is True
+    assert post["autocorr_time"] == max(post["autocorr_times"].values()) > 0
+    assert post["bounds"] == [[12.0, 25.0], [0.0, 30.0], [0.0, 45.0]]  # the wide prior
     d = run_json(capsys, "rank", DEMO, "--posterior", "300", "--top", "5", "--pool", "common")
     ps = [s["p_good"] for s in d["solvents"]]
     assert all(p is not None and 0.0 <= p <= 1.0 for p in ps)
@@ -94,3 +98,13 @@ def test_next_reports_its_engine(capsys):
     assert d["filters"]["pool"] == "common solvents"
     e = run_json(capsys, "next", DEMO, "--n", "2", "--bootstrap", "40")
     assert e["uncertainty"] == "bootstrap" and e["n_samples"] == 40
+
+
+def test_fit_compare_reports_a_recommendation(capsys):
+    d = run_json(capsys, "fit", DEMO, "--compare", "--no-influence")
+    cmp = d["model_comparison"]
+    assert cmp["rows"][0]["label"].startswith("classic") and cmp["n_scored"] > 20
+    assert sum(r["recommended"] for r in cmp["rows"]) == 1
+    assert cmp["recommendation"] in {r["label"] for r in cmp["rows"]}
+    assert main(["fit", DEMO, "--compare", "--no-influence"]) == 0
+    assert "[[Which model?]]" in capsys.readouterr().out

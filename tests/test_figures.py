@@ -112,7 +112,7 @@ def test_blends_segments_and_points(fig3):
            and t.marker.symbol == "circle-open" and BLEND in (t.marker.color, t.marker.line.color)]
     assert len(pts) == 1 and list(pts[0].x) == [17.34]
     h = pts[0].hovertext[0]
-    assert "toluene 70%" in h and "ethanol 30%" in h and "RED 0.55" in h
+    assert "70% toluene" in h and "30% ethanol" in h and "RED 0.55" in h
 
 
 def test_misfits_are_ringed(fig3):

@@ -12,7 +12,10 @@ from solsphere.errors import FitError
 from solsphere.models.graded import graded_nll
 from solsphere.hansen import ra
 from solsphere.uncertainty.nexttrials import suggest_next
-from solsphere.uncertainty.posterior import _stretch_sampler, log_posterior, sample_posterior
+from emcee.autocorr import integrated_time
+
+from solsphere.uncertainty.posterior import (PRIOR_BOX, _de_steps, autocorr_time, log_posterior,
+                                             sample_posterior)
 
 from test_confidence import synthetic
 
@@ -38,11 +41,11 @@ def test_log_posterior_is_minus_the_graded_likelihood():
     assert np.all(np.isneginf(log_posterior(T, X, g, lo, hi2)))
 
 
-def test_stretch_sampler_recovers_a_known_gaussian():
+def test_de_sampler_recovers_a_known_gaussian():
     # The sampler on a target with known moments: a correlated 2-D normal distribution
     # (mean (1, -2), sd 1 and 3, correlation 0.8; mean and covariance are exact facts of
-    # the distribution). Affine invariance is the point of the method, so the strong
-    # correlation and the unequal scales should not matter.
+    # the distribution). Differential evolution adapts to the correlation and the unequal
+    # scales through the walkers' differences.
     mean = np.array([1.0, -2.0])
     cov = np.array([[1.0, 0.8 * 3.0], [0.8 * 3.0, 9.0]])
     icov = np.linalg.inv(cov)
@@ -52,11 +55,29 @@ def test_stretch_sampler_recovers_a_known_gaussian():
         return -0.5 * np.einsum("ki,ij,kj->k", d, icov, d)
 
     rng = np.random.default_rng(5)
-    start = rng.normal(0, 0.1, (40, 2))
-    S, acc = _stretch_sampler(logp, start, 3000, 5, 500, rng)
-    assert 0.3 < acc < 0.9
+    T = rng.normal(0, 0.1, (40, 2))
+    S, acc = _de_steps(logp, T, logp(T), 3000, rng)
+    assert 0.15 < acc / (3000 * 40) < 0.9
+    S = S[500:].reshape(-1, 2)
     np.testing.assert_allclose(S.mean(axis=0), mean, atol=0.15)
     np.testing.assert_allclose(np.cov(S.T), cov, rtol=0.12, atol=0.08)
+
+
+def test_autocorr_time_is_emcees_and_knows_an_ar1_chain():
+    # An AR(1) chain x_t = phi x_(t-1) + e_t has the exact integrated autocorrelation time
+    # (1 + phi) / (1 - phi) (a textbook fact of the AR(1) process, from memory): 9 for
+    # phi = 0.8. Our wrapper must give emcee's estimate, close to 9.
+    rng = np.random.default_rng(3)
+    phi, n, k = 0.8, 20000, 8
+    x = np.zeros((n, k, 1))
+    e = rng.normal(size=(n, k))
+    for t in range(1, n):
+        x[t, :, 0] = phi * x[t - 1, :, 0] + e[t]
+    tau = autocorr_time(x)
+    np.testing.assert_allclose(tau, integrated_time(x, c=5, tol=0, quiet=True))
+    assert 8.0 < tau[0] < 10.0
+    # A parameter that never moves: the chain length, not NaN.
+    assert autocorr_time(np.ones((50, 4, 1)))[0] == 50.0
 
 
 def test_samples_are_reproducible_and_describe_the_panel():
@@ -71,13 +92,21 @@ def test_samples_are_reproducible_and_describe_the_panel():
     for k in (*KEYS, "width"):
         lo, hi = a.intervals[k]
         assert lo <= hi
-    # Every sample lies in the search box (the flat prior's support).
+    # Every sample lies in the prior's box, the physically wide one by default.
     box = np.array(a.bounds)
+    np.testing.assert_array_equal(box, PRIOR_BOX)
     assert np.all((a.centres >= box[:, 0]) & (a.centres <= box[:, 1]))
-    # p_good: a share; the fitted centre itself is inside most samples (3 goods only),
-    # a far corner of Hansen space in none.
-    p = a.p_good(np.vstack([a.centre, [40.0, 40.0, 40.0]]))
-    assert p[0] > 0.8 and p[1] == 0.0
+    # Converged: the requested effective samples, a chain of 50 autocorrelation times.
+    assert a.converged and a.effective_samples >= 1000
+    assert a.n_steps - a.burn >= 50 * a.autocorr_time
+    # p_good: the predictive probability; high at the fitted centre, ~0 far away, and
+    # the mean of sigma((R0 - Ra) / w) over the samples (an independent loop).
+    pts = np.vstack([a.centre, [40.0, 40.0, 40.0], X[:3]])
+    p = a.p_good(pts)
+    assert p[0] > 0.8 and p[1] < 1e-6
+    want = [np.mean([0.5 * (1 + np.tanh((R - ra(q, c)[0]) / (2 * w)))
+                     for c, R, w in zip(a.centres, a.radii, a.widths)]) for q in pts]
+    np.testing.assert_allclose(p, want, rtol=1e-9, atol=1e-12)
     # Plain JSON, with or without the samples; text report.
     json.dumps(a.to_dict(samples=True))
     assert "centres" not in a.to_dict()

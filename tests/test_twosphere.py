@@ -71,3 +71,27 @@ def test_one_region_is_not_split():
     assert ra([res.dD, res.dP, res.dH], A)[0] < 2.0
     forced = fit_two_spheres(X, g, seed=0, force=2)
     assert forced.n_spheres == 2 and any("as asked" in w for w in forced.warnings)
+
+
+def test_cross_validation_folds_see_no_held_back_result(monkeypatch):
+    # Every fit inside a fold gets the training rows only, the training box, and no start
+    # from the full-data split (which was fitted with the held-back results).
+    from solsphere.models import twosphere
+
+    X, g = panel(2)
+    calls = []
+    real = twosphere._two_sphere
+
+    def spy(Xf, gf, wf, box, seed=0, quick=True, one=None, starts=None):
+        calls.append((len(Xf), np.array(box), starts))
+        return real(Xf, gf, wf, box, seed, quick, one, starts)
+
+    monkeypatch.setattr(twosphere, "_two_sphere", spy)
+    fit_two_spheres(X, g, seed=0)
+    full, folds = calls[0], calls[1:]
+    assert full[0] == len(X) and len(folds) == 5
+    for n, box, starts in folds:
+        assert n < len(X)
+        assert starts is None
+    # the boxes differ from the full panel's (they span the training solvents only)
+    assert any(not np.allclose(box, full[1]) for _, box, _ in folds)

@@ -63,6 +63,7 @@ from solsphere.formatting import blend_label, float_or_none, format_table, num, 
 from solsphere.hansen import SCALE, flory_huggins_chi, mix, ra
 from solsphere.library.pools import apply_filters
 from solsphere.library.table import Solvent, hazard_flags
+from solsphere.mixtures.phases import pair_split, volume_gap
 from solsphere.results import Result
 
 __all__ = ["pair_screen", "best_fraction", "inside_window", "mass_fractions",
@@ -361,34 +362,49 @@ def mixing_chi(a: Solvent, b: Solvent, T_C: float = 25.0):
 
 
 def miscibility_warning(a: Solvent, b: Solvent) -> str | None:
-    """A caution when two components may not form one liquid phase.
+    """A caution when two components do not form one liquid phase at every ratio.
 
     The volume-fraction mixing rule assumes a single miscible phase; a blend of
-    immiscible liquids separates, whatever its average parameters say. Checked: water
-    with a solvent of log P > :data:`WATER_LOG_P` (for water only this one: its Hansen
-    distance to every organic solvent is large, miscible or not); other pairs by the
-    Flory–Huggins estimate :func:`mixing_chi`, or, without molar volumes, by a distance
+    immiscible liquids separates, whatever its average parameters say. The pair is
+    tested over its whole composition range at 25 °C by the liquid–liquid phase test of
+    :func:`solsphere.mixtures.phases.pair_split` (UNIFAC activity coefficients; published
+    mutual solubilities for water with common solvents; the Flory–Huggins /
+    regular-solution estimate, labelled, where no UNIFAC groups exist). Only when no
+    activity model applies at all (no groups and no molar volumes) the older rules of
+    thumb remain: water with a solvent of log P > :data:`WATER_LOG_P`, or a distance
     over :data:`MISCIBILITY_RA` MPa½.
     """
+    split = pair_split(a, b)
+    if not split.method.startswith("ideal"):
+        if not split.splits:
+            return None
+        gap = volume_gap(split, a, b)
+        where = (f" between {_share(gap[0])} and {_share(gap[1])} vol % {a.name}"
+                 if gap else "")
+        return (f"{a.name} and {b.name} may not mix: two liquid phases{where} "
+                f"({split.method}); check that the blend is one clear phase")
     for w, o in ((a, b), (b, a)):
         if w.cas == _WATER_CAS:  # water sits far from everything; only log P tells
             if o.log_p is not None and o.log_p > WATER_LOG_P:
-                return (f"{o.name} and water may not mix (log P {o.log_p:.1f}): check that "
-                        f"the blend is one clear phase")
+                return (f"{o.name} and water may not mix (log P {o.log_p:.1f}, a rule of "
+                        f"thumb: no activity model applies): check that the blend is one "
+                        f"clear phase")
             return None
-    est = mixing_chi(a, b)
-    if est is not None:
-        chi, chi_c = est
-        if chi > chi_c:
-            return (f"{a.name} and {b.name} may not mix (Flory–Huggins estimate χ = "
-                    f"{chi:.1f} above the critical {chi_c:.1f}): check that the blend is one "
-                    f"clear phase")
-        return None
     d = float(ra(np.array([a.point]), b.point)[0])
     if d > MISCIBILITY_RA:
         return (f"{a.name} and {b.name} are {d:.0f} MPa½ apart and may not mix: check that "
                 f"the blend is one clear phase")
     return None
+
+
+def _share(f: float) -> str:
+    """A volume fraction as a percentage that keeps small and near-100 % values apart."""
+    p = 100.0 * f
+    if p < 1.0:
+        return f"{p:.2g}"
+    if p > 99.0:
+        return f"{p:.2f}".rstrip("0").rstrip(".")
+    return f"{p:.0f}"
 
 
 def may_not_mix(solvents: Sequence[Solvent]) -> bool:

@@ -14,6 +14,10 @@ column             meaning
 ``density``        g/cm³ at 25 °C
 ``vapour_pressure``  kPa at 25 °C
 ``twa_ppm``        8-hour exposure limit, ppm
+``smiles``         structure of a solvent the library lacks, when no dD, dP, dH are
+                   given: its coordinates are estimated from it (needs the extra
+                   ``solsphere[structure]``; ``sources`` records the estimate and its
+                   95 % half-widths)
 ``note``           free text, ignored
 =================  ==============================================
 
@@ -48,7 +52,8 @@ _ALIASES = {"solvent": "solvent", "solvents": "solvent", "name": "solvent",
             "price": "price", "priceperlitre": "price", "priceperliter": "price", "cost": "price",
             "flashpoint": "flash_point", "boilingpoint": "boiling_point", "bp": "boiling_point",
             "density": "density", "vapourpressure": "vapour_pressure",
-            "vaporpressure": "vapour_pressure", "twa": "twa_ppm", "twappm": "twa_ppm"}
+            "vaporpressure": "vapour_pressure", "twa": "twa_ppm", "twappm": "twa_ppm",
+            "smiles": "smiles", "structure": "smiles"}
 
 
 def _drop_brackets(text: str) -> str:
@@ -96,7 +101,7 @@ def _split_rows(lines: list[tuple[int, str]], sep: str, file: str) -> list[tuple
         out.append((lines[start][0], row))
 
 
-def read_shelf(path, library) -> list:
+def read_shelf(path, library, *, structure=None) -> list:
     """Read a shelf file into a list of :class:`~solsphere.library.Solvent`.
 
     Parameters
@@ -105,6 +110,10 @@ def read_shelf(path, library) -> list:
         The shelf file; messages name it as given.
     library : Library
         Resolves names (and gives the properties not in the file).
+    structure : callable or None, default=None
+        ``structure(smiles)`` -> an estimate (:func:`solsphere.estimate.estimate_one`)
+        for rows that give a ``smiles`` but no coordinates and name no library solvent;
+        None: such rows are an error saying what to install or fill in.
 
     Returns
     -------
@@ -166,6 +175,10 @@ def read_shelf(path, library) -> list:
                              line=line, column=next(c for c in COORDINATES if c not in coords),
                              hint="fill in the missing ones or clear them all")
         point = tuple(coords[c] for c in COORDINATES) if coords else None
+        estimated = None
+        if point is None and cells.get("smiles") and library.find(name) is None:
+            estimated = _estimate_row(structure, cells["smiles"], file, line)
+            point = estimated.point
         label, p, source, _, cas, sol = resolve_solvent(name, point, ctx, line, None)
         props = {}
         for col, (fld, lo, hi) in PROPERTY_COLUMNS.items():
@@ -184,6 +197,8 @@ def read_shelf(path, library) -> list:
         if sol is None:
             sol = Solvent(name=label, dD=p[0], dP=p[1], dH=p[2], liquid=True)
         sol = dataclasses.replace(sol, dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), **props)
+        if estimated is not None:
+            sol = dataclasses.replace(sol, sources=_estimate_sources(estimated))
         ident = sol.cas or sol.name.casefold()
         if ident in seen:
             continue
@@ -193,3 +208,37 @@ def read_shelf(path, library) -> list:
         raise InputError("the shelf lists no usable solvent.", file=file, line=header_line + 1,
                          hint="add one solvent per line under the 'solvent' header")
     return out
+
+
+def _estimate_row(structure, smiles: str, file: str, line: int):
+    """The structure estimate of a shelf row (InputError naming the cell when there is no
+    estimator, the SMILES is unreadable or outside the model's domain)."""
+    if structure is None:
+        raise InputError("a smiles column needs estimates from structure.", file=file,
+                         line=line, column="smiles",
+                         hint="pip install 'solsphere[structure]', or give dD, dP, dH")
+    try:
+        est = structure(smiles)
+    except ImportError:
+        raise InputError("a smiles column needs the structure extra (RDKit).", file=file,
+                         line=line, column="smiles",
+                         hint="pip install 'solsphere[structure]', or give dD, dP, dH") from None
+    except InputError:
+        raise InputError(f"{smiles[:60]!r} is not a SMILES that RDKit can read.", file=file,
+                         line=line, column="smiles",
+                         hint="check the SMILES, or give dD, dP, dH instead") from None
+    if est.refused:
+        raise InputError(f"no estimate from this structure: {est.refused}.", file=file,
+                         line=line, column="smiles", hint="give dD, dP, dH instead")
+    return est
+
+
+def _estimate_sources(est) -> dict:
+    """``sources`` of a solvent whose coordinates were estimated from its structure."""
+    src = {k: f"estimated from structure ± {u:.1f} (95 %)"
+           for k, u in zip(("dD", "dP", "dH"), est.u95)}
+    src["u95"] = " / ".join(f"{u:.1f}" for u in est.u95)
+    src["smiles"] = est.smiles
+    if not est.in_domain:
+        src["estimate_notes"] = "; ".join(est.notes)
+    return src

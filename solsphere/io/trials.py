@@ -60,7 +60,8 @@ from solsphere.limits import check as check_limit, clip, current as current_limi
 
 __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
-           "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates"]
+           "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates",
+           "parse_blend_spec"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
@@ -1059,6 +1060,66 @@ def resolve_solvent(text: str, point, ctx: ReadContext, line: int, stored):
         return text, stored, "own", (), None, None
     raise UnknownSolventError(text, ctx.suggestions(text), file=ctx.file, line=line,
                               column="solvent")
+
+
+def parse_blend_spec(text: str, library: LibraryLike | None = None, *,
+                     source: str = "<command line>", column: str | None = "SPEC",
+                     strict: bool = True) -> list[tuple[Any, float]]:
+    """Components and volume fractions of a blend written as in a bench file.
+
+    ``"ethanol 10 + water 90"`` (volume parts, any number of components; a part may carry
+    ``%``); a single solvent name is a blend of one.
+
+    Parameters
+    ----------
+    text : str
+    library : Library, optional
+        Defaults to the packaged library.
+    source, column : str
+        Where the text came from, for error messages.
+    strict : bool, default=True
+        Parts given in % must add up to 100 (otherwise only a warning in bench files).
+
+    Returns
+    -------
+    list of (Solvent, float)
+        Library records and volume fractions summing to 1.
+
+    Raises
+    ------
+    InputError
+        Unknown names (with suggestions), missing, zero or negative parts, a solvent
+        given twice, % parts that do not add up to 100.
+
+    Examples
+    --------
+    >>> [(s.name, round(f, 2)) for s, f in parse_blend_spec("ethanol 10 + water 90")]
+    [('ethanol', 0.1), ('water', 0.9)]
+    """
+    lib = _get_library(library)
+    text = " ".join(str(text).split())
+    if not text:
+        raise InputError("the blend is empty.", file=source, column=column,
+                         hint="write e.g. 'ethanol 10 + water 90'")
+    alone = lib.find(text)
+    if alone is not None:
+        return [(alone, 1.0)]
+    ctx = ReadContext(file=source, library=lib, decimal_comma=False, unit="line")
+    try:
+        _, _, components = _parse_blend(text, ctx, None)
+    except InputError as exc:
+        exc.column = column
+        if isinstance(exc, UnknownSolventError):
+            exc.hint = ("every component must be a library solvent: a name, CAS number or "
+                        "abbreviation")
+        exc.args = (str(exc),)
+        raise
+    if strict and ctx.warnings:
+        raise InputError(f"the parts of {text!r} are given in % but do not add up to 100.",
+                         file=source, column=column,
+                         hint="make the % parts add up to 100, or drop the % signs to "
+                              "give volume parts")
+    return [(lib.lookup(name), float(f)) for name, f in components]
 
 
 def _split_plus(text: str) -> list[str]:

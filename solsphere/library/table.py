@@ -508,4 +508,7 @@ def hazard_flags(solvent: Solvent) -> list[str]:
         flags.append(f"carcinogen: {solvent.carcinogen}")
     if solvent.spread is not None and solvent.spread > SPREAD_FLAG_MPA:
         flags.append(f"compilations disagree by {short(solvent.spread)} MPa½")
+    if str(solvent.sources.get("dD", "")).startswith("estimated from structure"):
+        flags.append(f"dD, dP, dH estimated from structure, not measured (95 %: ± "
+                     f"{solvent.sources.get('u95', '?')} MPa½)")
     return flags

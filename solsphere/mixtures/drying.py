@@ -1,5 +1,33 @@
 r"""Drying path of a solvent blend: how the remaining liquid moves in Hansen space.
 
+Real-mixture model (:func:`drying_paths`, :func:`mixture_drying_path`)
+--------------------------------------------------------------------
+Each component leaves the film at the molar rate
+
+.. math:: J_i = k_i\,\frac{x_i\gamma_i P_i(T_s) - p_{i,\infty}}{RT}, \qquad
+          k_i \propto D_{i,\mathrm{air}}^{2/3}
+
+(gas-side mass transfer with the Chilton–Colburn analogy [3]_; activity coefficients
+from :mod:`solsphere.mixtures.activity`; :math:`p_{\infty}` is the water in the air,
+``humidity`` × its vapour pressure, zero for the other solvents). The gas diffusivities
+scale as in kinetic theory, :math:`D \propto \sqrt{1/M + 1/M_\mathrm{air}}/(V^{1/3} +
+V_\mathrm{air}^{1/3})^2` with the liquid molar volume as the size measure (an
+approximation of Fuller's diffusion volumes). The film is cooled by evaporation: its
+temperature :math:`T_s` balances the latent heat against heat from the air and the
+substrate, :math:`\beta c_{p,\mathrm{air}}(T - T_s) = \sum_i (k_i/k_\mathrm{ref})
+(x_i\gamma_iP_i(T_s) - p_{i,\infty})/P\,\Delta H_i(T_s)` (a psychrometric balance
+with :math:`\Delta H_i` from the vapour-pressure curve). The single heat-supply factor
+:data:`HEAT_SUPPLY_FACTOR` (β = 5) was chosen against published relative evaporation
+rates (butyl acetate = 1): pure solvents then come out within about 15 % of the rates
+in ``tests/test_reference_mixtures.py`` (acetone 5.3 against 5.6), where one shared
+mass-transfer constant at the air temperature gives acetone 14. The path is integrated
+in steps of the evaporated volume (second-order Runge–Kutta), for many blends at once.
+Limits: a well-mixed film, no skin, no dissolved material, the sphere fixed; the phase
+split of a blend during drying is not followed.
+
+Ideal-solution model (:func:`drying_path`, kept)
+-----------------------------------------------
+
 As a blend evaporates, the more volatile components leave first and the remaining
 liquid's composition, and with it its δD, δP, δH, drifts. If it drifts out of the
 material's sphere before the film is dry, the material can come out of solution.
@@ -40,6 +68,8 @@ References
    *Comptes rendus* 104 (1887) 1430–1433 (bibliographic details from memory).
 .. [2] Lord Rayleigh, "On the distillation of binary mixtures", *Philosophical
    Magazine*, Series 6, 4 (1902) 521–537 (bibliographic details from memory).
+.. [3] T. H. Chilton, A. P. Colburn, "Mass transfer (absorption) coefficients",
+   *Ind. Eng. Chem.* 26 (1934) 1183–1187 (details from memory).
 """
 
 from __future__ import annotations
@@ -52,10 +82,14 @@ import numpy as np
 from scipy.optimize import brentq
 
 from solsphere.hansen import as_points, mix, red
+from solsphere.library.table import load_library
+from solsphere.mixtures.activity import METHODS, ActivityModel
+from solsphere.mixtures.vapour import VapourPressures
 from solsphere.results import Result
 
 __all__ = ["DryingPath", "drying_path", "volume_to_mole_fractions",
-           "mole_to_volume_fractions"]
+           "mole_to_volume_fractions", "drying_paths", "mixture_drying_path",
+           "relative_evaporation_rates", "HEAT_SUPPLY_FACTOR"]
 
 #: Number of evenly spaced evaporated fractions scanned for the first exit (plus a
 #: logarithmic grid close to dryness). An excursion out of the sphere and back that is
@@ -151,9 +185,10 @@ class DryingPath(Result):
     centre: np.ndarray
     R0: float
     notes: list[str] = field(default_factory=list)
-
-    method = ("isothermal evaporation of an ideal solution (Raoult's law), "
-              "closed form n_i = n_i0 s^(P_i/P_r)")
+    method: str = ("isothermal evaporation of an ideal solution (Raoult's law), "
+                   "closed form n_i = n_i0 s^(P_i/P_r)")
+    title: str = "ideal solution, Raoult's law, isothermal"
+    film_temperature: np.ndarray | None = None
 
     @property
     def stays_inside(self) -> bool:
@@ -184,8 +219,8 @@ class DryingPath(Result):
         return {
             "method": self.method,
             "names": list(self.names),
-            "centre": floats(self.centre),
-            "R0": float(self.R0),
+            "centre": None if self.centre is None else floats(self.centre),
+            "R0": None if self.R0 is None else float(self.R0),
             "fractions_evaporated": floats(self.fractions_evaporated),
             "compositions": [floats(row) for row in self.compositions],
             "mole_fractions": [floats(row) for row in self.mole_fractions],
@@ -200,10 +235,13 @@ class DryingPath(Result):
                                else self.names[self.last_component]),
             "last_component_index": self.last_component,
             "residue": floats(self.residue),
-            "red_at_end": float(self.red_at_end),
+            "red_at_end": (float(self.red_at_end) if math.isfinite(self.red_at_end)
+                           else None),
             "exit_composition": (None if self.exit_composition is None
                                  else floats(self.exit_composition)),
             "max_fraction_evaporated": float(self.max_fraction_evaporated),
+            "film_temperature": (None if self.film_temperature is None
+                                 else floats(self.film_temperature)),
             "notes": list(self.notes),
         }
 
@@ -212,7 +250,20 @@ class DryingPath(Result):
         return ", ".join(parts) if parts else "(nothing)"
 
     def __str__(self) -> str:
-        lines = ["Drying path (ideal solution, Raoult's law, isothermal)"]
+        lines = [f"Drying path ({self.title})"]
+        if self.centre is None:  # no material: the path of the liquid only
+            for f in (0.0, 0.25, 0.5, 0.75, 0.9):
+                j = int(np.argmin(np.abs(self.fractions_evaporated - f)))
+                t = ("" if self.film_temperature is None else
+                     f" (film {self.film_temperature[j]:.0f} °C)")
+                lines.append(f"  {100 * self.fractions_evaporated[j]:3.0f} % evaporated: "
+                             f"{self._describe(self.compositions[j])}{t}")
+            lines.append(f"  residue: {self._describe(self.residue)}")
+            if self.last_component is not None:
+                lines.append(f"  last to evaporate: {self.names[self.last_component]}")
+            lines += [f"  note: {n}" for n in self.notes]
+            lines.append("  A model for comparing blends, not a guarantee: confirm at the bench.")
+            return "\n".join(lines)
         state = "inside" if self.starts_inside else "OUTSIDE"
         lines.append(f"  start:  RED {self.red[0]:.2f} ({state}); "
                      f"{self._describe(self.compositions[0])}")
@@ -460,3 +511,298 @@ def drying_path(points, volume_fractions, molar_volumes, vapour_pressures, centr
         starts_inside=starts_inside, last_component=last, residue=residue,
         red_at_end=red_end, exit_composition=exit_phi, max_fraction_evaporated=f_max,
         names=names, centre=centre, R0=R0, notes=notes)
+
+
+# ------------------------------------------------------------ real mixtures, many blends
+
+#: Heat reaching an evaporating film from air, substrate and surroundings, as a multiple
+#: of the convective heat transfer by the Chilton–Colburn analogy. Chosen (scanning 1-8)
+#: so pure-solvent evaporation rates match published relative evaporation rates (butyl
+#: acetate = 1; tests/test_reference_mixtures.py): our fit, one number.
+HEAT_SUPPLY_FACTOR = 5.0
+CP_AIR = 29.1  # J/(mol K), molar heat capacity of air near 25 °C (from memory)
+M_AIR = 28.96  # g/mol
+V_AIR = 20.1  # Fuller diffusion volume of air (from memory), used as its size measure
+R_GAS = 8.314462618
+P_TOTAL = 101.325  # kPa
+BUTYL_ACETATE = (116.16, 132.5)  # M [g/mol], liquid molar volume [cm³/mol], from memory
+REAL_METHOD = ("evaporation with activity coefficients ({model}); gas-side mass transfer "
+               "k ∝ D^(2/3); film temperature from a heat balance (evaporative cooling, "
+               "heat-supply factor {beta:g}); air at {T:g} °C, relative humidity {rh:g} %")
+
+
+def _diffusivity(mw, vm):
+    """Relative gas diffusivity in air (kinetic-theory scaling)."""
+    return np.sqrt(1.0 / mw + 1.0 / M_AIR) / (np.cbrt(vm) + np.cbrt(V_AIR)) ** 2
+
+
+def _k_rel(mw, vm):
+    """Mass-transfer coefficient relative to butyl acetate's: (D / D_BuAc)^(2/3)."""
+    return (_diffusivity(mw, vm) / _diffusivity(*BUTYL_ACETATE)) ** (2.0 / 3.0)
+
+
+def _film_temperature(k, xg, coef, scale, p_inf, T_air, beta, T0=None, iters: int = 30):
+    """Film temperature [K] per row from the heat balance (safeguarded Newton).
+
+    k, xg (= x γ), coef (..., 4) ln P fit, scale, p_inf [kPa]: arrays of shape (n, K).
+    ``T0`` (n,) is a starting guess (the previous step's film temperature).
+    """
+    A, B, C, D = (coef[..., i] for i in range(4))
+    xg = np.nan_to_num(xg)
+    # a film cools by far less than 80 K (acetone in dry air, no heat from the substrate:
+    # about 45 K); the bound also keeps the correlations away from wild extrapolation
+    lo = T_air - 80.0
+    hi = T_air + 30.0
+    Ts = np.clip(T_air - 5.0 if T0 is None else T0, lo, hi)
+    for _ in range(iters):
+        t = Ts[:, None]
+        with np.errstate(over="ignore", invalid="ignore"):
+            p = np.nan_to_num(np.exp(A + B / t + C * np.log(t) + D * t ** 2) / 1000.0 * scale)
+        dH = R_GAS * (-B + C * t + 2.0 * D * t ** 3)
+        drive = k * (xg * p - p_inf) / P_TOTAL
+        f = beta * CP_AIR * (T_air - Ts) - (drive * dH).sum(axis=1)
+        # d/dTs: dP/dT = P ΔH / (R T²); dΔH/dT = R (C + 6 D T²)
+        df = (-beta * CP_AIR
+              - (k * xg * p / P_TOTAL * dH * dH / (R_GAS * t * t)).sum(axis=1)
+              - (drive * R_GAS * (C + 6.0 * D * t * t)).sum(axis=1))
+        pos = f > 0  # heat in exceeds heat out: the root is warmer
+        lo = np.where(pos, Ts, lo)
+        hi = np.where(pos, hi, Ts)
+        step = np.where(df < 0, -f / np.where(df < 0, df, -1.0), 0.0)
+        new = Ts + step
+        bad = ~np.isfinite(new) | (new < lo) | (new > hi)
+        new = np.where(bad, 0.5 * (lo + hi), new)
+        if np.all(np.abs(new - Ts) < 1e-7):
+            return new
+        Ts = new
+    return Ts
+
+
+def relative_evaporation_rates(solvents, T_C: float = 25.0,
+                               beta: float = HEAT_SUPPLY_FACTOR) -> np.ndarray:
+    """Pure-solvent evaporation rates by volume relative to butyl acetate, from the model.
+
+    >>> from solsphere.library.table import load_library
+    >>> lib = load_library()
+    >>> [round(float(r), 1) for r in relative_evaporation_rates(
+    ...     [lib.lookup("acetone"), lib.lookup("butyl acetate")])]
+    [5.3, 1.0]
+    """
+    vp = VapourPressures(list(solvents))
+    vm = np.array([s.molar_volume for s in solvents], dtype=float)
+    mw = np.array([s.mw for s in solvents], dtype=float)
+    k = _k_rel(mw, vm)[:, None]
+    T = np.full(len(vm), T_C + 273.15)
+    Ts = _film_temperature(k, np.ones_like(k), vp.coef[:, None, :], vp.scale[:, None],
+                           np.zeros_like(k), T, beta)
+    p = np.array([vp.kpa(t - 273.15)[i] for i, t in enumerate(Ts)])
+    rate = k[:, 0] * p * vm
+    # butyl acetate under the same conditions
+    ref = load_library().lookup("123-86-4")
+    vr = VapourPressures([ref])
+    kr = _k_rel(np.array([ref.mw]), np.array([ref.molar_volume]))[:, None]
+    Tr = _film_temperature(kr, np.ones_like(kr), vr.coef[:, None, :], vr.scale[:, None],
+                           np.zeros_like(kr), np.array([T_C + 273.15]), beta)
+    r_ref = kr[0, 0] * vr.kpa(Tr[0] - 273.15)[0] * ref.molar_volume
+    return rate / r_ref
+
+
+def drying_paths(model, vapour, idx, volume_fractions, centre=None, R0=None, *,
+                 T_C: float = 25.0, humidity: float = 0.0, n_points: int = 101,
+                 steps: int = 80, f_end: float = 0.995,
+                 beta: float = HEAT_SUPPLY_FACTOR) -> list[DryingPath]:
+    """Drying paths of many blends at once, with activity coefficients.
+
+    Parameters
+    ----------
+    model : ActivityModel
+        Over the pool the blends are drawn from.
+    vapour : VapourPressures
+        Of the same pool.
+    idx : array-like of int, shape (n, K)
+        Each blend's components.
+    volume_fractions : array-like of shape (n, K)
+    centre, R0 : sphere, optional
+        When given, each path's RED, where it leaves the sphere and RED at the end.
+    T_C : float, default=25.0
+        Air (process) temperature [°C].
+    humidity : float, default=0.0
+        Relative humidity of the air, 0–1 (moves only water).
+    n_points : int, default=101
+        Points per reported path (evenly spaced in fraction evaporated).
+    steps : int, default=80
+        Integration steps to ``f_end`` of the initial volume (even in remaining volume
+        down to a quarter, then geometric; against 600 steps the compositions on the
+        path agree within 0.06 and the exit points within 0.003 on 200 random blends).
+
+    Returns
+    -------
+    list of DryingPath
+        (None for a blend whose components lack vapour pressure, molar mass or volume.)
+    """
+    pool = model.solvents
+    idx = np.atleast_2d(np.asarray(idx, dtype=int))
+    phi0 = np.atleast_2d(np.asarray(volume_fractions, dtype=float))
+    phi0 = phi0 / phi0.sum(axis=1, keepdims=True)
+    n, K = idx.shape
+    if not 0.0 <= humidity <= 1.0:
+        raise ValueError(f"humidity must be between 0 and 1; found {humidity!r}")
+    vm_pool = np.array([s.molar_volume or np.nan for s in pool], dtype=float)
+    mw_pool = np.array([s.mw or np.nan for s in pool], dtype=float)
+    Vm = vm_pool[idx]
+    present = phi0 > 0
+    ok_rows = np.all((np.isfinite(Vm) & np.isfinite(mw_pool[idx]) & vapour.known[idx])
+                     | ~present, axis=1)
+    Vm = np.where(np.isfinite(Vm), Vm, 100.0)
+    k = np.where(present, _k_rel(np.where(np.isfinite(mw_pool[idx]), mw_pool[idx], 100.0), Vm), 0.0)
+    coef = vapour.coef[idx]  # (n, K, 4)
+    scale = vapour.scale[idx]
+    T_air = np.full(n, T_C + 273.15)
+    is_water = np.array([getattr(s, "cas", None) == "7732-18-5" for s in pool])[idx]
+    p_w_air = float(np.nan_to_num(_pw(T_C)))
+    p_inf = np.where(is_water, humidity * p_w_air, 0.0)
+    nmol = np.where(present, phi0 / Vm, 0.0)
+
+    Ts_last = [None]
+    codes = model.methods(idx, nmol)  # components present at the start decide the model
+
+    def rates(nm):
+        tot = nm.sum(axis=1, keepdims=True)
+        x = nm / np.where(tot > 0, tot, 1.0)
+        lg, meth = model.ln_gamma(idx, np.where(x > 0, x, 0.0) + 1e-300, T_C, method=codes)
+        xg = x * np.exp(lg)
+        Ts = _film_temperature(k, xg, coef, scale, p_inf, T_air, beta, T0=Ts_last[0])
+        Ts_last[0] = Ts
+        t = Ts[:, None]
+        A, B, C, D = (coef[..., i] for i in range(4))
+        with np.errstate(over="ignore", invalid="ignore"):
+            p = np.exp(A + B / t + C * np.log(t) + D * t ** 2) / 1000.0 * scale
+        r = np.where(nm > 0, k * np.maximum(xg * np.nan_to_num(p) - p_inf, 0.0), 0.0)
+        return r, Ts, meth
+
+    # steps in the remaining volume: even down to a quarter, then geometric towards
+    # dryness, where the last components run out and the composition turns quickly
+    n_lin = max(2, int(round(0.55 * steps)))
+    left = np.concatenate([np.linspace(1.0, 0.25, n_lin + 1),
+                           np.geomspace(0.25, 1.0 - f_end, steps - n_lin + 1)[1:]])
+    dfs = -np.diff(left)
+    traj = np.empty((steps + 1, n, K))
+    Ts_traj = np.empty((steps + 1, n))
+    time_traj = np.zeros((steps + 1, n))
+    stuck = np.zeros(n, dtype=bool)
+    nm = nmol.copy()
+    traj[0] = nm
+    r0, Ts0, meth = rates(nm)
+    Ts_traj[0] = Ts0
+    r = r0
+    for s in range(steps):
+        df = dfs[s]
+        vr = (r * Vm).sum(axis=1)
+        stuck |= vr <= 1e-12
+        dt = np.where(stuck, 0.0, df / np.where(vr > 0, vr, 1.0))
+        mid = np.maximum(nm - 0.5 * dt[:, None] * r, 0.0)
+        rm, _, _ = rates(mid)
+        vrm = (rm * Vm).sum(axis=1)
+        stuck |= vrm <= 1e-12
+        dt = np.where(stuck, 0.0, df / np.where(vrm > 0, vrm, 1.0))
+        nm = np.maximum(nm - dt[:, None] * rm, 0.0)
+        traj[s + 1] = nm
+        r, Ts, _ = rates(nm)
+        Ts_traj[s + 1] = Ts
+        time_traj[s + 1] = time_traj[s] + dt
+    # report on an even grid of fraction evaporated
+    vol = (traj * Vm[None]).sum(axis=2)  # (steps+1, n) remaining volume
+    f_actual = 1.0 - vol
+    f_grid = np.linspace(0.0, f_end, n_points)
+    out: list[DryingPath | None] = []
+    if centre is not None:
+        centre = np.asarray(centre, dtype=float).reshape(3)
+        R0 = float(R0)
+    pts_pool = np.array([s.point for s in pool], dtype=float)
+    for b in range(n):
+        names = tuple(pool[i].name for i in idx[b])
+        if not ok_rows[b]:
+            out.append(None)
+            continue
+        fa = f_actual[:, b]
+        last = int(np.searchsorted(fa, fa.max() - 1e-12)) if stuck[b] else steps
+        fg = f_grid[f_grid <= fa[last] + 1e-12] if stuck[b] else f_grid
+        if fg.size < 2:
+            fg = fa[:last + 1][[0, -1]]
+
+        def on_grid(v):  # linear interpolation of a step quantity onto the report grid
+            return np.interp(fg, fa[:last + 1], v[:last + 1])
+        nmb = np.column_stack([on_grid(traj[:, b, c]) for c in range(K)])
+        ts_b = on_grid(Ts_traj[:, b])
+        time_b = on_grid(time_traj[:, b])
+        phis = nmb * Vm[b]
+        phis = phis / np.where(phis.sum(axis=1, keepdims=True) > 0, phis.sum(axis=1, keepdims=True), 1.0)
+        xs = nmb / np.where(nmb.sum(axis=1, keepdims=True) > 0, nmb.sum(axis=1, keepdims=True), 1.0)
+        P = pts_pool[idx[b]]
+        pts = phis @ P
+        fr = fg
+        notes = []
+        if stuck[b]:
+            notes.append(f"evaporation stops at {100 * fa[last]:.0f} % evaporated "
+                         "(what is left does not evaporate at this humidity)")
+        residue = phis[-1]
+        dom = int(np.argmax(residue))
+        last_comp = dom if residue[dom] > 0.98 else None
+        leaves, exit_phi, red_arr, red_end, starts = None, None, np.full(len(fg), np.nan), math.nan, True
+        if centre is not None:
+            red_arr = red(pts, centre, R0)
+            starts = bool(red_arr[0] <= 1.0)
+            red_end = float(red_arr[-1])
+            if not starts:
+                leaves, exit_phi = 0.0, phis[0]
+                notes.append("the blend starts outside the sphere")
+            else:
+                out_i = np.flatnonzero(red_arr > 1.0)
+                if out_i.size:
+                    j = int(out_i[0])
+                    a_, b_ = red_arr[j - 1], red_arr[j]
+                    w = (1.0 - a_) / (b_ - a_)
+                    leaves = float(fr[j - 1] + w * (fr[j] - fr[j - 1]))
+                    exit_phi = phis[j - 1] + w * (phis[j] - phis[j - 1])
+                    if red_end <= 1.0:
+                        notes.append("the liquid leaves the sphere and comes back in later; "
+                                     "a film can fail during the excursion")
+        label = METHODS[int(meth[b])]
+        if humidity > 0 and is_water[b].any():
+            notes.append(f"air at {100 * humidity:g} % relative humidity slows the water")
+        path = DryingPath(
+            fractions_evaporated=fr, compositions=phis, mole_fractions=xs, points=pts,
+            red=red_arr, relative_time=time_b, leaves_at=leaves,
+            starts_inside=starts, last_component=last_comp, residue=residue,
+            red_at_end=red_end, exit_composition=exit_phi,
+            max_fraction_evaporated=float(fa[last]), names=names, centre=centre,
+            R0=R0, notes=notes,
+            method=REAL_METHOD.format(model=label, beta=beta, T=T_C, rh=100 * humidity),
+            title=f"activity coefficients by {label}, evaporative cooling",
+            film_temperature=ts_b - 273.15)
+        out.append(path)
+    return out  # type: ignore[return-value]
+
+
+def _pw(T_C: float) -> float:
+    """Water's vapour pressure [kPa] at T_C (for the humidity of the air)."""
+    return float(VapourPressures([load_library().lookup("7732-18-5")]).kpa(T_C)[0])
+
+
+def mixture_drying_path(solvents, volume_fractions, centre=None, R0=None, *,
+                        T_C: float = 25.0, humidity: float = 0.0,
+                        n_points: int = 101) -> DryingPath | None:
+    """Drying path of one blend with activity coefficients (see :func:`drying_paths`).
+
+    >>> from solsphere.library.table import load_library
+    >>> lib = load_library()
+    >>> p = mixture_drying_path([lib.lookup("water"), lib.lookup("2-butoxyethanol")],
+    ...                         [0.9, 0.1], humidity=0.5)
+    >>> p.names[p.last_component]     # the glycol ether leaves first in humid air
+    'water'
+    """
+    solvents = list(solvents)
+    k = len(solvents)
+    return drying_paths(ActivityModel(solvents), VapourPressures(solvents), np.arange(k)[None],
+                        np.asarray(volume_fractions, dtype=float)[None], centre, R0,
+                        T_C=T_C, humidity=humidity, n_points=n_points)[0]

@@ -19,6 +19,7 @@ import numpy as np
 from solsphere.errors import FitError, NotFittedError
 from solsphere.hansen import as_points, ra
 from solsphere.io.trials import DISPLAY, parse_outcome
+from solsphere.models.guidance import pinning_advice
 from solsphere.results import Result
 
 AXES = ("dD", "dP", "dH")
@@ -192,8 +193,10 @@ def graded_data(data, good=None, partial: str = "ordinal", names=None, bounds=No
 
 
 # ----------------------------------------------------------------------------- warnings
-def edge_warnings(c, box) -> list[str]:
-    """Warnings for a centre at the edge of the search box (or a box too narrow)."""
+def edge_warnings(c, box, points=None) -> list[str]:
+    """Warnings for a centre at the edge of the search box (or a box too narrow); with
+    ``points`` (the tested solvents) each names two or three untested common solvents
+    beyond the tested range (:func:`solsphere.models.guidance.pinning_advice`)."""
     out = []
     for a, x, (lo, hi) in zip(AXES, c, box):
         span = f"tested {a} range {lo:.1f} to {hi:.1f}"
@@ -202,9 +205,13 @@ def edge_warnings(c, box) -> list[str]:
                        f"with a wider spread of {a}.")
         elif x - lo <= EDGE or hi - x <= EDGE:
             side = "lower" if x - lo <= EDGE else "upper"
-            out.append(f"Centre {a} = {x:.1f} is at the {side} edge of the tested region "
-                       f"({span}): the true centre may lie beyond it; test solvents with "
-                       f"{'lower' if side == 'lower' else 'higher'} {a}.")
+            text = (f"Centre {a} = {x:.1f} is at the {side} edge of the tested region "
+                    f"({span}): the true centre may lie beyond it, and R0 is then too small "
+                    f"as well (the sphere is cut to fit inside the tested region); test "
+                    f"solvents with {'lower' if side == 'lower' else 'higher'} {a}.")
+            if points is not None and len(points):
+                text += " " + pinning_advice(a, side, points, c)
+            out.append(text)
     return out
 
 

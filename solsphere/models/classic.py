@@ -10,9 +10,25 @@ with Ra == R0 counted as inside, and the desirability is the (weighted) geometri
 :math:`D = \exp(\sum_i w_i \ln A_i / \sum_i w_i)`, so :math:`-\ln D` is the weighted mean
 distance of the misfits from the surface. For a fixed centre :math:`-\ln D` is convex and
 piecewise linear in R0 with breakpoints at the Ra values, so the best R0 is found exactly
-(:func:`best_radius`); the centre, which has no closed form, is searched globally with a
-scrambled Sobol sequence [2]_ and polished by a pattern search [3]_. Among equal
-desirability the smallest R0 is preferred (for a fixed centre and across centres).
+(:func:`best_radius`). Among equal desirability the smallest R0 is preferred (for a fixed
+centre and across centres).
+
+The centre. When some sphere holds every good solvent and no bad one (a *perfectly
+separable* panel, D = 1) the answer is found exactly (:func:`separable_fit`): in the
+Hansen-scaled space y = (2δD, δP, δH) "good i is nearer than bad k",
+``|y - g_i|^2 <= |y - b_k|^2``, is *linear* in y (the squares cancel), so the centres of
+perfect spheres form a polyhedron; a linear programme [4]_ says whether it is empty, and
+the smallest perfect sphere minimises max_i |y - g_i|^2 over it, a convex quadratic
+programme (with s = t - |y|^2: minimise |y|^2 + s subject to linear constraints). It is
+solved by SLSQP [5]_ and *certified*: the Karush-Kuhn-Tucker conditions are checked at
+the answer (non-negative multipliers of the active constraints by NNLS, stationarity
+residual below 1e-7), which for a convex programme proves the global optimum. Otherwise
+the centre, which has no closed form, is searched globally with a Sobol sequence [2]_
+(scrambled with a fixed seed) and polished by a pattern search [3]_; every random choice
+of the search uses fixed seeds, so the same input gives the same output whatever
+``seed`` the caller passes (``seed`` is kept for compatibility and ignored).
+``tests/test_fit_reference.py`` checks both paths against an exhaustive grid of centres
+on invented perfect and noisy panels.
 
 References
 ----------
@@ -23,6 +39,10 @@ References
    evaluation of integrals", USSR Comput. Math. Math. Phys. 7(4), 86-112, 1967.
 .. [3] T. G. Kolda, R. M. Lewis, V. Torczon, "Optimization by direct search: new
    perspectives on some classical and modern methods", SIAM Review 45(3), 385-482, 2003.
+.. [4] Q. Huangfu, J. A. J. Hall, "Parallelizing the dual revised simplex method",
+   Mathematical Programming Computation 10(1), 119-142, 2018 (HiGHS, scipy's linprog).
+.. [5] D. Kraft, "A software package for sequential quadratic programming", DFVLR-FB
+   88-28, 1988 (SLSQP).
 """
 
 from __future__ import annotations
@@ -32,10 +52,11 @@ from itertools import product
 from typing import Any, NamedTuple
 
 import numpy as np
+from scipy.optimize import linprog, minimize, nnls
 
 from solsphere.errors import FitError
 from solsphere.formatting import num, warning_lines
-from solsphere.hansen import as_points, ra
+from solsphere.hansen import SCALE, as_points, ra
 from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
                                    as_weights, estimator,
                                    counted_classes, default_bounds, edge_warnings,
@@ -43,9 +64,10 @@ from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEs
                                    unboundable_message)
 
 __all__ = ["SphereModel", "SphereFitResult", "SphereOptimum", "best_sphere", "best_radius",
-           "desirability", "grid_search", "default_bounds"]
+           "desirability", "grid_search", "default_bounds", "separable_fit"]
 
 _R0_FLOOR = 1e-9  # R0 must be positive
+POINT_R0 = 0.05  # MPa½: a fitted R0 below this is a point, not a sphere (a warning says so)
 _CUBE = np.array([d for d in product((-1.0, 0.0, 1.0), repeat=3) if any(d)])
 
 
@@ -162,6 +184,108 @@ def _lexmin(l: np.ndarray, R0: np.ndarray):
     return np.argmin(best, axis=-1)
 
 
+#: Seed of every random choice of the centre search (fixed: the same input gives the same
+#: fit whatever seed a caller passes).
+SEARCH_SEED = 0
+#: Largest stationarity residual (relative) of a certified exact fit.
+KKT_TOL = 1e-7
+
+
+def separable_fit(points, good, box, weights=None):
+    """The smallest perfect sphere, exactly, when one exists (see the module doc).
+
+    Parameters
+    ----------
+    points : array-like of shape (n, 3)
+    good : array-like of bool, shape (n,)
+    box : array-like of shape (3, 2)
+        Bounds of the centre [MPa½].
+    weights : array-like of shape (n,), default=None
+        Trials of weight 0 are left out.
+
+    Returns
+    -------
+    None when no sphere with its centre in the box holds every good solvent and no bad
+    one; else ``(centre, certified)``: the centre of the smallest such sphere (its R0 is
+    the largest Ra of the goods) and whether the optimality certificate (KKT
+    conditions of the convex programme) holds.
+
+    Examples
+    --------
+    >>> X = [[17, 10, 7], [19, 10, 7], [10, 30, 30], [25, 0, 0], [14, 2, 20]]  # invented
+    >>> c, ok = separable_fit(X, [1, 1, 0, 0, 0], [[10, 25], [0, 30], [0, 30]])
+    >>> c.round(6).tolist(), ok
+    ([18.0, 10.0, 7.0], True)
+    """
+    X = as_points(points)
+    g = np.asarray(good, dtype=bool).reshape(-1)
+    w = as_weights(weights, len(X))
+    X, g = X[w > 0], g[w > 0]
+    G, B = X[g] * SCALE, X[~g] * SCALE
+    if len(G) == 0 or len(B) == 0:
+        return None
+    b = np.asarray(box, dtype=float)
+    ylo, yhi = b[:, 0] * SCALE, b[:, 1] * SCALE
+    scale = float(max(1.0, np.abs(np.vstack([G, B])).max())) ** 2
+    # Pairs (good i, bad k): -2 y.(g_i - b_k) + |g_i|^2 - |b_k|^2 <= -m; maximise m.
+    D = (G[:, None, :] - B[None, :, :]).reshape(-1, 3)
+    c0 = (np.sum(G * G, axis=1)[:, None] - np.sum(B * B, axis=1)[None, :]).reshape(-1)
+    A_pair = -2.0 * D / scale
+    b_pair = -c0 / scale
+    lp = linprog(np.r_[0.0, 0.0, 0.0, -1.0], A_ub=np.column_stack([A_pair, np.ones(len(D))]),
+                 b_ub=b_pair, bounds=[*zip(ylo, yhi), (None, 1.0)], method="highs")
+    if lp.status != 0 or -lp.fun < -1e-12:
+        return None
+    # Convex QP in x = (y, s): minimise |y|^2 + s subject to
+    #   goods: -2 y.g_i + |g_i|^2 - s <= 0;  pairs: A_pair y - b_pair <= 0;  box.
+    gg = np.sum(G * G, axis=1)
+    A = np.vstack([np.column_stack([-2.0 * G / scale, -np.ones(len(G)) / scale]),
+                   np.column_stack([A_pair, np.zeros(len(D))])])
+    rhs = np.r_[-gg / scale, b_pair]  # constraints: A x <= rhs
+
+    def f(x):
+        return (x[:3] @ x[:3] + x[3]) / scale, np.r_[2.0 * x[:3], 1.0] / scale
+
+    y0 = np.asarray(lp.x[:3], dtype=float)
+    x0 = np.r_[y0, np.max(-2.0 * G @ y0 + gg) - y0 @ y0]
+    res = minimize(f, x0, jac=True, method="SLSQP",
+                   bounds=[*zip(ylo, yhi), (None, None)],
+                   constraints=[{"type": "ineq", "fun": lambda x: rhs - A @ x,
+                                 "jac": lambda x: -A}],
+                   options={"ftol": 1e-15, "maxiter": 500})
+    x = res.x if np.all(A @ res.x <= rhs + 1e-9) else x0
+    # Active-set refinement and certificate. With the box written as rows too, the
+    # constraints active at x are taken as equalities and the KKT system of the QP
+    # (H x + c + A_act' lambda = 0, A_act x = rhs_act) is solved exactly: the answer is
+    # kept when it is feasible, and it is the global optimum when every multiplier is
+    # >= 0 (convex programme). Otherwise the certificate falls back to non-negative
+    # least squares for the multipliers at x.
+    Ab = np.vstack([A, np.column_stack([np.eye(3), np.zeros(3)]),
+                    np.column_stack([-np.eye(3), np.zeros(3)])])
+    rb = np.r_[rhs, yhi, -ylo]
+    H = np.diag([2.0, 2.0, 2.0, 0.0]) / scale
+    cvec = np.r_[0.0, 0.0, 0.0, 1.0] / scale
+    act = np.flatnonzero(Ab @ x >= rb - 1e-7 * np.maximum(1.0, np.abs(rb)))
+    certified = False
+    if act.size:
+        Aa = Ab[act]
+        K = np.block([[H, Aa.T], [Aa, np.zeros((len(act), len(act)))]])
+        sol = np.linalg.lstsq(K, np.r_[-cvec, rb[act]], rcond=None)[0]
+        xn, lam = sol[:4], sol[4:]
+        stationary = np.linalg.norm(H @ xn + cvec + Aa.T @ lam) <= KKT_TOL * np.linalg.norm(cvec)
+        if stationary and np.all(Ab @ xn <= rb + 1e-12 * np.maximum(1.0, np.abs(rb))):
+            if np.all(lam >= -1e-12):
+                x, certified = xn, True
+            elif f(xn)[0] <= f(x)[0]:
+                x = xn
+    if not certified:
+        rows = Ab[np.flatnonzero(Ab @ x >= rb - 1e-8 * np.maximum(1.0, np.abs(rb)))]
+        grad = f(x)[1]
+        resid = nnls(rows.T, -grad)[1] if len(rows) else float(np.linalg.norm(grad))
+        certified = bool(resid <= KKT_TOL * max(1e-300, float(np.linalg.norm(grad))))
+    return np.clip(x[:3] / SCALE, b[:, 0], b[:, 1]), certified
+
+
 def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=400,
             start=None):
     """Global Sobol stage, then a batched pattern search from the best distinct starts.
@@ -171,7 +295,8 @@ def _search(X, g, w, box, seed, n_global=2048, n_starts=8, xtol=1e-6, max_iter=4
     """
     from scipy.stats import qmc  # deferred: scipy.stats costs seconds to import (CLI start-up)
 
-    rng = np.random.default_rng(seed)
+    del seed  # kept for compatibility: the search's random choices use SEARCH_SEED
+    rng = np.random.default_rng(SEARCH_SEED)
     keep = w > 0
     X, g, w = X[keep], g[keep], w[keep]
     lo, hi = box[:, 0], box[:, 1]
@@ -234,8 +359,10 @@ def best_sphere(points, good, weights=None, bounds=None, seed=0, *, start=None,
     Sobol points over the box, all scored with their exact best R0 (vectorised); the 8
     best starts at least 5% of the box diagonal apart are polished together by a pattern
     search (26 cube directions plus 14 random ones per step, the step halved after each
-    step without improvement, down to 1e-6 MPa½), clipped to the box. Deterministic for
-    a given ``seed``. Checked against an exhaustive grid of centres in the tests.
+    step without improvement, down to 1e-6 MPa½), clipped to the box. A perfectly
+    separable panel is solved exactly instead (:func:`separable_fit`). Deterministic:
+    ``seed`` is ignored (kept for compatibility). Checked against an exhaustive grid of
+    centres in the tests.
     The optimum usually has several solvents exactly on the surface; the search leaves
     them up to ~1e-6 MPa½ on either side of it (see ``SphereFitResult.table``'s on_surface).
 
@@ -284,8 +411,22 @@ def _fit(points, good, weights, bounds, seed, **search):
     if not (np.any(g & (w > 0)) and np.any(~g & (w > 0))):
         raise FitError("a sphere needs at least one good and one bad result (with weight > 0)")
     box = search_box(bounds, X)
-    c, ok, count = _search(X, g, w, box, seed, **search)
+    exact = separable_fit(X, g, box, w)
+    if exact is not None and exact[1]:
+        # the smallest perfect sphere runs through its farthest good solvent(s): R0 is
+        # that Ra exactly (best_radius could pick a good 1e-14 closer, within rounding)
+        c = exact[0]
+        R0 = max(float(ra(X[g & (w > 0)], c).max()), _R0_FLOOR)
+        return c, True, 1, R0, desirability(ra(X, c), g, R0, w)
+    start = search.pop("start", None)
+    if exact is not None:  # perfect but not certified (rare): the search competes
+        start = exact[0][None, :] if start is None else np.vstack([as_points(start), exact[0]])
+    c, ok, count = _search(X, g, w, box, seed, start=start, **search)
     R0, D = best_radius(ra(X, c), g, w)
+    if exact is not None:
+        R1, D1 = best_radius(ra(X, exact[0]), g, w)
+        if (-np.log(D1), R1) < (-np.log(D) - _TIE, R0):
+            c, R0, D = exact[0], R1, D1
     return c, ok, count, R0, D
 
 
@@ -488,7 +629,12 @@ class SphereModel(SphereEstimator):
                       on_surface=bool(surf[i]),
                       agrees=bool((Ra[i] <= R0) == g[i] or surf[i]) if use[i] else None)
                  for i in range(n)]
-        notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box)
+        notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box, P[use])
+        if R0 < POINT_R0:
+            notes.append(f"R0 = {R0:.2g} MPa½: the results counted as good sit at one point "
+                         "(or nearly), so the smallest sphere that fits is that point and the "
+                         "results say nothing yet about how far the dissolving region "
+                         "reaches; test solvents around them.")
         if not ok:
             notes.append("The centre search stopped at its iteration limit: a better fit may "
                          "exist.")

@@ -340,7 +340,7 @@ class GradedSphereModel(SphereEstimator):
                 red=float(Ra[i] / R0), predicted="inside" if Ra[i] <= R0 else "outside",
                 on_surface=bool(surf[i]), p_good=float(p_out[i]), p_dissolves=float(p_in[i]),
                 agrees=agrees if use[i] else None))
-        notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box)
+        notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box, P[use])
         if width <= self.min_width * 1.001:
             notes.append(f"The boundary width is at its lower bound ({self.min_width:g} "
                          "MPa½): the results are perfectly separated and the width only says "

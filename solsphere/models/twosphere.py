@@ -23,8 +23,10 @@ search.)
 Does the second sphere earn its keep? Two spheres always fit the tested results at
 least as well as one, so the choice is made on results held back: stratified K-fold
 cross-validation [2]_ (default 5 folds) counts the held-back results each model gets
-wrong. Two spheres are returned only when they get at least ``min_gain`` more held-back
-results right than one sphere (default: 2, or 5 % of the trials if more); otherwise
+wrong. Nothing from the held-back results enters a fold's fits: each fold's search box
+is its training solvents' box (unless the caller gives ``bounds``) and its two-sphere
+starts come from its training results alone. Two spheres are returned only when they
+get at least ``min_gain`` more held-back results right than one sphere (default: 2, or 5 % of the trials if more); otherwise
 the one-sphere fit is returned with the criterion values, so the user sees why.
 
 References
@@ -47,7 +49,7 @@ from solsphere.formatting import num, warning_lines
 from solsphere.hansen import SCALE, as_points, ra
 from solsphere.models.base import (MIN_ADVISED, SURFACE, WORDS, FitResultBase,
                                    SphereEstimator, binary_data, counted_classes,
-                                   edge_warnings, estimator, model_inputs)
+                                   default_bounds, edge_warnings, estimator, model_inputs)
 from solsphere.models.classic import best_sphere
 
 __all__ = ["TwoSphereModel", "TwoSphereFitResult", "fit_two_spheres", "union_loss"]
@@ -277,8 +279,6 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
     spheres2, D2 = None, None
     if two is not None:
         labels = two[1]
-        labels_full = np.zeros(n, dtype=int)
-        labels_full[g] = labels
         gi = np.flatnonzero(g)
         spheres2 = []
         for k in (0, 1):
@@ -295,12 +295,14 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
         tr, te = fold != j, fold == j
         if not (g[tr].any() and (~g[tr]).any()):
             continue
-        c, R = _fit_one(X[tr], g[tr], w[tr], box, seed, quick=True)
+        # Nothing from the held-back results enters the fold's fits: the box is the
+        # training solvents' (unless the caller fixed one) and the two-sphere starts are
+        # made from the training results alone (no warm start from the full-data split).
+        box_tr = box if bounds is not None else default_bounds(X[tr])
+        c, R = _fit_one(X[tr], g[tr], w[tr], box_tr, seed, quick=True)
         err1 += int(np.sum((ra(X[te], c) <= R) != g[te]))
         if cv_two:
-            # Warm start: the full fit's split of the training goods.
-            t2 = _two_sphere(X[tr], g[tr], w[tr], box, seed, quick=True, one=(c, R),
-                             starts=[labels_full[tr & g]])
+            t2 = _two_sphere(X[tr], g[tr], w[tr], box_tr, seed, quick=True, one=(c, R))
             pred = (_predict(X[te], t2[0]) if t2 is not None else ra(X[te], c) <= R)
             err2 += int(np.sum(pred != g[te]))
     earns = cv_two and (err1 - err2) >= min_gain
@@ -332,7 +334,7 @@ def fit_two_spheres(data, good=None, *, partial: str = "good", names=None, bound
                          f"its own good results and bads around it; {2 * MIN_ADVISED} or more "
                          "are advised.")
     for c, _ in spheres:
-        notes += edge_warnings(c, box)
+        notes += edge_warnings(c, box, X)
     if force in (1, 2) and force != (2 if earns else 1):
         notes.append(f"{force} sphere{'s' if force > 1 else ''} returned as asked, although "
                      "the held-back results favour "

@@ -18,6 +18,7 @@ import html
 import numpy as np
 
 from solsphere import __version__
+from solsphere.formatting import blend_label
 
 STYLE = {
     "good": {"color": "#1b9e77", "symbol": "circle", "label": "dissolves"},
@@ -84,8 +85,7 @@ def _blend_segments(blends: list[dict]):
                 zs += [a[2], c[2], None]
         p = (b["dD"], b["dP"], b["dH"])
         pts.append(p)
-        label = " + ".join(f"{n} {100 * f:.0f}%" for n, f in zip(b["solvents"], b["volume_fractions"]))
-        texts.append(_hover(label, p, b.get("red")))
+        texts.append(_hover(blend_label(b["solvents"], b["volume_fractions"]), p, b.get("red")))
     return xs, ys, zs, pts, texts
 
 

@@ -30,15 +30,18 @@ least R0 / 2 from the picks above where possible.
 
 Does it help? ``tests/perf/bench_next.py`` simulates 20 invented bench campaigns (12
 random trials, then 10 more by these suggestions or at random) and compares the final
-95 % intervals and centre errors; its numbers are in the closing notes. The candidate
-box matters: by default the plausible spheres may lie anywhere in the box spanned by the
-tested solvents and the candidates (not only the tested ones), so that the suggestions
-can look beyond what has been tested.
+95 % intervals and centre errors; its numbers are in the closing notes. The box matters:
+by default the posterior's spheres may lie anywhere in its physically wide prior
+(:data:`solsphere.uncertainty.posterior.PRIOR_BOX`, which holds every candidate), and a
+bootstrap's centres anywhere in the box spanned by the tested solvents and the
+candidates (not only the tested ones), so that the suggestions can look beyond what has
+been tested.
 
 Safety filters (flash point, exposure limit, carcinogens, liquids only ...) are the
 caller's: pass an already filtered candidate list (:meth:`Library.select`). Every
-suggestion carries its flash point and hazard flags. A ``p_good`` is a share of plausible
-spheres, not a guarantee of the bench result.
+suggestion carries its flash point and hazard flags. A ``p_good`` is the posterior
+predictive probability of dissolving (or, from a bootstrap, the share of resampled spheres
+that contain the solvent), not a guarantee of the bench result.
 
 References
 ----------
@@ -68,7 +71,8 @@ from solsphere.uncertainty.posterior import Posterior, sample_posterior
 __all__ = ["Suggestion", "Suggestions", "suggest_next", "select_informative"]
 
 CAUTION = ("Suggestions are for learning about the material, not predictions of success: "
-           "a p_good is the share of plausible spheres that contain the solvent. Read each "
+           "a p_good is how likely the solvent is to dissolve the material under the "
+           "plausible spheres. Read each "
            "safety data sheet and work with ventilation and protection before testing.")
 _TIE = 1e-9
 _SOURCE = {"posterior": "sampled spheres (posterior)", "bootstrap": "resampled spheres"}
@@ -306,10 +310,11 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     names : list of str, default=None
         Trial names (with arrays): candidates with these names are "tested".
     bounds : array-like of shape (3, 2), default=None
-        Box for the centre. Default: the box spanned by the tested solvents *and the
-        candidates*, so that the plausible spheres may lie wherever a candidate could
-        test them (the fits' own default, the tested solvents' box, would hide the
-        uncertainty beyond what has been tested).
+        Box for the centre. Default: the posterior's physically wide prior, or for a
+        bootstrap the box spanned by the tested solvents *and the candidates*, so that
+        the plausible spheres may lie wherever a candidate could test them (the fits'
+        own default, the tested solvents' box, would hide the uncertainty beyond what
+        has been tested).
     exclude_tested : bool, default=True
         Leave out candidates already tested (same name or CAS number, after
         normalisation, or the same coordinates within 1e-6 MPa½).
@@ -344,7 +349,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     box = search_box(bounds, np.vstack([all_points, P]))
     b = bootstrap
     if b is None and uncertainty == "posterior":
-        b = sample_posterior(X, g, n_samples, seed=seed, names=tnames, bounds=box)
+        b = sample_posterior(X, g, n_samples, seed=seed, names=tnames, bounds=bounds)
     elif b is None:
         b = confidence.bootstrap(X, g, n_bootstrap, seed=seed, method=method, names=tnames,
                                  bounds=box, n_jobs=n_jobs, progress=progress)
@@ -361,10 +366,12 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
                            **meta)
     d = ra(P[None, :, :], b.centres[:, None, :])  # (spheres, candidates)
     inside = d <= b.radii[:, None]
-    p = inside.mean(axis=0)
     red = ra(P, b.centre) / b.R0
     lik = (expit((b.radii[:, None] - d) / b.widths[:, None]) if kind == "posterior"
            else inside)
+    # posterior: the predictive probability of dissolving (the width integrated);
+    # bootstrap: the share of resampled spheres that contain the solvent
+    p = lik.mean(axis=0)
     picks, gains, alone = select_informative(lik, n, P, red, b.R0)
     out = []
     for k, (j, gain, a) in enumerate(zip(picks, gains, alone)):
