@@ -116,7 +116,11 @@ def compute_fit(rows, partial: str, library) -> dict:
         the tested solvents; ``warnings``: reading warnings; ``partial``.
     """
     cleaned = clean_rows(rows)
-    trials, errors = T.validate_rows(cleaned, library=library)
+    try:
+        trials, errors = T.validate_rows(cleaned, library=library)
+    except InputError as exc:  # a limit of solsphere.limits (too many rows)
+        return {"fit": None, "fit_error": str(exc), "problems": [], "trial_rows": [],
+                "tested": [], "warnings": [], "partial": partial, "n_rows": len(cleaned)}
     problems = [problem_dict(e) for e in errors]
     for p in problems:  # a solvent waiting for its result (e.g. a suggested next trial)
         i = p["row"]

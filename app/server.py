@@ -25,9 +25,10 @@ from solsphere.library.table import load_library
 
 from . import logic
 
-#: Largest HTTP request body the server accepts [bytes]; uploads are checked against a
-#: smaller limit (``logic.UPLOAD_LIMIT``) with a message first.
-MAX_REQUEST_BYTES = 16_000_000
+#: Largest HTTP request body the server accepts [bytes]: a 5 MB upload as the browser's
+#: data URL (each callback has its own smaller limit, see ``guard``); uploads are checked
+#: against ``logic.UPLOAD_LIMIT`` with a message first.
+MAX_REQUEST_BYTES = 7_500_000
 #: Most worker processes ``serve`` starts (``--workers``): about one per core is enough.
 MAX_WORKERS = 64
 #: Threads per worker process: a slow connection never holds a whole process.
@@ -76,6 +77,7 @@ def create_app(path=None, initial: dict | None = None):
     dash.Dash
     """
     import dash
+    from . import guard
     from .callbacks import register_callbacks
     from .layout import build_layout
 
@@ -84,10 +86,11 @@ def create_app(path=None, initial: dict | None = None):
         initial = initial_state(path, library)
     assets = Path(__file__).with_name("assets")
     app = dash.Dash(__name__, title="solsphere", assets_folder=str(assets),
-                    serve_locally=True, update_title=None)
+                    serve_locally=True, update_title=None, on_error=guard.on_callback_error)
     app.server.config["MAX_CONTENT_LENGTH"] = MAX_REQUEST_BYTES
     app.layout = build_layout(initial, library, has_demo=_demo_installed())
     register_callbacks(app, _library)
+    guard.install(app)  # after the callbacks: the policy hashes their inline scripts
     return app
 
 
@@ -159,7 +162,8 @@ def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1
     print(f"solsphere app: open http://{shown}:{port}/ in your browser{how} (Ctrl+C stops it)",
           flush=True)
     if sock is None:
-        app.run(host=host, port=port, debug=False)
+        from . import guard
+        app.run(host=host, port=port, debug=False, request_handler=guard.request_handler())
     else:
         _serve_workers(app.server, sock, workers)
 

@@ -16,8 +16,8 @@ import sys
 import traceback
 from pathlib import Path
 
-from solsphere import __version__
-from solsphere.errors import FitError, InputError, SolsphereError
+from solsphere import __version__, limits
+from solsphere.errors import FitError, InputError, SolsphereError, numeric_notes
 
 #: The choices of --pool and --rank-by (kept equal to solsphere.library.pools.POOLS and
 #: solsphere.workflows.RANK_CHOICES by a test; the parser must not import them, see main).
@@ -81,8 +81,31 @@ def _number(text: str) -> float:
     return v
 
 
+def _temperature_arg(text: str) -> float:
+    """--temperature: a number of °C within the physical range of solsphere.limits."""
+    try:
+        return limits.check_temperature(_number(text))
+    except InputError as exc:
+        raise argparse.ArgumentTypeError(exc.message.rstrip(".")) from None
+
+
+def _add_limits(p):
+    """The limits of solsphere.limits, one option each (see that module's table)."""
+    g = p.add_argument_group("limits (raise them for big jobs; see 'solsphere.limits')")
+    for name, (option, counts) in limits.OPTIONS.items():
+        g.add_argument(option, type=_positive_int, metavar="N", default=None,
+                       dest=f"limit_{name}",
+                       help=f"most {counts} (default {getattr(limits.current(), name):,})")
+
+
+def _limits_of(args) -> dict:
+    """The --max-* options given (None: the limit stays as it is)."""
+    return {name: getattr(args, f"limit_{name}", None) for name in limits.OPTIONS}
+
+
 def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)",
                optional: bool = False):
+    _add_limits(p)
     p.add_argument("file", metavar="FILE", help=what, nargs="?" if optional else None)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
@@ -130,7 +153,7 @@ def _add_pool(p, pool: str = "working"):
     p.add_argument("--restricted", metavar="FILE",
                    help="CSV listing restricted solvents (column 'solvent'), all left out; "
                         "see data/restricted_example.csv")
-    p.add_argument("--temperature", type=_number, metavar="°C",
+    p.add_argument("--temperature", type=_temperature_arg, metavar="°C",
                    help="shift the candidates' coordinates to this process temperature "
                         "(Hansen–Beerbower relations); the sphere stays as fitted")
 
@@ -242,6 +265,7 @@ def build_parser() -> argparse.ArgumentParser:
                         "carcinogen class, reprotoxic/regulatory listing or flammability, "
                         "or that are listed themselves")
     _add_pool(p)
+    _add_limits(p)
 
     p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
     _add_input(p)
@@ -255,6 +279,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--workers", type=_workers, default=1, metavar="N",
                    help="worker processes (default 1); for a shared lab server use about "
                         "one per core, e.g. 2 (needs gunicorn, Unix only)")
+    _add_limits(p)
     return parser
 
 
@@ -297,7 +322,14 @@ def main(argv: list[str] | None = None) -> int:
         # deferred: the subcommands import the science (numpy, scipy: seconds to load)
         from solsphere.commands import COMMANDS
 
-        return COMMANDS[args.command](args)
+        with limits.limited(**_limits_of(args)):  # for this command only
+            if args.command == "app":  # a server: its requests answer for themselves
+                return COMMANDS[args.command](args)
+            with numeric_notes() as notes:
+                code = COMMANDS[args.command](args)
+        for note in notes:  # after the report, one line each, never a numpy trace
+            print(f"solsphere: note: {note}", file=sys.stderr)
+        return code
     except SolsphereError as exc:
         if isinstance(exc, InputError):
             exc = located(exc)

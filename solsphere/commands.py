@@ -13,7 +13,8 @@ from pathlib import Path
 from solsphere.design.ranking import rank_solvents
 from solsphere.errors import FitError, InputError
 from solsphere.formatting import num, split_names
-from solsphere.io.files import atomic_write_text
+from solsphere import limits
+from solsphere.io.files import atomic_write_text, check_output
 from solsphere.io.project import load_any, save
 from solsphere.library.table import load_library
 from solsphere.models.comparison import compare_models
@@ -112,6 +113,8 @@ def resolved_names(project) -> list[str]:
 
 
 def cmd_fit(args) -> int:
+    if args.save:  # said before the fit, and a pipe or device is never opened
+        check_output(args.save, inputs=[args.file])
     project, fit, lib = load_session(args)
     obj, text = fit.to_dict(), str(fit)
     resolved = resolved_names(project)
@@ -128,7 +131,13 @@ def cmd_fit(args) -> int:
         post = _posterior(args, project, fit, args.posterior)
         obj["posterior"] = post.to_dict()
         text += "\n" + str(post)
-    if not args.no_influence:
+    n_trials = len(project.trials)
+    if not args.no_influence and n_trials * n_trials > limits.current().resample_work:
+        obj["influence"] = None
+        text += (f"\n[[Re-check first]] not computed: {n_trials} results need {n_trials:,}"
+                 f" leave-one-out refits of {n_trials:,} rows, above the limit of resample "
+                 f"work (raise it with --max-resample-work N, or add --no-influence)")
+    elif not args.no_influence:
         # leave-one-out refits rank the list; the flipped-result refits (the app shows
         # them) would double the time of every fit
         inf = influence(project.trials, partial=fit.partial, bounds=fit.bounds, flips=False)
@@ -313,6 +322,7 @@ def cmd_replace(args) -> int:
 def cmd_share(args) -> int:
     from solsphere.report.share import share_page  # deferred: plotly is heavy to import
 
+    check_output(args.output, inputs=[args.file])
     project, fit, lib = load_session(args)
     _check_share_target(args.output)
     page = share_page(project, fit, lib, title=args.title)

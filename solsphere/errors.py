@@ -13,6 +13,9 @@ front end parses an error's text.
 
 from __future__ import annotations
 
+import contextlib
+import warnings as _warnings
+
 
 class SolsphereError(Exception):
     """Base class for errors solsphere reports to the user (exit code 2)."""
@@ -95,8 +98,9 @@ class UnknownSolventError(InputError):
     def __init__(self, name: str, suggestions: list[str] | tuple[str, ...] = (), **where):
         self.name = name
         self.suggestions = list(suggestions)[:3]
+        shown = name if len(name) <= 60 else name[:60] + "…"  # never echo a page of text
         #: The message without the suggestions (a front end may offer them as buttons).
-        self.plain_message = msg = f"unknown solvent {name!r}."
+        self.plain_message = msg = f"unknown solvent {shown!r}."
         if self.suggestions:
             msg += " Did you mean " + ", ".join(repr(s) for s in self.suggestions) + "?"
         where.setdefault("hint", "use a library name, CAS number or abbreviation, "
@@ -123,3 +127,34 @@ class AmbiguousNameError(UnknownSolventError):
         self.message = (f"{name!r} is ambiguous: it is used for "
                         + " and for ".join(self.readings) + ".")
         self.args = (str(self),)
+
+
+@contextlib.contextmanager
+def numeric_notes():
+    """Collect numpy's RuntimeWarnings (overflow, division by zero, invalid values) as
+    one-line notes for the report instead of letting them reach the terminal.
+
+    Yields a list that holds, after the block, one note per distinct warning.
+
+    >>> import numpy as np
+    >>> with numeric_notes() as notes:
+    ...     _ = np.array([1.0]) / 0.0
+    >>> notes
+    ['a numerical step reported: divide by zero encountered in divide; check the results it concerns']
+    """
+    notes: list[str] = []
+    with _warnings.catch_warnings(record=True) as caught:
+        _warnings.simplefilter("always", RuntimeWarning)
+        try:
+            yield notes
+        finally:
+            seen = set()
+            for w in caught:
+                if not issubclass(w.category, RuntimeWarning):
+                    _warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+                    continue
+                text = " ".join(str(w.message).split())[:200]
+                if text not in seen:
+                    seen.add(text)
+                    notes.append(f"a numerical step reported: {text}; check the results "
+                                 f"it concerns")

@@ -45,6 +45,7 @@ from solsphere.models.base import SPREAD_WARN  # noqa: F401  (re-exported for ca
 from solsphere.models.classic import SphereModel
 from solsphere.models.graded import GradedSphereModel
 from solsphere.results import Result
+from solsphere.limits import check as check_limit, check_temperature
 
 __all__ = ["fit_project", "candidate_pool", "at_temperature", "parse_fraction_limits",
            "design_blends", "BlendDesign", "add_safety_and_drying", "blend_notes",
@@ -246,6 +247,7 @@ def at_temperature(pool, temperature_C: float | None, reference_C: float = 25.0)
     pool : list of Solvent
     notes : list of str
     """
+    temperature_C = check_temperature(temperature_C)
     if temperature_C is None or abs(temperature_C - reference_C) < 1e-12:
         return list(pool), []
     out, missing = [], []
@@ -402,6 +404,14 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20,
         raise ValueError(f"components must be 2 or 3; found {components!r}")
     if rank_by == "drying" and not drying:
         raise InputError("ranking by drying needs the drying simulation.", setting="drying")
+    # the cheap refusals first, before the pool is read and shifted (a request that
+    # will be refused costs next to nothing)
+    check_temperature(pool_options.get("temperature"))
+    check_limit("top", top, "the blend list")
+    for text, setting in ((max_fraction, "max_fraction"), (min_fraction, "min_fraction")):
+        for item in split_names(text):
+            if not (_share(item) or ("", ""))[0]:
+                parse_fraction_limits([item], library, (), setting)  # its message
     get = fit.get if isinstance(fit, dict) else lambda k: getattr(fit, k)
     centre, R0 = (get("dD"), get("dP"), get("dH")), get("R0")
     pool, filters = candidate_pool(library, limits=False, **pool_options)

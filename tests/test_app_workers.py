@@ -192,7 +192,10 @@ def test_a_public_address_with_workers_still_warns(fake_serving, host, warned):
 def test_one_worker_is_the_threaded_server(fake_serving):
     rc, _, err = run(["app", "--workers", "1"])
     assert rc == 0 and err == ""
-    assert fake_serving == [("run", {"host": "127.0.0.1", "port": 8050, "debug": False})]
+    [(what, kw)] = fake_serving
+    handler = kw.pop("request_handler")  # names the server without versions
+    assert what == "run" and kw == {"host": "127.0.0.1", "port": 8050, "debug": False}
+    assert handler.version_string(None) == "solsphere"
 
 
 def test_without_gunicorn_it_says_so_and_serves_with_one_process(fake_serving, monkeypatch):

@@ -235,8 +235,10 @@ from solsphere.io import files as fileio
 from solsphere.io import project as P
 from solsphere.io import trials as T
 from solsphere.library.table import load_library
+from solsphere.limits import configure
 
 mode, target, n = sys.argv[1], sys.argv[2], int(sys.argv[3])
+configure(rows=max(n, 1000))  # a big project on purpose (a long write to interrupt)
 lib = load_library()
 rows = "".join(f"own solvent {i},{'good' if i % 3 else 'bad'},{14 + i % 7}.25,{i % 19}.5,"
                f"{i % 23}.75,note {i} " + "x" * 40 + "\n" for i in range(n))

@@ -22,7 +22,8 @@ import pytest
 from solsphere import cli
 
 from solsphere.io import trials as T
-from solsphere.errors import FitError
+from solsphere.errors import FitError, InputError
+from solsphere.limits import limited
 from solsphere.models.classic import SphereModel
 from solsphere.library.table import load_library
 
@@ -143,42 +144,52 @@ def test_identical_coordinates_with_opposite_outcomes(lib):
 
 
 def test_all_trials_at_one_point_with_both_outcomes(lib):
+    """No sphere separates them: said so (before: R0 = 1e-9 MPa½, shown as 0.0)."""
     pts = [(16.0, 8.0, 10.0)] * 4
     text = HEADER + own_rows(pts, ["good", "bad", "good", "bad"])
-    _, res = fit_text(text, lib)
-    assert (res.dD, res.dP, res.dH) == (16.0, 8.0, 10.0)
-    for axis in ("dD", "dP", "dH"):
-        assert any(f"centre's {axis}" in w for w in res.warnings)
+    with pytest.raises(FitError) as info:
+        fit_text(text, lib)
+    msg = str(info.value)
+    assert "same point (16.0, 8.0, 10.0 MPa½) disagree" in msg and "\n" not in msg
 
 
 # ----------------------------------------------------------------------------- one good
 
 
-def test_one_good_result_fits_with_a_warning(lib):
+def test_one_good_result_is_explained_not_fitted_to_a_point(lib):
+    """One point gives the sphere no size (before: R0 = 1e-9, RED ~ 1e9 in rank)."""
     text = ("solvent,outcome\nacetone,good\nwater,bad\nn-hexane,bad\nmethanol,bad\n"
             "toluene,bad\nethanol,bad\ndimethyl sulfoxide,bad\n")
-    _, res = fit_text(text, lib)
-    row = next(r for r in res.table if r["name"] == "acetone")
-    assert row["agrees"] is True and row["predicted"] == "inside"
-    assert res.misfits == []
-    assert any("Only 1 result counts as good" in w for w in res.warnings)
+    with pytest.raises(FitError) as info:
+        fit_text(text, lib)
+    assert "only one point dissolves the material (acetone)" in str(info.value)
 
 
 def test_one_good_result_alone_at_a_corner_of_the_box(lib):
     pts = [(14.0, 0.0, 0.0), (20.0, 15.0, 20.0), (17.0, 8.0, 8.0), (19.0, 2.0, 15.0)]
-    _, res = fit_text(HEADER + own_rows(pts, ["good", "bad", "bad", "bad"]), lib)
-    assert res.misfits == []
-    assert all(math.isfinite(r["red"]) for r in res.table)
+    with pytest.raises(FitError, match="only one point dissolves"):
+        fit_text(HEADER + own_rows(pts, ["good", "bad", "bad", "bad"]), lib)
+
+
+def test_two_good_results_fit_with_a_warning(lib):
+    text = ("solvent,outcome\nacetone,good\nbutanone,good\nwater,bad\nn-hexane,bad\n"
+            "methanol,bad\ntoluene,bad\nethanol,bad\ndimethyl sulfoxide,bad\n")
+    _, res = fit_text(text, lib)
+    assert res.misfits == [] and res.R0 >= 0.5
+    assert any("Only 2 results count as good" in w for w in res.warnings)
 
 
 # ------------------------------------------------------------------------ repeated
 
 
 def test_a_single_solvent_repeated_is_kept_once_with_warnings(lib):
-    text = "solvent,outcome\n" + "toluene,good\n" * 6 + "water,bad\nmethanol,bad\n"
+    text = "solvent,outcome\n" + "toluene,good\n" * 6 + "p-xylene,good\nwater,bad\nmethanol,bad\n"
     trials, res = fit_text(text, lib)
-    assert trials.names == ["toluene", "water", "methanol"]
-    assert sum("repeats line 2" in w for w in trials.warnings) == 5
+    assert trials.names == ["toluene", "p-xylene", "water", "methanol"]
+    # one warning with the count (a 1 MB file of repeats once made a 20 MB project)
+    assert [w for w in trials.warnings if "repeats line 2" in w] == [
+        "bench.csv, line 3: toluene repeats line 2 with the same outcome 5 times (lines 3, 4, "
+        "5, 6, 7); kept line 2 only"]
 
 
 def test_only_one_solvent_repeated_cannot_bound_a_sphere(lib):
@@ -190,10 +201,11 @@ def test_only_one_solvent_repeated_cannot_bound_a_sphere(lib):
 
 
 def test_repeated_points_in_arrays_behave_like_one(lib):
-    X = np.array([[17.0, 8, 8]] * 10 + [[15.5, 16.0, 42.3]] * 10 + [[14.9, 0, 0]] * 5)
-    good = np.array([True] * 10 + [False] * 15)
+    X = np.array([[17.0, 8, 8]] * 10 + [[18.0, 9, 6]] * 3 + [[15.5, 16.0, 42.3]] * 10
+                 + [[14.9, 0, 0]] * 5)
+    good = np.array([True] * 13 + [False] * 15)
     res = SphereModel().fit(X, good).result_
-    once = SphereModel().fit(X[[0, 10, 20]], good[[0, 10, 20]]).result_
+    once = SphereModel().fit(X[[0, 10, 13, 23]], good[[0, 10, 13, 23]]).result_
     finite_everywhere(res.to_dict())
     assert res.desirability == pytest.approx(1.0) and once.desirability == pytest.approx(1.0)
     assert res.misfits == []
@@ -212,8 +224,11 @@ def _huge_panel(n=2000, seed=7):
 
 def test_huge_panel_reads(lib):
     X, good = _huge_panel()
-    trials = T.read_text(HEADER + own_rows(X.tolist(), np.where(good, "good", "bad")),
-                         library=lib)
+    text = HEADER + own_rows(X.tolist(), np.where(good, "good", "bad"))
+    with pytest.raises(InputError, match="2,000 trial rows .* limit of 1,000 .*--max-rows"):
+        T.read_text(text, library=lib)
+    with limited(rows=2000):
+        trials = T.read_text(text, library=lib)
     assert len(trials) == 2000
     np.testing.assert_array_equal(trials.points, X)
 
@@ -222,7 +237,8 @@ def test_huge_panel_reads(lib):
 def test_huge_panel_fits(lib):
     """2,000 own-coordinate trials from an invented sphere: the fit separates them all."""
     X, good = _huge_panel()
-    _, res = fit_text(HEADER + own_rows(X.tolist(), np.where(good, "good", "bad")), lib)
+    with limited(rows=2000):
+        _, res = fit_text(HEADER + own_rows(X.tolist(), np.where(good, "good", "bad")), lib)
     assert res.n_trials == 2000
     assert res.misfits == [] and res.desirability == pytest.approx(1.0)
     assert res.success

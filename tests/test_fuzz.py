@@ -43,7 +43,7 @@ from solsphere.io import project as P
 
 from solsphere.io import trials as T
 from solsphere.errors import FitError, InputError
-from solsphere.models.classic import SphereModel, best_radius
+from solsphere.models.classic import MIN_R0, SphereModel, best_radius, best_sphere as fit_sphere
 from solsphere.hansen import ra
 from solsphere.library.table import load_library
 from solsphere.io.shelf import read_shelf
@@ -171,15 +171,18 @@ def check_fit(trials, partial: str = "good") -> None:
     except FitError as exc:
         assert str(exc) and "\n" not in str(exc)
         pts, good, _ = trials.binary(partial)
-        assert good.all() or not good.any()  # only when one side is missing
-        event("fit: FitError (one side missing)")
+        if good.all() or not good.any():
+            event("fit: FitError (one side missing)")
+        else:  # a degenerate panel: the unchecked fit shrinks below the smallest radius
+            assert fit_sphere(pts, good)[1] < MIN_R0, str(exc)
+            event("fit: FitError (degenerate)")
         return
     event("fit: fitted")
     d = res.to_dict()
     _finite_everywhere(d)
     json.dumps(d, allow_nan=False)
     assert 0.0 < res.desirability <= 1.0
-    assert res.R0 > 0
+    assert res.R0 >= MIN_R0
     pts, good, _ = trials.binary(partial)
     ref = centroid_reference(pts, good)
     assert res.desirability >= ref * (1 - 1e-9), (res.desirability, ref)
@@ -296,13 +299,14 @@ def test_fit_is_finite_and_never_worse_than_the_centroid(panel):
     try:
         res = SphereModel(partial=partial).fit(X, outcomes).result_
     except FitError:
-        assert not (good[use].any() and (~good[use]).any())
+        if good[use].any() and (~good[use]).any():  # degenerate, not a missing side
+            assert fit_sphere(X[use], good[use])[1] < MIN_R0
         event("FitError")
         return
     event("fitted")
     assert good[use].any() and (~good[use]).any()
     _finite_everywhere(res.to_dict())
-    assert 0.0 < res.desirability <= 1.0 and res.R0 > 0
+    assert 0.0 < res.desirability <= 1.0 and res.R0 >= MIN_R0
     box = np.array(res.bounds)
     assert np.all(res.centre >= box[:, 0] - 1e-12) and np.all(res.centre <= box[:, 1] + 1e-12)
     ref = centroid_reference(X[use], good[use])

@@ -258,3 +258,75 @@ def test_app_messages_carry_user_text_as_plain_strings(evil_bench):
     assert json.dumps([c.to_plotly_json() for c in children], default=str)  # serialisable
     name = logic.download_name(f"../{EVIL_NOTE}.csv", "-project.json")
     assert re.fullmatch(r"[\w.+-]+", name) and "/" not in name and "<" not in name
+
+
+# ----------------------------------------------------- headers, request size, versions
+
+
+@pytest.fixture(scope="module")
+def app_client():
+    import logging
+    from solsphere.app.server import create_app
+    app = create_app()
+    app.server.logger.setLevel(logging.CRITICAL)
+    return app.server.test_client()
+
+
+def test_every_response_carries_the_security_headers(app_client):
+    for path in ("/", "/_dash-layout", "/_dash-dependencies", "/no-such-page"):
+        r = app_client.get(path)
+        h = r.headers
+        csp = h["Content-Security-Policy"]
+        assert "frame-ancestors 'none'" in csp and "object-src 'none'" in csp, path
+        assert "'unsafe-inline'" not in csp.split("script-src")[1].split(";")[0]
+        assert h["X-Frame-Options"] == "DENY" and h["X-Content-Type-Options"] == "nosniff"
+        assert "Werkzeug" not in h.get("Server", "") and "Python" not in h.get("Server", "")
+
+
+def test_the_policy_hashes_exactly_the_inline_scripts_the_page_has(app_client):
+    """Each inline script of the page is allowed by its hash, and nothing else is."""
+    import base64
+    import hashlib
+    r = app_client.get("/")
+    page = re.sub(r"<!--.*?-->", "", r.get_data(as_text=True), flags=re.S)  # IE-only notes
+    scripts = re.findall(r"<script(?![^>]*\bsrc=)([^>]*)>(.*?)</script>", page, re.S)
+    executable = [body for attrs, body in scripts if "application/json" not in attrs]
+    assert executable  # Dash's renderer start-up at least
+    allowed = set(re.findall(r"'sha256-([^']+)'", r.headers["Content-Security-Policy"]))
+    for body in executable:
+        digest = base64.b64encode(hashlib.sha256(body.encode()).digest()).decode()
+        assert digest in allowed, body[:80]
+
+
+def test_no_version_in_the_page_beyond_what_dash_needs(app_client):
+    from solsphere import __version__
+    page = app_client.get("/").get_data(as_text=True)
+    assert f"solsphere {__version__}" not in page and "Werkzeug" not in page
+
+
+def test_callback_bodies_are_limited_per_callback(app_client):
+    """A table callback takes 2 MB at most; only a callback carrying a file takes more."""
+    from solsphere.app import guard
+    big = {"output": "..fit-store.data...results-table.data..", "outputs": [],
+           "inputs": [{"id": "results-table", "property": "data",
+                       "value": [{"solvent": "x" * 100, "outcome": "good"}] * 30_000}],
+           "changedPropIds": ["results-table.data"], "state": []}
+    r = app_client.post("/_dash-update-component", json=big)
+    assert r.status_code == 413 and "at most 2,000,000" in r.get_json()["error"]
+    assert guard.limit_for({"inputs": [{"id": "open-payload", "property": "data"}]}) \
+        == guard.UPLOAD_REQUEST_BYTES
+    r = app_client.post("/_dash-update-component", data=b"{" + b" " * 8_000_000 + b"}",
+                        content_type="application/json")
+    assert r.status_code == 413
+
+
+def test_no_regular_expression_in_the_sources_nests_unbounded_quantifiers():
+    """A coarse guard against the patterns that stalled the parsers: no '.*' or '.+'
+    directly followed or preceded by another unbounded run over whitespace."""
+    bad = re.compile(r"(\.\*\??|\.\+\??)\)?\\s[*+]|\\s[*+]\)?(\[[^\]]*\]\?)?\\s[*+]")
+    found = []
+    for path in SOURCES:
+        for tok in tokenize.generate_tokens(io.StringIO(path.read_text()).readline):
+            if tok.type == tokenize.STRING and bad.search(tok.string):
+                found.append(f"{path.name}:{tok.start[0]}: {tok.string[:60]}")
+    assert found == [], found

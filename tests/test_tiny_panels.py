@@ -41,11 +41,20 @@ def _write(panel) -> str:
     return str(f)
 
 
-def test_the_one_good_result_panel_fits_with_a_recheck_list():
+def test_the_one_good_result_panel_is_explained_not_fitted_to_a_point():
+    """One good result gives the sphere no size: a one-line explanation (exit 2), not a
+    sphere of radius 1e-9 MPa½ and REDs of 1e9."""
     f = _write([("MEK", "dissolves"), ("water", "does not"), ("hexane", "does not")])
     rc, out, err = run_cli(["fit", f])
+    assert rc == 2 and out == "", err
+    assert "only one point dissolves the material (2-butanone)" in err
+
+
+def test_the_only_bad_result_is_said_in_the_recheck_list_not_computed():
+    f = _write([("MEK", "dissolves"), ("acetone", "dissolves"), ("water", "does not")])
+    rc, out, err = run_cli(["fit", f])
     assert rc == 0, err
-    assert "the only result counted as good" in out  # said, not computed
+    assert "the only result counted as bad" in out
 
 
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])

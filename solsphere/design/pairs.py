@@ -58,6 +58,7 @@ from typing import Any, Iterable, Sequence
 
 import numpy as np
 
+from solsphere.limits import check as check_limit
 from solsphere.formatting import blend_label, float_or_none, format_table, num, pct, plain
 from solsphere.hansen import SCALE, flory_huggins_chi, mix, ra
 from solsphere.library.pools import apply_filters
@@ -731,6 +732,8 @@ def screen_blends(candidates: Iterable[Solvent], centre, R0: float, top: int | N
     All pairs are screened at once by :func:`pair_screen`; the ``top`` pairs are chosen
     on the arrays (``np.argpartition``) before any :class:`Blend` is built.
     """
+    if top is not None:
+        check_limit("top", top, "the blend list")
     R0 = check_radius(R0)
     c = as_xyz(centre, "centre")
     if top is not None and int(top) < 0:

@@ -44,6 +44,7 @@ from solsphere.formatting import format_table, plain
 from solsphere.library.hazards import (LISTING_CAUTION, compare, ghs_category,
                                        hazard_score, listing_of, never_worse)
 from solsphere.library.table import Solvent, hazard_flags
+from solsphere.limits import check as check_limit
 from solsphere.results import Result
 
 #: Closeness to the old solvent is compared in steps of this Hansen distance [MPa½]
@@ -200,6 +201,7 @@ def find_substitutes(target: Solvent, candidates, top: int = 10, n_pairs: int = 
     -------
     Substitution
     """
+    check_limit("top", n_pairs, "the list of pairs")
     pool, refused = [], {}
     for s in candidates:
         if not include_self and (s.name == target.name or (s.cas and s.cas == target.cas)):

@@ -86,6 +86,7 @@ from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
 
+from solsphere.limits import check as check_limit
 from solsphere.design.pairs import (CAUTION, Blend, BlendScreen, as_xyz, blend_table, centred,
                                    check_radius, component_flags, pair_screen, screen_filters,
                                    top_order)
@@ -745,6 +746,8 @@ def screen_triples(candidates: Iterable[Solvent], centre, R0: float, top: int | 
     computed (vectorised) for the genuine feasible triples and breaks ties in RED; the
     ``top`` triples are chosen on the arrays before any :class:`Blend3` is built.
     """
+    if top is not None:
+        check_limit("top", top, "the blend list")
     R0 = check_radius(R0)
     c = as_xyz(centre, "centre")
     if top is not None and int(top) < 0:

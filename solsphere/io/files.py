@@ -181,8 +181,8 @@ def read_text(path, *, limit: int = MAX_BYTES) -> str:
     Raises
     ------
     InputError
-        Missing path, a folder, unreadable, larger than ``limit``, binary, or not
-        decodable.
+        Missing path, a folder, a pipe, device or socket (never read: it could wait
+        forever), unreadable, larger than ``limit``, binary, or not decodable.
     """
     label = _label(path)
     p = Path(path)
@@ -195,14 +195,25 @@ def read_text(path, *, limit: int = MAX_BYTES) -> str:
         if p.is_dir():
             raise InputError("this is a folder, not a file.", file=label,
                              hint="give the path of the file inside it")
+        kind = _special_kind(p)
+        if kind:
+            raise InputError(f"this is {kind}, not a regular file.", file=label,
+                             hint="give the path of a saved file (solsphere does not read "
+                                  "from pipes or devices)")
         size = p.stat().st_size
         if size > limit:
             raise InputError(f"the file is {_size(size)}; the limit is {_size(limit)}.",
                              file=label,
                              hint="check that this is the right file; split it if it "
                                   "really is this big")
-        with open(p, "rb") as fh:
-            data = fh.read(limit + 1)  # bounded even for devices and pipes
+        # non-blocking open, then a check of what was opened: a file swapped for a pipe
+        # after the check above still cannot make the read wait forever
+        fd = os.open(p, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+        with os.fdopen(fd, "rb") as fh:
+            if not stat.S_ISREG(os.fstat(fh.fileno()).st_mode):
+                raise InputError("this is not a regular file.", file=label,
+                                 hint="give the path of a saved file")
+            data = fh.read(limit + 1)  # bounded
     except InputError:
         raise
     except OSError as exc:
@@ -212,6 +223,64 @@ def read_text(path, *, limit: int = MAX_BYTES) -> str:
         raise InputError(f"more than {_size(limit)} of data (the size limit).",
                          file=label, hint="check that this is the right file")
     return decode(data, file=label)
+
+
+_KINDS = ((stat.S_ISFIFO, "a named pipe (FIFO)"), (stat.S_ISCHR, "a device"),
+          (stat.S_ISBLK, "a device"), (stat.S_ISSOCK, "a socket"))
+
+
+def _special_kind(path) -> str | None:
+    """'a named pipe (FIFO)', 'a device', 'a socket' (through symlinks), else None."""
+    try:
+        mode = os.stat(path).st_mode
+    except (OSError, ValueError):
+        return None
+    for test, what in _KINDS:
+        if test(mode):
+            return what
+    return None
+
+
+def check_output(path, inputs=()) -> None:
+    """Refuse an output path that writing would destroy.
+
+    A new path or an existing regular file is fine; a folder, a device, a named pipe
+    or a socket (also behind a symbolic link) is refused, and so is any of ``inputs``
+    (the files the command reads). Nothing is opened, so a pipe cannot block.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    inputs : iterable of str or os.PathLike
+        Files being read by the same command.
+
+    Raises
+    ------
+    InputError
+
+    Examples
+    --------
+    >>> check_output("/dev/null")
+    Traceback (most recent call last):
+    ...
+    solsphere.errors.InputError: /dev/null: this is a device, not a regular file; not writing to it. Fix: give the name of a new or existing ordinary file
+    """
+    label = _label(path)
+    if os.path.isdir(path):
+        raise InputError("this is a folder; cannot save over it.", file=label,
+                         hint="give a file name, e.g. project.json")
+    kind = _special_kind(path)
+    if kind:
+        raise InputError(f"this is {kind}, not a regular file; not writing to it.",
+                         file=label, hint="give the name of a new or existing ordinary file")
+    for src in inputs:
+        try:
+            same = src is not None and os.path.samefile(path, src)
+        except (OSError, ValueError):
+            same = False
+        if same:
+            raise InputError(f"this is the input file {_label(src)!r}; not overwriting it.",
+                             file=label, hint="choose another name for the output")
 
 
 def _write_bytes(fh, data: bytes) -> None:
@@ -244,16 +313,15 @@ def atomic_write_text(path, text: str, *, encoding: str = "utf-8") -> Path:
     Raises
     ------
     InputError
-        The target is a folder, its folder does not exist, or the operating system
-        refused the write (permission, disk full ...). The old file is untouched.
+        The target is a folder, a device, a named pipe or a socket (:func:`check_output`),
+        its folder does not exist, or the operating system refused the write
+        (permission, disk full ...). The old file is untouched.
     """
     label = _label(path)
+    check_output(path)
     p = Path(path)
     if p.is_symlink():
         p = Path(os.path.realpath(p))
-    if p.is_dir():
-        raise InputError("this is a folder; cannot save over it.", file=label,
-                         hint="give a file name, e.g. project.json")
     folder = p.parent if str(p.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(f"the folder {str(folder)!r} does not exist.", file=label,

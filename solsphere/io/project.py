@@ -32,10 +32,11 @@ from pathlib import Path
 import numpy as np
 
 from solsphere.errors import InputError
-from solsphere.io.files import atomic_write_text, read_text
+from solsphere.io.files import atomic_write_text, check_output, read_text
 from solsphere import __version__
 from solsphere.io import trials as bench
 from solsphere.io.trials import Trials, json_type
+from solsphere.limits import clip
 
 __all__ = ["Project", "save", "load", "load_any", "is_project_file", "FORMAT",
            "SCHEMA_VERSION", "PROJECT_MAX_BYTES"]
@@ -44,8 +45,13 @@ __all__ = ["Project", "save", "load", "load_any", "is_project_file", "FORMAT",
 FORMAT = "solsphere-project"
 #: Schema this version writes and the newest it reads.
 SCHEMA_VERSION = 1
-#: Largest project file accepted [bytes].
+#: Largest project file accepted [bytes]; :func:`save` refuses to write a larger one,
+#: so whatever it writes, :func:`load` reads.
 PROJECT_MAX_BYTES = 20_000_000
+#: Deepest nesting of JSON objects and lists accepted (a project needs 5).
+PROJECT_MAX_DEPTH = 64
+#: Most digits of a whole number accepted in a project file (line numbers need 7).
+PROJECT_MAX_DIGITS = 30
 _PARTIAL_CHOICES = ("good", "bad", "skip")
 _DAMAGED = ("the project file was edited or damaged: restore it from a backup, or make a "
             "new project from the results file")
@@ -133,6 +139,7 @@ def save(project: Project, path) -> Path:
     ValueError
         The settings or the fit hold values JSON cannot represent (NaN, objects).
     """
+    check_output(path)  # before anything opens it: a pipe would block the check below
     p = Path(path)
     if p.exists() and not p.is_dir() and not _is_our_file(p):
         raise InputError("this file exists and is not a solsphere project; not "
@@ -140,6 +147,12 @@ def save(project: Project, path) -> Path:
                          hint="choose another name, e.g. one ending in .json")
     text = json.dumps(project.to_dict(), indent=1, ensure_ascii=False, allow_nan=False,
                       default=_plain) + "\n"
+    size = len(text.encode("utf-8", "surrogatepass"))
+    if size > PROJECT_MAX_BYTES:
+        raise InputError(f"the project would be {size / 1e6:.1f} MB, above the "
+                         f"{PROJECT_MAX_BYTES / 1e6:g} MB a project file may have (it could "
+                         f"not be opened again); nothing was written.", file=str(path),
+                         hint="save fewer or shorter rows and notes")
     return atomic_write_text(path, text)
 
 
@@ -187,8 +200,25 @@ def load(path, library=None) -> Project:
     def no_constants(name):
         raise _error(label, f"not valid JSON: {name} is not a number JSON allows.")
 
+    def whole(digits: str) -> int:
+        if len(digits.lstrip("-")) > PROJECT_MAX_DIGITS:
+            raise _error(label, f"a whole number of {len(digits)} digits; a project holds "
+                                f"numbers of at most {PROJECT_MAX_DIGITS}.")
+        return int(digits)
+
+    def real(digits: str) -> float:
+        v = float(digits)
+        if v in (float("inf"), float("-inf")):
+            raise _error(label, f"the number {clip(digits, 24)} is too large for a "
+                                f"project file.")
+        return v
+
     try:
-        doc = json.loads(text, parse_constant=no_constants)
+        doc = json.loads(text, parse_constant=no_constants, parse_int=whole,
+                         parse_float=real)
+    except RecursionError:
+        raise _error(label, f"the JSON is nested too deeply (a project needs "
+                            f"{PROJECT_MAX_DEPTH} levels at most).") from None
     except json.JSONDecodeError as exc:
         if not text.strip():
             raise _error(label, "the project file is empty.") from None
@@ -199,6 +229,7 @@ def load(path, library=None) -> Project:
                               "something else truncated it)") from None
         raise _error(label, f"not valid JSON: {exc.msg}.", line=exc.lineno,
                      column=exc.colno) from None
+    doc, replaced = _checked(doc, label)
     if not isinstance(doc, dict):
         raise _error(label, f"not a solsphere project: the file holds "
                             f"{json_type(doc)}, not an object.",
@@ -207,13 +238,13 @@ def load(path, library=None) -> Project:
         raise _error(label, "not a solsphere project: no 'format' key.",
                      hint="give a project file saved by solsphere, or a results CSV")
     if doc["format"] != FORMAT:
-        raise _error(label, f"not a solsphere project: format is {doc['format']!r}, "
+        raise _error(label, f"not a solsphere project: format is {clip(doc['format'])}, "
                             f"expected {FORMAT!r}.",
                      hint="give a project file saved by solsphere, or a results CSV")
     version = doc.get("schema_version")
     if not isinstance(version, int) or isinstance(version, bool) or version < 1:
         raise _error(label, f"'schema_version' must be a positive integer, found "
-                            f"{version!r}.")
+                            f"{clip(version)}.")
     if version > SCHEMA_VERSION:
         raise _error(label, f"this file was saved by a newer solsphere (schema {version}); "
                             f"this version reads schema ≤ {SCHEMA_VERSION}.",
@@ -230,15 +261,56 @@ def load(path, library=None) -> Project:
         raise _error(label, f"'settings' must be an object, found "
                             f"{json_type(settings)}.")
     if "partial" in settings and settings["partial"] not in _PARTIAL_CHOICES:
-        raise _error(label, f"settings.partial is {settings['partial']!r}; expected one of "
+        raise _error(label, f"settings.partial is {clip(settings['partial'])}; expected one of "
                             f"{', '.join(_PARTIAL_CHOICES)}.")
     fit = doc["fit"]
     if fit is not None and not isinstance(fit, dict):
         raise _error(label, f"'fit' must be an object or null, found "
                             f"{json_type(fit)}.")
     trials = Trials.from_dict(doc["trials"], library=library, file=label)
+    if replaced:
+        trials.warnings.append(f"{label}: {replaced} text value{'s' if replaced > 1 else ''} "
+                               f"held characters that are not valid Unicode (lone "
+                               f"surrogates), replaced by �")
     return Project(trials=trials, settings=settings, fit=fit, path=label,
                    saved_at=doc.get("saved_at"), created_with=doc.get("created_with"))
+
+
+def _checked(doc, label: str):
+    """(doc, count of strings fixed): nesting checked against PROJECT_MAX_DEPTH, lone
+    surrogates (which no file can store) replaced by U+FFFD; iterative, so any depth
+    is answered with a message."""
+    replaced = 0
+
+    def fix(s: str) -> str:
+        nonlocal replaced
+        new = bench.replace_surrogates(s)
+        replaced += new is not s
+        return new
+
+    stack = [(doc, 1)]
+    while stack:
+        node, depth = stack.pop()
+        if depth > PROJECT_MAX_DEPTH:
+            raise _error(label, f"the JSON is nested more than {PROJECT_MAX_DEPTH} levels "
+                                f"deep; a project needs 5.")
+        if isinstance(node, dict):
+            for k in list(node):
+                v = node[k]
+                if isinstance(v, str):
+                    node[k] = fix(v)
+                elif isinstance(v, (dict, list)):
+                    stack.append((v, depth + 1))
+                nk = fix(k)
+                if nk is not k:
+                    node[nk] = node.pop(k)
+        elif isinstance(node, list):
+            for i, v in enumerate(node):
+                if isinstance(v, str):
+                    node[i] = fix(v)
+                elif isinstance(v, (dict, list)):
+                    stack.append((v, depth + 1))
+    return (fix(doc) if isinstance(doc, str) else doc), replaced
 
 
 def is_project_file(path) -> bool:
@@ -248,6 +320,8 @@ def is_project_file(path) -> bool:
     p = Path(path)
     if p.suffix.lower() == ".json":
         return True
+    if not p.is_file():  # a pipe or device is never opened here (it could block)
+        return False
     try:
         with open(p, "rb") as fh:
             head = fh.read(512)

@@ -36,6 +36,7 @@ from solsphere.io.files import MAX_FIELD, read_text
 from solsphere.io.trials import (COORDINATES, CellProblem, ReadContext, parse_coordinate,
                                  parse_number, resolve_solvent, sniff_delimiter)
 from solsphere.library.table import Solvent, load_library
+from solsphere.limits import check as check_limit
 
 #: shelf column -> (Solvent field, lowest, highest accepted value)
 PROPERTY_COLUMNS = {
@@ -55,8 +56,25 @@ _ALIASES = {"solvent": "solvent", "solvents": "solvent", "name": "solvent",
             "smiles": "smiles", "structure": "smiles"}
 
 
+def _drop_brackets(text: str) -> str:
+    """``text`` without its bracketed parts ('price (EUR/l)' -> 'price '), in one pass.
+
+    >>> _drop_brackets("flash point (°C) [closed cup]"), _drop_brackets("a (b")
+    ('flash point  ', 'a (b')
+    """
+    out, opened, last = [], None, 0
+    for i, ch in enumerate(text):
+        if opened is None and ch in "([":
+            opened = i
+        elif opened is not None and ch in ")]":
+            out.append(text[last:opened])
+            opened, last = None, i + 1
+    out.append(text[last:])
+    return "".join(out)
+
+
 def _key(cell: str) -> str | None:
-    low = re.sub(r"[\(\[].*?[\)\]]", "", cell.replace("\ufeff", "").strip().lower())
+    low = _drop_brackets(cell.replace("\ufeff", "").strip().lower())
     low = low.replace("δ", "d")
     return _ALIASES.get(re.sub(r"[\s_\-./]", "", low))
 
@@ -119,6 +137,7 @@ def read_shelf(path, library, *, structure=None) -> list:
     # one column: each line is one name, so '1,4-dioxane' and 'N,N-dimethylformamide'
     # stay whole (the unit separator never occurs in text)
     sep = "\x1f" if single else sniff_delimiter(lines[0][1], file, header_line)
+    check_limit("shelf", len(lines) - 1, "the shelf", file=file)  # before any row is read
     rows = _split_rows(lines, sep, file)
     columns = [_key(c) for c in rows[0][1]]
     if "solvent" not in columns:

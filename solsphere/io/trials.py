@@ -46,6 +46,7 @@ import difflib
 import io
 import math
 import re
+import weakref
 from dataclasses import dataclass, field
 from typing import Any, Iterable, Iterator, Protocol
 
@@ -55,10 +56,12 @@ from solsphere import hansen as hsp
 from solsphere.errors import InputError, UnknownSolventError
 from solsphere.io.files import MAX_FIELD, read_text as _read_file_text
 from solsphere.library.table import load_library
+from solsphere.limits import check as check_limit, clip, current as current_limits
 
 __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
-           "COLUMNS", "MAX_COORDINATE", "parse_blend_spec"]
+           "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates",
+           "parse_blend_spec"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
@@ -316,6 +319,7 @@ class Trials:
         if not all(isinstance(w, str) for w in data["warnings"]):
             raise bad("'warnings' must be a list of strings")
         source = data["source"]
+        check_limit("rows", len(data["rows"]), "the saved trials", file=label)
         records = []
         for i, r in enumerate(data["rows"]):
             where = f"rows[{i}]"
@@ -328,19 +332,19 @@ class Trials:
                 if key in r and not isinstance(r[key], str):
                     raise bad(f"{where}.{key} must be a string, found {json_type(r[key])}")
             if not isinstance(r["line"], int) or isinstance(r["line"], bool) or r["line"] < 1:
-                raise bad(f"{where}.line must be a positive integer, found {r['line']!r}")
+                raise bad(f"{where}.line must be a positive integer, found {clip(r['line'])}")
             res = r["resolved"]
             if (not isinstance(res, list) or len(res) != 3
                     or not all(_is_number(v) and math.isfinite(v) for v in res)):
                 raise bad(f"{where}.resolved must be a list of 3 finite numbers, "
-                          f"found {res!r}")
+                          f"found {clip(res)}")
             if not all(0.0 <= v <= MAX_COORDINATE for v in res):
                 raise bad(f"{where}.resolved must hold coordinates from 0 to "
-                          f"{MAX_COORDINATE:g} MPa½, found {res!r}")
+                          f"{MAX_COORDINATE:g} MPa½, found {clip(res)}")
             for c in COORDINATES:
                 v = r.get(c)
                 if v is not None and not _is_number(v):
-                    raise bad(f"{where}.{c} must be a number or null, found {v!r}")
+                    raise bad(f"{where}.{c} must be a number or null, found {clip(v)}")
             cells = {k: r.get(k) for k in COLUMNS}
             records.append((r["line"], cells, tuple(float(v) for v in res)))
         lib = _get_library(library)
@@ -396,6 +400,7 @@ def read_text(text: str, source: str = "<text>", library: LibraryLike | None = N
         raise InputError("the header is there but no trial rows follow it.", file=source,
                          line=header_line + 1,
                          hint="add one row per solvent tested, e.g. 'toluene,good'")
+    check_limit("rows", len(records), "the results", file=source)
     ctx = ReadContext(file=source, library=_get_library(library), decimal_comma=decimal_comma,
                    unit="line", warnings=list(header_warnings))
     trials, errors = _collect(records, ctx)
@@ -462,6 +467,11 @@ def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,
     """
     ctx = ReadContext(file=source, library=_get_library(library), decimal_comma=True,
                    unit="row")
+    rows = rows if isinstance(rows, (list, tuple)) else list(rows)
+    if len(rows) > current_limits().rows:  # blank rows do not count
+        check_limit("rows", sum(1 for r in rows if not isinstance(r, dict)
+                                or not all(_empty(v) for v in r.values())),
+                    "the table", file=source)
     records = []
     for i, row in enumerate(rows):
         if not isinstance(row, dict):
@@ -532,6 +542,26 @@ class ReadContext:
     decimal_comma: bool
     unit: str  # "line" (files) or "row" (the app's table)
     warnings: list = field(default_factory=list)
+    suggested: dict = field(default_factory=dict)
+
+    def suggestions(self, text: str) -> list[str]:
+        """Close library names for an unknown ``text``: searched for the first
+        :data:`SUGGEST_FIRST` different unknown names only (each search scans the whole
+        library), remembered for repeats (also across tables of this process, for the
+        same library object); later unknown names get none."""
+        if text not in self.suggested:
+            if len(self.suggested) >= SUGGEST_FIRST:
+                return []
+            try:
+                cache = _SUGGESTED.setdefault(self.library, {})
+            except TypeError:  # a library object that cannot be weakly referenced
+                cache = {}
+            if text not in cache:
+                if len(cache) >= SUGGEST_CACHE:
+                    cache.clear()
+                cache[text] = _suggestions(self.library, text)
+            self.suggested[text] = cache[text]
+        return self.suggested[text]
 
     def warn(self, line: int | None, msg: str) -> None:
         where = self.file if line is None else f"{self.file}, {self.unit} {line}"
@@ -540,6 +570,14 @@ class ReadContext:
     def error(self, msg: str, line: int | None, column: str | None,
               hint: str | None = None) -> InputError:
         return InputError(msg, file=self.file, line=line, column=column, hint=hint)
+
+
+#: Unknown solvent names per table for which close library names are searched (about
+#: 20 ms each: the search compares the name with every library name).
+SUGGEST_FIRST = 3
+#: Searches remembered per process (an app server sees the same typos again).
+SUGGEST_CACHE = 4096
+_SUGGESTED: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 
 class CellProblem(Exception):
@@ -596,13 +634,13 @@ def parse_number(raw, decimal_comma: bool) -> float:
     s = str(raw).strip().replace("\u2212", "-").replace(" ", "")
     low = s.lower().lstrip("+-")
     if low in ("nan", "inf", "infinity"):
-        raise CellProblem(f"{raw!r} is not a finite number.", "write a number in MPa½")
+        raise CellProblem(f"{clip(raw)} is not a finite number.", "write a number in MPa½")
     if not _NUMBER.match(s):
-        raise CellProblem(f"{str(raw).strip()!r} is not a number.",
-                           "write a number in MPa½, e.g. 17.8")
+        raise CellProblem(f"{clip(str(raw).strip())} is not a number.",
+                          "write a number in MPa½, e.g. 17.8")
     if "," in s:
         if not decimal_comma:
-            raise CellProblem(f"{str(raw).strip()!r} has a decimal comma, but this file "
+            raise CellProblem(f"{clip(str(raw).strip())} has a decimal comma, but this file "
                                f"separates its columns with commas.",
                                f"write {s.replace(',', '.')} with a decimal point, or save "
                                f"the file with semicolons")
@@ -613,7 +651,7 @@ def parse_number(raw, decimal_comma: bool) -> float:
 def parse_coordinate(raw, name: str, decimal_comma: bool) -> float:
     v = parse_number(raw, decimal_comma)
     if not math.isfinite(v):
-        raise CellProblem(f"{name} {raw!r} is not a finite number.", "write a number in MPa½")
+        raise CellProblem(f"{name} {clip(raw)} is not a finite number.", "write a number in MPa½")
     if v < 0:
         raise CellProblem(f"{name} is {v:g}, but Hansen parameters cannot be negative.",
                            "check the sign and the column")
@@ -627,19 +665,73 @@ def parse_coordinate(raw, name: str, decimal_comma: bool) -> float:
 
 
 def _canon_header(raw: str) -> tuple[str | None, str]:
-    """(canonical column name or None, unit text) of a header cell."""
+    """(canonical column name or None, unit text) of a header cell.
+
+    A unit follows the name in brackets (``dD (MPa½)``, ``dP [MPa^0.5]``) or after a
+    space, ``/`` or ``,`` (``dH MPa½``, ``dD / J/cm³``). Scanned left to right in one
+    pass (no backtracking pattern), so any header cell costs time linear in its length.
+
+    >>> _canon_header("dD (MPa½)"), _canon_header("δP / MPa^0.5"), _canon_header("Notes")
+    (('dD', 'mpa½'), ('dP', 'mpa^0.5'), ('note', ''))
+    """
     low = raw.replace("\ufeff", "").strip().lower()
     unit = ""
-    m = re.match(r"^(.*?)\s*[\(\[](.*)[\)\]]\s*$", low)
-    if m and m.group(1):
-        low, unit = m.group(1), m.group(2).strip()
+    name, inside = _bracketed_unit(low)
+    if name:
+        low, unit = name, inside.strip()
     else:
-        m = re.match(r"^(.*?)\s*[/,]?\s*(\(?\s*(?:mpa|j\s*/|j\s*cm|cal).*)$", low)
-        if m and m.group(1):
-            low, unit = m.group(1), m.group(2).strip()
+        name, rest = _trailing_unit(low)
+        if name:
+            low, unit = name, rest.strip()
     key = low.replace("δ", "d").replace("delta", "d")
     key = re.sub(r"[\s_\-.]", "", key)
     return _HEADER_ALIASES.get(key), unit
+
+
+def _bracketed_unit(low: str) -> tuple[str, str]:
+    """('name', 'unit') for 'name (unit)' / 'name [unit]', else ('', '')."""
+    s = low.rstrip()
+    if not s.endswith((")", "]")):
+        return "", ""
+    starts = [i for i in (s.find("("), s.find("[")) if 0 <= i < len(s) - 1]
+    if not starts:
+        return "", ""
+    i = min(starts)
+    return s[:i].rstrip(), s[i + 1:-1]
+
+
+def _unit_word_at(low: str, p: int) -> bool:
+    """True when a unit word (mpa, cal, j/..., j cm...) starts at ``p``."""
+    if low.startswith(("mpa", "cal"), p):
+        return True
+    if low[p] != "j":
+        return False
+    q = p + 1
+    while q < len(low) and low[q].isspace():
+        q += 1
+    return low.startswith(("/", "cm"), q)
+
+
+def _trailing_unit(low: str) -> tuple[str, str]:
+    """('name', 'unit') for 'name mpa½' / 'name / j/cm³' / 'name, (cal...', else ('', '')."""
+    for p, ch in enumerate(low):
+        if ch in "mcj" and _unit_word_at(low, p):
+            break
+    else:
+        return "", ""
+    start = p  # walk back over '(' and the separator between name and unit
+    while start > 0 and low[start - 1].isspace():
+        start -= 1
+    if start > 0 and low[start - 1] == "(":
+        start -= 1
+    unit_start = start
+    while start > 0 and low[start - 1].isspace():
+        start -= 1
+    if start > 0 and low[start - 1] in "/,":
+        start -= 1
+    while start > 0 and low[start - 1].isspace():
+        start -= 1
+    return low[:start], low[unit_start:]
 
 
 def _simplify(raw: str) -> str:
@@ -675,15 +767,15 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list
         if key in COORDINATES and unit:
             u = unit.replace(" ", "")
             if "cal" in u:
-                raise InputError(f"column {name!r} is in (cal/cm³)½; solsphere works in "
+                raise InputError(f"column {clip(name)} is in (cal/cm³)½; solsphere works in "
                                  f"MPa½.", file=file, line=line, column=name,
                                  hint=f"multiply the values by {_CAL_TO_MPA} and rename the "
                                       f"column {key}")
             if not ("mpa" in u or "j/cm" in u or "j cm" in u):
-                warnings.append(f"{file}, line {line}: unit {unit!r} of column {name!r} not "
+                warnings.append(f"{file}, line {line}: unit {clip(unit)} of column {clip(name)} not "
                                 f"recognised; its values are read as MPa½")
         if key in seen:
-            raise InputError(f"columns {seen[key]!r} and {name!r} are both read as {key!r}.",
+            raise InputError(f"columns {clip(seen[key])} and {clip(name)} are both read as {clip(key)}.",
                              file=file, line=line, column=name,
                              hint="rename or delete one of them")
         seen[key] = name
@@ -695,15 +787,17 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list
         close = difflib.get_close_matches(_simplify(name), ["solvent", "outcome"], n=1,
                                           cutoff=0.7)
         if close and close[0] in missing:
-            raise InputError(f"column {name!r} is not a column solsphere knows; did you "
+            raise InputError(f"column {clip(name)} is not a column solsphere knows; did you "
                              f"mean {close[0]!r}?", file=file, line=line, column=name,
                              hint=f"rename the column to {close[0]}")
         near = difflib.get_close_matches(_simplify(name), list(known), n=1, cutoff=0.7)
         guess = f" (did you mean {known[near[0]]!r}?)" if near else ""
-        warnings.append(f"{file}, line {line}: column {name!r} ignored{guess}; solsphere "
+        warnings.append(f"{file}, line {line}: column {clip(name)} ignored{guess}; solsphere "
                         f"reads {', '.join(COLUMNS)}")
     if missing:
-        found = ", ".join(repr(c.strip()) for c in cells if c.strip()) or "nothing"
+        found = ", ".join(clip(c.strip(), 30) for c in cells[:8] if c.strip()) or "nothing"
+        if len(cells) > 8:
+            found += f" … ({len(cells)} cells)"
         if any(parse_outcome(c) for c in cells if c.strip()):
             msg = (f"the first line looks like data ({found}), not a header naming the "
                    f"columns.")
@@ -789,6 +883,7 @@ def _collect(records: Iterable, ctx: ReadContext, stored: list | None = None):
     trials: list[Trial] = []
     errors: list[InputError] = []
     seen: dict[tuple, Trial] = {}
+    repeats: dict[tuple, list[int]] = {}  # one warning per repeated solvent, with a count
     for i, (line, cells) in enumerate(records):
         if isinstance(cells, InputError):
             errors.append(cells)
@@ -805,14 +900,23 @@ def _collect(records: Iterable, ctx: ReadContext, stored: list | None = None):
             seen[key] = trial
             trials.append(trial)
         elif first.outcome == trial.outcome:
-            ctx.warn(line, f"{trial.name} repeats {ctx.unit} {first.line} with the same "
-                           f"outcome; kept {ctx.unit} {first.line} only")
+            repeats.setdefault(key, []).append(line)
         else:
             u = ctx.unit
             errors.append(ctx.error(
                 f"{trial.name} is listed twice with different outcomes: {u} {first.line} "
                 f"says {DISPLAY[first.outcome]}, {u} {line} says {DISPLAY[trial.outcome]}.",
                 line, "outcome", hint="re-test or keep one of the two rows"))
+    for key, lines in repeats.items():
+        first, u = seen[key], ctx.unit
+        if len(lines) == 1:
+            ctx.warn(lines[0], f"{clip(first.name, quote=False)} repeats {u} {first.line} with the same "
+                               f"outcome; kept {u} {first.line} only")
+        else:
+            shown = ", ".join(map(str, lines[:5])) + (", …" if len(lines) > 5 else "")
+            ctx.warn(lines[0], f"{clip(first.name, quote=False)} repeats {u} {first.line} with the same "
+                               f"outcome {len(lines)} times ({u}s {shown}); kept {u} "
+                               f"{first.line} only")
     return trials, errors
 
 
@@ -836,6 +940,10 @@ def _parse_row(cells: dict, line: int, ctx: ReadContext, stored=None):
         return None, errors
     text = " ".join(_text(cells.get("solvent")).split())
     note = _text(cells.get("note"))
+    if _has_surrogates(text) or _has_surrogates(note):
+        text, note = replace_surrogates(text), replace_surrogates(note)
+        ctx.warn(line, "a character that is not valid Unicode (a lone surrogate) was "
+                       "replaced by �")
     raw_outcome = cells.get("outcome")
     outcome = None
     if _empty(raw_outcome):
@@ -844,7 +952,7 @@ def _parse_row(cells: dict, line: int, ctx: ReadContext, stored=None):
     else:
         outcome = parse_outcome(raw_outcome)
         if outcome is None:
-            bad(f"{_text(raw_outcome)!r} is not an outcome solsphere knows.", "outcome",
+            bad(f"{clip(_text(raw_outcome))} is not an outcome solsphere knows.", "outcome",
                 f"write one of: {_outcome_hint()}")
     coords: dict[str, float] = {}
     given = [c for c in COORDINATES if not _empty(cells.get(c))]
@@ -885,6 +993,25 @@ def _parse_row(cells: dict, line: int, ctx: ReadContext, stored=None):
                  line=line, solvent=solvent), []
 
 
+def _has_surrogates(text: str) -> bool:
+    try:
+        text.encode("utf-8")
+    except UnicodeEncodeError:
+        return True
+    return False
+
+
+def replace_surrogates(text: str) -> str:
+    r"""``text`` with every lone surrogate (which no file can store) replaced by U+FFFD.
+
+    >>> replace_surrogates("note \ud800 end")
+    'note \ufffd end'
+    """
+    if not _has_surrogates(text):
+        return text
+    return "".join("\ufffd" if "\ud800" <= ch <= "\udfff" else ch for ch in text)
+
+
 def _fmt_point(p) -> str:
     return ", ".join(f"{v:.2f}" for v in p)
 
@@ -906,7 +1033,7 @@ def resolve_solvent(text: str, point, ctx: ReadContext, line: int, stored):
             return sol.name, point, "library" + _OVERRIDE, (), sol.cas, sol
         return sol.name, sol.point, "library", (), sol.cas, sol
     if not text.replace("+", "").strip():
-        raise ctx.error(f"{text!r} is not a solvent: a lone '+'.", line, "solvent",
+        raise ctx.error(f"{clip(text)} is not a solvent: a lone '+'.", line, "solvent",
                         "write a blend as 'toluene 70 + ethanol 30'")
     problem = None
     if len(_split_plus(text)) > 1:
@@ -922,16 +1049,16 @@ def resolve_solvent(text: str, point, ctx: ReadContext, line: int, stored):
             return name, bp, "blend", components, None, None
     if point is not None:
         if problem is not None:
-            ctx.warn(line, f"{text!r} read as your own solvent with the coordinates given, "
+            ctx.warn(line, f"{clip(text)} read as your own solvent with the coordinates given, "
                            f"not as a blend ({problem.message.rstrip('.')})")
         return text, point, "own", (), None, None
     if stored is not None:
         why = (f"no longer reads as a blend ({problem.message.rstrip('.')})" if problem
                else "is not in this library")
-        ctx.warn(line, f"{text!r} {why}; using the coordinates saved in the project "
+        ctx.warn(line, f"{clip(text)} {why}; using the coordinates saved in the project "
                        f"({_fmt_point(stored)})")
         return text, stored, "own", (), None, None
-    raise UnknownSolventError(text, _suggestions(lib, text), file=ctx.file, line=line,
+    raise UnknownSolventError(text, ctx.suggestions(text), file=ctx.file, line=line,
                               column="solvent")
 
 
@@ -1012,9 +1139,38 @@ def _split_plus(text: str) -> list[str]:
     return parts
 
 
-_NUM = r"-?(?:\d+(?:[.,]\d+)?|[.,]\d+)"
-_TRAIL = re.compile(rf"^(?P<name>.*\S)\s+(?P<num>{_NUM})\s*(?P<pct>%?)$")
-_LEAD = re.compile(rf"^(?P<num>{_NUM})\s*(?P<pct>%?)\s+(?P<name>\S.*)$")
+_NUM = re.compile(r"-?(?:\d+(?:[.,]\d+)?|[.,]\d+)")
+
+
+def _trail(piece: str) -> dict | None:
+    """Name and part of 'toluene 70' / 'toluene 70 %' (the part is the last word)."""
+    s, pct = piece.strip(), ""
+    if s.endswith("%"):
+        s, pct = s[:-1].rstrip(), "%"
+    words = s.rsplit(None, 1)
+    if len(words) != 2 or not _NUM.fullmatch(words[1]):
+        return None
+    return {"name": words[0], "num": words[1], "pct": pct}
+
+
+def _lead(piece: str) -> dict | None:
+    """Name and part of '70 toluene' / '70% toluene' (the part is the first word)."""
+    s = piece.strip()
+    m = _NUM.match(s)
+    if not m:
+        return None
+    rest = s[m.end():]
+    after = rest.lstrip()
+    if after.startswith("%") and after[1:2].isspace() and after[1:].strip():
+        return {"name": after[1:].strip(), "num": m.group(), "pct": "%"}
+    if rest[:1].isspace() and rest.strip():
+        return {"name": rest.strip(), "num": m.group(), "pct": ""}
+    return None
+
+
+#: Largest volume part of one blend component ('toluene 70 + ethanol 30'); parts are
+#: relative, so nothing real needs more (a larger number is a typing slip).
+MAX_BLEND_PART = 1e6
 
 
 def _parse_blend(text: str, ctx: ReadContext, line: int):
@@ -1023,11 +1179,11 @@ def _parse_blend(text: str, ctx: ReadContext, line: int):
     example = "write each component with its volume part: 'toluene 70 + ethanol 30'"
     pieces = [p.strip() for p in _split_plus(text)]
     if any(not p for p in pieces):
-        raise ctx.error(f"blend {text!r} has a '+' with nothing on one side.", line,
+        raise ctx.error(f"blend {clip(text)} has a '+' with nothing on one side.", line,
                         "solvent", example)
     comps = []
     for piece in pieces:
-        options = [m for m in (_TRAIL.match(piece), _LEAD.match(piece)) if m]
+        options = [m for m in (_trail(piece), _lead(piece)) if m]
         found = None
         for m in options:
             sol = lib.find(m["name"])
@@ -1036,24 +1192,29 @@ def _parse_blend(text: str, ctx: ReadContext, line: int):
                 break
         if found is None:
             if not options or lib.find(piece) is not None:
-                raise ctx.error(f"blend component {piece!r} has no volume part.", line,
+                raise ctx.error(f"blend component {clip(piece)} has no volume part.", line,
                                 "solvent", example)
             name = options[0]["name"]
-            err = UnknownSolventError(name, _suggestions(lib, name), file=ctx.file,
+            err = UnknownSolventError(name, ctx.suggestions(name), file=ctx.file,
                                       line=line, column="solvent",
                                       hint="every component of a blend must be a library "
                                            "solvent; or give the whole blend's own dD, dP, "
                                            "dH")
-            err.message = f"in blend {text!r}: {err.message}"
+            err.message = f"in blend {clip(text)}: {err.message}"
             err.args = (str(err),)
             raise err
         sol, m = found
         num = m["num"]
         if "," in num and not ctx.decimal_comma:
-            raise ctx.error(f"blend part {num!r} has a decimal comma, but this file "
+            raise ctx.error(f"blend part {clip(num)} has a decimal comma, but this file "
                             f"separates its columns with commas.", line, "solvent",
                             f"write {num.replace(',', '.')}")
         part = float(num.replace(",", "."))
+        if not part <= MAX_BLEND_PART:
+            raise ctx.error(f"blend part of {sol.name} is {clip(num, 20)}; volume parts "
+                            f"must be at most {MAX_BLEND_PART:g}.", line, "solvent",
+                            "give the parts as percentages or small whole numbers, "
+                            "e.g. 'toluene 70 + ethanol 30'")
         if not part > 0:
             raise ctx.error(f"blend part of {sol.name} is {part:g}; volume parts must be "
                             f"positive.", line, "solvent",
@@ -1063,12 +1224,12 @@ def _parse_blend(text: str, ctx: ReadContext, line: int):
     for n in names:
         if names.count(n) > 1:
             twice = next(c[0].name for c in comps if c[0].name.casefold() == n)
-            raise ctx.error(f"{twice} appears twice in blend {text!r}.", line, "solvent",
+            raise ctx.error(f"{twice} appears twice in blend {clip(text)}.", line, "solvent",
                             "give each solvent once, with its total volume part")
     parts = np.array([c[1] for c in comps])
     total = float(parts.sum())
     if any(c[2] for c in comps) and abs(total - 100.0) > 0.01:
-        ctx.warn(line, f"the parts of blend {text!r} are given in % but sum to {total:g}, "
+        ctx.warn(line, f"the parts of blend {clip(text)} are given in % but sum to {total:g}, "
                        f"not 100; read as volume parts")
     point = hsp.mix([c[0].point for c in comps], parts)
     fractions = parts / total

@@ -531,6 +531,34 @@ class SphereFitResult(FitResultBase):
         return "\n".join(out)
 
 
+#: Smallest radius reported as a sphere [MPa½]. A smaller fitted R0 means the results
+#: give the sphere no size (one point dissolves, or results that disagree share a
+#: point), and a RED against it would be meaningless (common practice, no source).
+MIN_R0 = 0.5
+
+
+def _degenerate(X: np.ndarray, good: np.ndarray, bad: np.ndarray, names, R0: float) -> str:
+    """Why the fit shrank to a point, for a FitError (one line)."""
+    G = np.unique(np.round(X[good], 6), axis=0)
+    for i in np.flatnonzero(bad):
+        same = np.flatnonzero(good & (np.abs(X - X[i]).max(axis=1) < 1e-6))
+        if len(same):
+            p = ", ".join(f"{v:.1f}" for v in X[i])
+            return (f"results at the same point ({p} MPa½) disagree: {names[same[0]]} "
+                    f"dissolves, {names[i]} does not, so no sphere separates them. Check "
+                    f"both results and their coordinates (a copied row?), and test more "
+                    f"solvents around that point.")
+    if len(G) == 1:
+        which = names[int(np.flatnonzero(good)[0])]
+        more = "" if good.sum() == 1 else " (all the results that dissolve sit at one point)"
+        return (f"only one point dissolves the material ({which}){more}: one point gives "
+                f"the sphere no size (the best fit shrinks to radius {R0:.2g} MPa½). Test "
+                f"solvents a few MPa½ from {which} to find how far solubility reaches.")
+    return (f"the results leave room only for a sphere of radius {R0:.2g} MPa½ (below "
+            f"{MIN_R0} MPa½): good and bad results lie almost on top of each other. Check "
+            f"the results and their coordinates.")
+
+
 @estimator
 class SphereModel(SphereEstimator):
     """Hansen sphere estimator (scikit-learn style).
@@ -590,6 +618,9 @@ class SphereModel(SphereEstimator):
             raise FitError(unboundable_message(n_cg, n_cb, n_partial, self.partial))
         box = search_box(self.bounds, P)
         c, ok, count, R0, D = _fit(P[use], g[use], w[use], box, self.seed)
+        if R0 < MIN_R0:
+            raise FitError(_degenerate(P[use], g[use] & (w[use] > 0), ~g[use] & (w[use] > 0),
+                                       [nm for nm, u in zip(names, use) if u], R0))
         Ra = ra(P, c)
         surf = np.abs(Ra - R0) <= SURFACE
         table = [dict(name=names[i], dD=float(P[i, 0]), dP=float(P[i, 1]), dH=float(P[i, 2]),

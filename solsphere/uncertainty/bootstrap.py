@@ -71,6 +71,7 @@ from typing import Callable
 
 import numpy as np
 
+from solsphere.limits import check_work
 from solsphere.errors import FitError
 from solsphere.formatting import warning_lines
 from solsphere.hansen import as_points, ra
@@ -462,6 +463,7 @@ def bootstrap(data, good=None, n_bootstrap: int = 1000, *, seed: int | None = 0,
     n_bootstrap = int(n_bootstrap)
     if n_bootstrap < 2:
         raise ValueError(f"n_bootstrap must be at least 2; found {n_bootstrap}")
+    check_work(n_bootstrap, len(data), "the bootstrap")
     t0 = time.perf_counter()
     rng = np.random.default_rng(seed)
     width = None
@@ -588,6 +590,17 @@ class Influence(Result):
         return "\n".join(out)
 
 
+#: Weights held at once by :func:`influence` (refits × trials): its memory stays linear
+#: in the number of trials.
+INFLUENCE_CELLS = 1_000_000
+
+
+def influence_refits(n: int, flips: bool = True) -> int:
+    """Refits :func:`influence` makes for ``n`` trials (at most; one per trial, two
+    with ``flips``)."""
+    return n * (2 if flips else 1)
+
+
 def influence(data, good=None, *, partial: str = "good", names=None, bounds=None,
               flips: bool = True, refit: str = "warm", n_jobs: int | None = None,
               progress: Progress | None = None) -> Influence:
@@ -611,25 +624,41 @@ def influence(data, good=None, *, partial: str = "good", names=None, bounds=None
         raise ValueError(f"refit must be 'warm' or 'full'; found {refit!r}")
     X, g, names, box = binary_data(data, good, partial, names, bounds)
     n = len(X)
+    check_work(influence_refits(n, flips), n, "the influence refits")
     c0, R00, _ = best_sphere(X, g, bounds=box, seed=0)
     misfit = (ra(X, c0) <= R00) != g
-    W, G, jobs = [], [], []
+    jobs = []
+    n_good = int(g.sum())
     for i in range(n):
-        w = np.ones(n)
-        w[i] = 0.0
-        if (g & (w > 0)).any() and (~g & (w > 0)).any():
-            W.append(w), G.append(g), jobs.append(("loo", i))
+        left = n_good - int(g[i])  # good results left without trial i
+        if 0 < left < n - 1:
+            jobs.append(("loo", i))
         if flips:
-            f = g.copy()
-            f[i] = ~f[i]
-            if f.any() and (~f).any():
-                W.append(np.ones(n)), G.append(f), jobs.append(("flip", i))
+            flipped = n_good + (-1 if g[i] else 1)
+            if 0 < flipped < n:
+                jobs.append(("flip", i))
     search = dict(WARM_SEARCH, start=c0[None, :]) if refit == "warm" else {}
-    if W:
-        cost = REFIT_COST_S["warm" if refit == "warm" else "full"] * (len(X) / 40.0)
-        C, R, _, _, _ = _run_refits(X, box, np.array(W), np.array(G),
-                                    np.arange(len(W)), search, n_jobs, progress, cost)
-    res = {job: (C[k], R[k]) for k, job in enumerate(jobs)}
+    res = {}
+    cost = REFIT_COST_S["warm" if refit == "warm" else "full"] * (len(X) / 40.0)
+    step = max(1, INFLUENCE_CELLS // max(n, 1))  # weights held at once: O(n) memory
+    for a in range(0, len(jobs), step):
+        part = jobs[a:a + step]
+        W = np.ones((len(part), n))
+        G = np.broadcast_to(g, (len(part), n)).copy()
+        for k, (kind, i) in enumerate(part):
+            if kind == "loo":
+                W[k, i] = 0.0
+            else:
+                G[k, i] = ~G[k, i]
+        done = a
+
+        def shifted(d, total, _a=done):
+            if progress is not None:
+                progress(_a + d, len(jobs))
+
+        C, R, _, _, _ = _run_refits(X, box, W, G, np.arange(a, a + len(part)), search,
+                                    n_jobs, shifted, cost)
+        res.update({job: (C[k], R[k]) for k, job in enumerate(part)})
     rows = []
     for i in range(n):
         row = {"name": names[i], "counted_as": "good" if g[i] else "bad",

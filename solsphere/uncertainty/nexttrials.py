@@ -60,6 +60,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.special import expit
 
+from solsphere.limits import check as check_limit
 from solsphere.hansen import ra
 from solsphere.library.table import hazard_flags, is_tested, tested_keys
 from solsphere.models.base import binary_data, search_box
@@ -326,6 +327,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
     -------
     Suggestions
     """
+    check_limit("samples", n_samples, "the sampled spheres")
     if uncertainty not in ("posterior", "bootstrap"):
         raise ValueError(f"uncertainty must be 'posterior' or 'bootstrap'; found "
                          f"{uncertainty!r}")

@@ -110,6 +110,7 @@ from emcee.autocorr import integrated_time
 from scipy.special import expit
 
 from solsphere.formatting import warning_lines
+from solsphere.limits import check_work
 from solsphere.hansen import SCALE, as_points, ra
 from solsphere.models.base import AXES, MIN_ADVISED, binary_data
 from solsphere.models.classic import desirability
@@ -578,6 +579,8 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     >>> p.centres.shape, sorted(p.intervals), p.effective_samples >= 200
     ((256, 3), ['R0', 'dD', 'dH', 'dP', 'width'], True)
     """
+    check_work(int(n_samples), len(data), "the posterior samples")
+
     if partial not in ("good", "bad", "skip"):
         raise ValueError(f"partial must be 'good', 'bad' or 'skip'; found {partial!r}")
     if not 0.0 < level < 1.0:
