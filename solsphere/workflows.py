@@ -278,6 +278,30 @@ def _share(text: str) -> tuple[str, str] | None:
     return (name.strip(), value.strip()) if name.strip() else None
 
 
+def _has_share(text: str) -> bool:
+    """True when ``text`` ends in a share after a name ("toluene=30%", "MEK 0.2")."""
+    parts = _share(text)
+    if not parts or not parts[0]:
+        return False
+    try:
+        float(parts[1].rstrip("%").strip())
+    except ValueError:
+        return False
+    return True
+
+
+def _limit_items(items) -> list[str]:
+    """The items of a limits text, split at commas, semicolons and new lines, except where
+    a comma belongs to a name: "1,2-dichlorobenzene=10%, toluene 30" is two items."""
+    out: list[str] = []
+    for piece in split_names(items):
+        if out and not _has_share(out[-1]):
+            out[-1] = f"{out[-1]},{piece}"
+        else:
+            out.append(piece)
+    return out
+
+
 def parse_fraction_limits(items, library, names: Iterable[str] = (),
                           setting: str = "max_fraction") -> dict[str, float]:
     """Per-solvent volume-fraction limits: ``"toluene=0.3"``, ``"toluene=30%"``,
@@ -291,6 +315,8 @@ def parse_fraction_limits(items, library, names: Iterable[str] = (),
     >>> lib = Library([Solvent("toluene", 18.0, 1.4, 2.0, cas="108-88-3")])
     >>> parse_fraction_limits(["toluene=30%"], lib), parse_fraction_limits("toluene 0.5", lib)
     ({'toluene': 0.3}, {'toluene': 0.5})
+    >>> _limit_items("1,2-dichlorobenzene=10%, toluene 30; MEK:0.2")
+    ['1,2-dichlorobenzene=10%', 'toluene 30', 'MEK:0.2']
 
     Raises
     ------
@@ -300,7 +326,7 @@ def parse_fraction_limits(items, library, names: Iterable[str] = (),
     """
     by_key = {n.casefold(): n for n in names}
     out: dict[str, float] = {}
-    for item in split_names(items):
+    for item in _limit_items(items):
         parts = _share(item)
         value = None
         if parts and parts[0]:
@@ -409,7 +435,7 @@ def design_blends(fit, library, *, components: int = 2, top: int = 20,
     check_temperature(pool_options.get("temperature"))
     check_limit("top", top, "the blend list")
     for text, setting in ((max_fraction, "max_fraction"), (min_fraction, "min_fraction")):
-        for item in split_names(text):
+        for item in _limit_items(text):
             if not (_share(item) or ("", ""))[0]:
                 parse_fraction_limits([item], library, (), setting)  # its message
     get = fit.get if isinstance(fit, dict) else lambda k: getattr(fit, k)

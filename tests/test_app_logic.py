@@ -591,3 +591,15 @@ def test_adding_a_suggestion_leaves_a_row_waiting_for_its_outcome(demo, lib):
     mark = [st for st in styles if st["if"].get("row_index") == n]
     assert mark and mark[0]["backgroundColor"] == "#fff3c4"
     assert "Waiting for the result" in tips[n]["outcome"]["value"]
+
+
+def test_share_limits_for_names_with_commas(demo_result, lib):
+    # "1,2-dichlorobenzene=10%" is one limit, not a bad item "1" and another
+    assert parse_fraction_limits("1,2-dichlorobenzene=10%, toluene 30", lib) == \
+        {"1,2-dichlorobenzene": 0.1, "toluene": 0.3}
+    out = blendlogic.blend_designer(demo_result, lib, components=3, top=10,
+                                    max_fraction="1,2-dichlorobenzene=10%")
+    assert out["blends"], out["message"]
+    for b in out["blends"]:
+        share = dict(zip(b["solvents"], b["volume_fractions"]))
+        assert share.get("1,2-dichlorobenzene", 0.0) <= 0.1 + 1e-9
