@@ -29,7 +29,7 @@ import numpy as np
 from solsphere.hansen import ra
 from solsphere.library.table import hazard_flags
 from solsphere.results import Result
-from solsphere.uncertainty.nexttrials import Suggestion, select_informative
+from solsphere.uncertainty.nexttrials import Suggestion, select_informative, suggestion_lines
 
 __all__ = ["StructurePlan", "plan_from_structure", "prior_spheres", "R0_RANGE"]
 
@@ -74,13 +74,7 @@ class StructurePlan(Result):
                f"centre {e.dD:.1f} ± {e.dD_u95:.1f}, {e.dP:.1f} ± {e.dP_u95:.1f}, "
                f"{e.dH:.1f} ± {e.dH_u95:.1f} MPa½, R0 {self.r0_range[0]:g}–"
                f"{self.r0_range[1]:g} MPa½)"]
-        for i, s in enumerate(self.suggestions, 1):
-            fp = "—" if s.flash_point is None else f"{s.flash_point:.0f} °C"
-            out.append(f"{i}. {s.name} ({s.dD:.1f}, {s.dP:.1f}, {s.dH:.1f}); p_good "
-                       f"{s.p_good:.2f}, flash point {fp}")
-            out.append(f"   {s.reason}")
-            if s.flags:
-                out.append(f"   flags: {'; '.join(s.flags)}")
+        out += suggestion_lines(self.suggestions, with_red=False)
         out += [f"note: {n}" for n in e.notes]
         out += [f"warning: {w}" for w in self.warnings]
         out.append(CAUTION)

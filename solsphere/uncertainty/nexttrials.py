@@ -104,6 +104,21 @@ class Suggestion:
                 "flags": list(self.flags)}
 
 
+def suggestion_lines(suggestions, with_red: bool = True) -> list[str]:
+    """The report lines of picked solvents: name and point, p_good (and RED), flash point,
+    the reason, the hazard flags."""
+    out = []
+    for i, s in enumerate(suggestions, 1):
+        fp = "—" if s.flash_point is None else f"{s.flash_point:.0f} °C"
+        red = f", RED {s.red:.2f}" if with_red else ""
+        out.append(f"{i}. {s.name} ({s.dD:.1f}, {s.dP:.1f}, {s.dH:.1f}); p_good "
+                   f"{s.p_good:.2f}{red}, flash point {fp}")
+        out.append(f"   {s.reason}")
+        if s.flags:
+            out.append(f"   flags: {'; '.join(s.flags)}")
+    return out
+
+
 @dataclass
 class Suggestions(Result):
     """Result of :func:`suggest_next`: the picks in order (the first is the best)."""
@@ -135,13 +150,7 @@ class Suggestions(Result):
     def __str__(self) -> str:
         out = [f"Next trials ({len(self.suggestions)} of {self.n_candidates} untried "
                f"candidates; from {self.n_samples} {_SOURCE[self.uncertainty]})"]
-        for i, s in enumerate(self.suggestions, 1):
-            fp = "—" if s.flash_point is None else f"{s.flash_point:.0f} °C"
-            out.append(f"{i}. {s.name} ({s.dD:.1f}, {s.dP:.1f}, {s.dH:.1f}); p_good "
-                       f"{s.p_good:.2f}, RED {s.red:.2f}, flash point {fp}")
-            out.append(f"   {s.reason}")
-            if s.flags:
-                out.append(f"   flags: {'; '.join(s.flags)}")
+        out += suggestion_lines(self.suggestions)
         out += [f"warning: {t}" for t in self.warnings]
         out.append(CAUTION)
         return "\n".join(out)
