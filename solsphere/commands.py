@@ -22,7 +22,7 @@ from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
 from solsphere.uncertainty.bootstrap import bootstrap, influence
 from solsphere.uncertainty.nexttrials import suggest_next
-from solsphere.uncertainty.posterior import sample_posterior
+from solsphere.uncertainty.posterior import MAX_SECONDS, sample_posterior
 from solsphere.workflows import candidate_pool, design_blends, find_replacements, fit_project
 
 
@@ -83,7 +83,8 @@ def _bootstrap(args, project, fit, n: int):
 def _posterior(args, project, fit, n: int):
     # the posterior's own prior (physically wide), not the classic fit's tested box
     return sample_posterior(project.trials, n_samples=n, seed=args.seed,
-                            partial=_binary_partial(fit))
+                            partial=_binary_partial(fit),
+                            max_seconds=getattr(args, "posterior_seconds", MAX_SECONDS))
 
 
 def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:

@@ -236,12 +236,15 @@ def separable_fit(points, good, box, weights=None):
                  b_ub=b_pair, bounds=[*zip(ylo, yhi), (None, 1.0)], method="highs")
     if lp.status != 0 or -lp.fun < -1e-12:
         return None
-    # Convex QP in x = (y, s): minimise |y|^2 + s subject to
-    #   goods: -2 y.g_i + |g_i|^2 - s <= 0;  pairs: A_pair y - b_pair <= 0;  box.
-    gg = np.sum(G * G, axis=1)
+    # Convex QP in x = (y, s), R0^2 = s + |y|^2: minimise |y|^2 + s subject to
+    #   goods: -2 y.g_i + |g_i|^2 - s <= 0;  bads: 2 y.b_k - |b_k|^2 + s <= 0;  box.
+    # (The same feasible centres as the pairs above: some s lies between every good's
+    # and every bad's |p|^2 - 2 y.p exactly when each pair is ordered; n_good + n_bad
+    # rows instead of n_good * n_bad keep SLSQP fast.)
+    gg, bb = np.sum(G * G, axis=1), np.sum(B * B, axis=1)
     A = np.vstack([np.column_stack([-2.0 * G / scale, -np.ones(len(G)) / scale]),
-                   np.column_stack([A_pair, np.zeros(len(D))])])
-    rhs = np.r_[-gg / scale, b_pair]  # constraints: A x <= rhs
+                   np.column_stack([2.0 * B / scale, np.ones(len(B)) / scale])])
+    rhs = np.r_[-gg / scale, bb / scale]  # constraints: A x <= rhs
 
     def f(x):
         return (x[:3] @ x[:3] + x[3]) / scale, np.r_[2.0 * x[:3], 1.0] / scale

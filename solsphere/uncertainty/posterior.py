@@ -58,7 +58,8 @@ rule of thumb of emcee's documentation for a trustworthy τ) and hold at least
 ``n_effective`` effective samples, ESS = steps × walkers / τ, with τ the largest
 integrated autocorrelation time over the five parameters (estimated with
 ``emcee.autocorr.integrated_time``, Sokal's automated window, c = 5 [3]_). When the
-step limit comes first a warning says so. The 95 % intervals are percentiles of the
+step limit (``max_steps``, 30,000) or the time limit (``max_seconds``, 60 s) comes
+first a warning says so and gives the effective samples reached. The 95 % intervals are percentiles of the
 whole kept chain (equal-tailed credible intervals [1]_); ``n_samples`` spheres evenly
 spread over it are kept for plotting, ranking and next trials.
 
@@ -119,7 +120,7 @@ from solsphere.models.guidance import GREEK, pinning_advice
 from solsphere.uncertainty.bootstrap import SampledSpheres, percentile_intervals
 
 __all__ = ["Posterior", "sample_posterior", "log_posterior", "PRIOR_BOX", "R0_MAX",
-           "autocorr_time"]
+           "MAX_SECONDS", "autocorr_time"]
 
 _S2 = SCALE ** 2
 _KEYS = (*AXES, "R0", "width")
@@ -142,6 +143,9 @@ R0_POWER = 1.0
 #: large sphere, and the R0 and width intervals missed the truth in the calibration
 #: campaign's panels with a flipped result.
 LAPSE = 0.02
+#: Default time limit of the sampling [s]: on this two-core machine the demo converges in
+#: about 2-3 s and the slowest invented calibration panel took minutes.
+MAX_SECONDS = 60.0
 #: Limits of the log-uniform prior on the width w [MPa½].
 MIN_WIDTH, MAX_WIDTH = 0.01, 10.0
 #: A chain shorter than this many autocorrelation times is not trusted (the rule of
@@ -255,6 +259,8 @@ class Posterior(SampledSpheres):
         parameter.
     converged : bool
         The chain reached ``TAU_MULTIPLE`` τ and the requested effective samples.
+    stopped_by : {"converged", "steps", "time"}
+        What ended the sampling (the step limit or the time limit: not converged).
     bounds : list
         The flat prior's box for the centre; ``tested_box`` the tested solvents' box.
     """
@@ -288,6 +294,7 @@ class Posterior(SampledSpheres):
     autocorr_time: float | None = None
     autocorr_times: dict = field(default_factory=dict)
     converged: bool | None = None
+    stopped_by: str | None = None
     burn: int = 0
     n_effective: int | None = None
     tested_box: list | None = None
@@ -331,7 +338,7 @@ class Posterior(SampledSpheres):
              "n_effective": self.n_effective,
              "autocorr_time": self.autocorr_time,
              "autocorr_times": dict(self.autocorr_times), "converged": self.converged,
-             "elapsed": self.elapsed,
+             "stopped_by": self.stopped_by, "elapsed": self.elapsed,
              "trials": [{"name": n, "counted_as": "good" if g else "bad", "p_good": p}
                         for n, g, p in zip(self.names, self.good, self.trial_p_good)],
              "warnings": list(self.warnings)}
@@ -369,7 +376,7 @@ class Posterior(SampledSpheres):
                    autocorr_time=num("autocorr_time"),
                    autocorr_times={k: float(v) for k, v in
                                    (d.get("autocorr_times") or {}).items()},
-                   converged=d.get("converged"), burn=int(d.get("burn", 0)),
+                   converged=d.get("converged"), stopped_by=d.get("stopped_by"), burn=int(d.get("burn", 0)),
                    n_effective=d.get("n_effective"), tested_box=d.get("tested_box"),
                    prior=dict(d.get("prior") or {}), elapsed=float(d.get("elapsed", 0.0)))
 
@@ -378,6 +385,7 @@ class Posterior(SampledSpheres):
         if self.autocorr_time is not None:
             chain += (f"τ {self.autocorr_time:.0f} steps, {self.effective_samples:.0f} "
                       f"effective samples ({'converged' if self.converged else 'NOT converged'}"
+                      f"{'' if self.converged or not self.stopped_by else ': ' + self.stopped_by + ' limit'}"
                       f"), {self.elapsed:.1f} s")
         out = ["[[Posterior]]",
                f"    samples    = {self.n_samples} spheres kept ({self.n_walkers} walkers, "
@@ -450,14 +458,18 @@ def _de_steps(logp, T, L, steps, rng):
 
 
 def _run_until_converged(logp, start, rng, n_effective, n_samples, max_steps, chunk=400,
-                         min_burn=100):
-    """Run the ensemble in chunks until converged (see the module doc).
+                         min_burn=100, max_seconds=None, t0=None):
+    """Run the ensemble in chunks until converged (see the module doc), or until
+    ``max_steps`` steps or ``max_seconds`` seconds (each chunk after the first is cut to
+    the time left, at the speed measured so far).
 
     Returns the kept chain (steps, K, dim), the burn-in, τ per parameter, the ESS, the
-    acceptance fraction, the total steps and whether it converged.
+    acceptance fraction, the total steps, whether it converged and what stopped it
+    ("converged", "steps" or "time").
     """
     T = np.array(start, dtype=float)
     K, dim = T.shape
+    t0 = time.perf_counter() if t0 is None else t0  # the caller's start: its set-up counts
     L = logp(T)
     parts, accepted, total, steps = [], 0, 0, chunk
     while True:
@@ -474,11 +486,16 @@ def _run_until_converged(logp, start, rng, n_effective, n_samples, max_steps, ch
         ess = len(kept) * K / tmax
         done = (len(kept) >= TAU_MULTIPLE * tmax and ess >= n_effective
                 and len(kept) * K >= n_samples)
-        if done or total >= max_steps:
-            return kept, burn, tau, ess, accepted / (total * K), total, done
+        spent = time.perf_counter() - t0
+        left = np.inf if max_seconds is None else max_seconds - spent
+        stop = ("converged" if done else "steps" if total >= max_steps else
+                "time" if left < 100 * spent / total else None)
+        if stop:
+            return kept, burn, tau, ess, accepted / (total * K), total, done, stop
         need = max(TAU_MULTIPLE * tmax, n_effective * tmax / K, n_samples / K)
         more = int(np.ceil(1.2 * (need - len(kept)))) + 3 * int(np.ceil(tmax))
-        steps = int(np.clip(more, 200, max_steps - total))
+        by_time = max(1, int(left / (spent / total))) if np.isfinite(left) else max_steps
+        steps = int(min(np.clip(more, 200, max_steps - total), max(100, by_time)))
 
 
 def _cannot_place(Cflat, R, intervals, prior_lo, prior_hi, X, centre) -> list[str]:
@@ -529,7 +546,8 @@ def _cannot_place(Cflat, R, intervals, prior_lo, prior_hi, X, centre) -> list[st
 def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None = 0,
                      partial: str = "good", names=None, bounds=None, level: float = 0.95,
                      n_effective: int = 1000, n_walkers: int = 32, burn: int = 100,
-                     max_steps: int = 30000, min_width: float = MIN_WIDTH,
+                     max_steps: int = 30000, max_seconds: float | None = MAX_SECONDS,
+                     min_width: float = MIN_WIDTH,
                      max_width: float = MAX_WIDTH, r0_max: float = R0_MAX,
                      width_prior: float = 1.0, prior_strength: float = 0.0,
                      lapse: float = LAPSE) -> Posterior:
@@ -558,6 +576,10 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
         Least burn-in [steps] (the chain discards max(burn, 3 τ)).
     max_steps : int, default=30000
         Step limit; reaching it first gives a warning.
+    max_seconds : float or None, default=60.0
+        Time limit of the sampling [s] (None: no limit); reaching it first gives a
+        warning with the effective samples reached. The chain stops between chunks, so
+        the limit may be passed by the time of about 100 steps.
     min_width, max_width : float, default=0.01, 10.0
         Limits of the log-uniform prior on the width w [MPa½].
     r0_max : float, default=25.0
@@ -596,6 +618,8 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
                          f"{burn}, {n_effective}, {max_steps}")
     if not 0 < min_width < max_width:
         raise ValueError(f"need 0 < min_width < max_width; found {min_width}, {max_width}")
+    if max_seconds is not None and not max_seconds > 0:
+        raise ValueError(f"max_seconds must be positive (or None); found {max_seconds}")
     if not 0.0 <= lapse < 0.5:
         raise ValueError(f"lapse must be in [0, 0.5); found {lapse}")
     t0 = time.perf_counter()
@@ -621,8 +645,9 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
     start[:, 4] = np.minimum(start[:, 4], np.log(0.9 * start[:, 3] / CENTRE_Z))
     start = np.clip(start, lo + 1e-9, hi - 1e-9)
     logp = lambda T: log_posterior(T, X, g, lo, hi, prior, lapse, R0_POWER)  # noqa: E731
-    kept, burn_used, tau, ess, acc, total, done = _run_until_converged(
-        logp, start, rng, n_effective, n_samples, max(max_steps, burn + 200), min_burn=burn)
+    kept, burn_used, tau, ess, acc, total, done, stop = _run_until_converged(
+        logp, start, rng, n_effective, n_samples, max(max_steps, burn + 200), min_burn=burn,
+        max_seconds=max_seconds, t0=t0)
     flat = kept.reshape(-1, 5)
     pick = np.unique(np.linspace(0, len(flat) - 1, n_samples).round().astype(int))
     S = flat[pick]
@@ -635,10 +660,13 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
                      f"may not have spread over every plausible sphere.")
     tmax = float(tau.max())
     if not done:
-        notes.append(f"The chain stopped at its limit of {total} steps before it converged "
+        limit = (f"its limit of {total} steps" if stop == "steps" else
+                 f"its time limit of {max_seconds:g} s ({total} steps)")
+        notes.append(f"The chain stopped at {limit} before it converged "
                      f"(autocorrelation time {tmax:.0f} steps, {ess:.0f} effective samples "
                      f"of {n_effective} asked, {len(kept) / tmax:.0f} τ of {TAU_MULTIPLE} "
-                     f"needed): treat the intervals as rough.")
+                     f"needed): treat the intervals (dD, dP, dH, R0, width) as rough, or "
+                     f"sample longer.")
     for k, m in (("good", int(g.sum())), ("bad", int((~g).sum()))):
         if m < MIN_ADVISED:
             out = f"Only {m} result{'s count' if m != 1 else ' counts'} as {k}"
@@ -657,7 +685,7 @@ def sample_posterior(data, good=None, n_samples: int = 1000, *, seed: int | None
                      warnings=notes, effective_samples=float(ess), autocorr_time=tmax,
                      autocorr_times={k: float(t) for k, t in zip(("dD", "dP", "dH", "R0",
                                                                   "ln_width"), tau)},
-                     converged=bool(done), burn=int(burn_used), n_effective=n_effective,
+                     converged=bool(done), stopped_by=stop, burn=int(burn_used), n_effective=n_effective,
                      tested_box=tested.tolist(),
                      prior={"R0_max": float(r0_max), "min_width": float(min_width),
                             "lapse": float(lapse), "R0": "log-uniform",
