@@ -83,8 +83,8 @@ def test_curated_files_are_pinned():
 
 
 PINNED = {
-    "working_solvents.csv": "1e30b6ec847f95a4",
-    "curated_solvents.csv": "9f450006362b9e94",
+    "working_solvents.csv": "b9d512b9bbd5f18f",
+    "curated_solvents.csv": "b23db264eb631831",
     "hazard_listings.csv": "0be9cce4fc2f7e6c",
     "health_hazards.csv": "a0a1ab80f60f13c0",
     "aliases.csv": "e97bd5d28b8fcb0c",
