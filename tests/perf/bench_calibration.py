@@ -13,7 +13,9 @@ is flipped (an outlier the model does not generate). Panels with fewer than two 
 two bad results are redrawn (counted).
 
 For each panel the posterior (:func:`solsphere.uncertainty.posterior.sample_posterior`,
-defaults) and the classic bootstrap (200 warm resamples) give 95 % intervals; the script
+defaults), the classic bootstrap (200 warm resamples; also scored with the basic,
+reflected interval of the same resamples) and the graded bootstrap give 95 % intervals;
+each posterior miss and the three slowest panels are listed; the script
 prints per parameter the share of panels whose interval holds the truth, and of the
 misses the share that came with a warning naming the parameter (``dD``...) or any
 warning. Prints
