@@ -550,15 +550,41 @@ def drying_paths(blends) -> list[dict]:
 
 # ----------------------------------------------------------------------------- figures
 
+#: Heights of the map (and the RED ladder beside it) and of the 2D plane [px].
+MAP_HEIGHT = 520
+PLANE_HEIGHT = 380
+
+
 def figures_for(result: dict | None, library, show_untried: bool = True,
-                picked: list | None = None, blends: list | None = None, cloud=None):
-    """The 3D map and the three projections for the stored fit (plotly figures).
+                picked: list | None = None, blends: list | None = None, cloud=None,
+                plane: str = "dP-dH"):
+    """The 3D map, the RED ladder and the chosen 2D plane for the stored fit.
 
     ``blends`` are the clicked blends (their segment or triangle, and their drying path
     when they carry ``drying_points``); ``cloud`` the resampled sphere centres of a
-    bootstrap of the same results (shape (n, 3)), drawn faintly."""
+    bootstrap of the same results (shape (n, 3)), drawn faintly; ``plane`` a key of
+    :data:`solsphere.report.figures.PLANE_CHOICES`."""
     return (map_figure(result, library, show_untried, picked, blends, cloud),
-            planes_figure(result, blends))
+            ladder_figure(result), plane_figure(result, plane, blends))
+
+
+def ladder_figure(result: dict | None):
+    """The RED ladder of the stored fit (:func:`solsphere.report.figures.red_ladder`)."""
+    fit = (result or {}).get("fit")
+    if not fit:
+        return empty_figure("", height=MAP_HEIGHT)
+    return figures.red_ladder(fit, height=MAP_HEIGHT)
+
+
+def plane_figure(result: dict | None, choice: str = "dP-dH", blends: list | None = None):
+    """One 2D plane of the stored fit (:func:`solsphere.report.figures.plane`); an
+    unknown choice falls back to δP–δH."""
+    fit = (result or {}).get("fit")
+    if not fit:
+        return empty_figure("", height=PLANE_HEIGHT)
+    blends, _ = _current(fit, blends)
+    axes = figures.PLANE_CHOICES.get(choice, figures.PLANE_CHOICES["dP-dH"])
+    return figures.plane(fit, axes, blends=blends or None, height=PLANE_HEIGHT)
 
 
 def _current(fit: dict, blends, picked=None):
@@ -584,7 +610,8 @@ def map_figure(result: dict | None, library, show_untried: bool = True,
                                 tested=set(result.get("tested") or ()))
         untried = ranking.to_dict()["solvents"]
     return figures.map3d(fit, untried=untried, blends=blends or None,
-                         highlight=picked or None, show_untried=show_untried, height=560,
+                         highlight=picked or None, show_untried=show_untried,
+                         height=MAP_HEIGHT,
                          paths=drying_paths(blends) or None,
                          cloud=cloud if cloud else None)
 

@@ -1,10 +1,14 @@
-"""'Sphere' panel: the fit's numbers, misfits and warnings, the 3D map and the three
-2D projections. Always visible beside the other screens."""
+"""'Sphere' panel: the fit's numbers, misfits and warnings; the 3D map with the RED
+ladder beside it (every tested solvent on a RED axis, by outcome, the boundary at RED 1,
+misfits ringed); one 2D plane at a time, chosen by the user. Always visible beside the
+other screens."""
 
 from __future__ import annotations
 
 from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
+
+from solsphere.report.figures import PLANE_CHOICES, plane_label
 
 from . import ids, logic, uncertainty
 
@@ -44,10 +48,22 @@ def panel(partial: str):
             html.Span(id="boot-running", className="running"),
         ]),
         html.Div(id="boot-status", className="boot-status"),
-        dcc.Graph(id="map3d", config=GRAPH_CONFIG, className="map3d",
-                  figure=logic.empty_figure("Waiting for results…")),
-        dcc.Graph(id="planes", config=GRAPH_CONFIG, className="planes",
-                  figure=logic.empty_figure("", height=300)),
+        html.Div(className="map-row", children=[
+            dcc.Graph(id="map3d", config=GRAPH_CONFIG, className="map3d",
+                      figure=logic.empty_figure("Waiting for results…")),
+            dcc.Graph(id="ladder", config=GRAPH_CONFIG, className="ladder",
+                      figure=logic.empty_figure("", height=logic.MAP_HEIGHT)),
+        ]),
+        html.Div(className="plane-bar", children=[
+            html.Span("Plane", className="ctl-label"),
+            dcc.RadioItems(id="plane-choice", value="dP-dH", inline=True, className="radio",
+                           options=[{"label": plane_label(v), "value": k}
+                                    for k, v in PLANE_CHOICES.items()]),
+            html.Span("one 2D view of Hansen space at a time; the outline is the sphere's "
+                      "cut through its centre", className="muted small"),
+        ]),
+        dcc.Graph(id="plane", config=GRAPH_CONFIG, className="plane",
+                  figure=logic.empty_figure("", height=logic.PLANE_HEIGHT)),
     ])
 
 
@@ -113,18 +129,26 @@ def register(app, get_library):
             raise PreventUpdate
         return uncertainty.run_bootstrap(result, n_resamples, method or "classic")
 
-    @app.callback(Output("map3d", "figure"), Output("planes", "figure"),
+    @app.callback(Output("map3d", "figure"),
                   Input(ids.FIT, "data"), Input("show-untried", "value"),
                   Input(ids.PICKED, "data"), Input(ids.BLEND, "data"),
                   Input(ids.BOOT, "data"), Input("show-cloud", "value"))
     def draw(result, untried, picked, blend, boot, show_cloud):
-        # one callback for both figures: measured faster than two (they would compete
-        # for the server's CPU and double the round trips)
         if result is None:
             raise PreventUpdate
         cloud = uncertainty.cloud(boot, result.get("fit")) if show_cloud else None
-        return logic.figures_for(result, get_library(), show_untried=bool(untried),
-                                 picked=picked, blends=blend, cloud=cloud)
+        return logic.map_figure(result, get_library(), show_untried=bool(untried),
+                                picked=picked, blends=blend, cloud=cloud)
+
+    @app.callback(Output("ladder", "figure"), Output("plane", "figure"),
+                  Input(ids.FIT, "data"), Input(ids.BLEND, "data"),
+                  Input("plane-choice", "value"))
+    def draw_2d(result, blend, choice):
+        # its own callback: choosing a plane never redraws the 3D map
+        if result is None:
+            raise PreventUpdate
+        return (logic.ladder_figure(result),
+                logic.plane_figure(result, choice or "dP-dH", blend))
 
 
 def boot_status(result, boot):

@@ -250,20 +250,24 @@ def test_blend_designer_ticked_and_shelf_pools(demo_result, lib):
 
 def test_figures_draw_the_stored_fit(demo_result, lib):
     blend = blendlogic.blend_designer(demo_result, lib, top=1)["blends"]
-    fig3, fig2 = logic.figures_for(demo_result, lib, show_untried=True,
+    fig3, ladder, plane = logic.figures_for(demo_result, lib, show_untried=True,
                                    picked=[{"name": "anisole", "dD": 17.8, "dP": 4.1,
                                             "dH": 6.7}], blends=blend)
     names = [t.name for t in fig3.data]
     assert {"sphere", "untried", "dissolves", "does not", "blend segments", "picked"} <= set(names)
+    assert {"dissolves", "does not", "RED 1 (boundary)"} <= {t.name for t in ladder.data}
+    assert "blends" in {t.name for t in plane.data} and plane.layout.title.text == "δP–δH"
+    _, _, other = logic.figures_for(demo_result, lib, plane="dD-dH")
+    assert other.layout.title.text == "δD–δH"
     seg = next(t for t in fig3.data if t.name == "blend segments")
     assert list(seg.x[:2]) == [blend[0]["component_points"][0][0], blend[0]["component_points"][1][0]]
-    fig3, _ = logic.figures_for(demo_result, lib, show_untried=False)
+    fig3, *_ = logic.figures_for(demo_result, lib, show_untried=False)
     assert "untried" not in [t.name for t in fig3.data]
     # after a refit the old blend's best mix no longer applies: it is not drawn
     stale = [dict(blend[0], for_fit=[0.0, 0.0, 0.0, 1.0])]
-    fig3, _ = logic.figures_for(demo_result, lib, blends=stale)
+    fig3, *_ = logic.figures_for(demo_result, lib, blends=stale)
     assert "blend segments" not in [t.name for t in fig3.data]
-    empty3, _ = logic.figures_for({"fit": None, "fit_error": "No results"}, lib)
+    empty3, *_ = logic.figures_for({"fit": None, "fit_error": "No results"}, lib)
     assert "No results" in empty3.layout.annotations[0].text
 
 
@@ -336,7 +340,7 @@ def test_three_component_designer_is_the_triple_screen_of_the_shortlist(demo_res
         assert b["label"].count("%") == 3 and "triangle" in b["window_text"]
         assert b["drying_text"]  # a verdict for every row ("no data" when data are missing)
     # the map draws the triangle: three edges, each followed by a gap
-    fig3, _ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(out["blends"][0])])
+    fig3, *_ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(out["blends"][0])])
     seg = next(t for t in fig3.data if t.name == "blend segments")
     assert len(seg.x) == 9 and list(seg.x[2::3]) == [None] * 3
 
@@ -426,7 +430,7 @@ def test_drying_column_and_path_are_the_library_drying(demo_result, lib):
                                    "max_fraction_evaporated": 1.0}) == "stays inside to dryness"
     # the clicked blend's drying path is drawn on the map
     b = next(b for b in out["blends"] if b.get("drying_points"))
-    fig3, _ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(b)])
+    fig3, *_ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(b)])
     path = [t for t in fig3.data if (t.name or "").startswith("drying path")]
     assert len(path) == 1 and len(path[0].x) == len(b["drying_points"])
 

@@ -371,9 +371,12 @@ def plane(fit, axes=("dP", "dH"), blends: list[dict] | None = None, height: int 
                                                    p, bl.get("red"))],
                                  marker={"symbol": "circle-open", "color": BLEND, "size": 11,
                                          "line": {"width": 2}}))
-    fig.update_xaxes(title_text=AXIS[a], range=[lo[ia], hi[ia]], constrain="domain")
-    fig.update_yaxes(title_text=AXIS[b], range=[lo[ib], hi[ib]], constrain="domain",
-                     scaleanchor="x", scaleratio=0.5 if a == "dD" else 1.0)
+    # the ranges only grow (constrain="range") to keep the scale ratio: nothing is cut
+    fig.update_xaxes(title_text=AXIS[a], range=[lo[ia], hi[ia]], constrain="range",
+                     gridcolor="#eeeeee", zeroline=False)
+    fig.update_yaxes(title_text=AXIS[b], range=[lo[ib], hi[ib]], constrain="range",
+                     scaleanchor="x", scaleratio=0.5 if a == "dD" else 1.0,
+                     gridcolor="#eeeeee", zeroline=False)
     fig.update_layout(height=height, margin={"l": 50, "r": 10, "t": 30, "b": 40},
                       title={"text": plane_label((a, b)), "x": 0.5, "font": {"size": 14}},
                       plot_bgcolor="white", legend={"orientation": "h", "y": -0.2},
