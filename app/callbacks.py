@@ -8,7 +8,10 @@ values: no module-level state, so two browser tabs never see each other's data.
 
 from __future__ import annotations
 
-from . import bench, blends, nexttrials, replace, share, sphere, trynext
+from . import bench, blends, grids, nexttrials, replace, share, sphere, trynext
+
+#: Every recommendation grid (each has a CSV download button).
+GRIDS = ("shortlist", "blend-table", "replace-singles", "replace-pairs")
 
 
 def register_callbacks(app, get_library) -> None:
@@ -22,3 +25,4 @@ def register_callbacks(app, get_library) -> None:
     """
     for screen in (bench, sphere, trynext, nexttrials, blends, replace, share):
         screen.register(app, get_library)
+    grids.register_csv(app, GRIDS)

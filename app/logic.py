@@ -469,7 +469,7 @@ def fit_matches(saved: dict | None, fit: dict | None, tol: float = 1e-6) -> bool
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
               exclude: str | None = None, top: int = 30, bootstrap=None,
-              common_only: bool = True) -> dict:
+              common_only: bool = True, pool: str | None = None) -> dict:
     """Untried solvents nearest the sphere, with their safety facts.
 
     ``bootstrap`` (a :class:`solsphere.confidence.Bootstrap` of the same results) adds
@@ -500,8 +500,8 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                                        max_boiling_point=number_field(max_boiling_point),
                                        exclude_carcinogens=bool(no_carcinogens),
                                        liquid_only=bool(liquids_only),
-                                       pool="common" if common_only else "liquids")
-        if not liquids_only and not common_only:
+                                       pool=pool or ("working" if common_only else "all"))
+        if not liquids_only and (pool or ("working" if common_only else "all")) == "all":
             filters["pool"] = "all library solvents"
     except SolsphereError as exc:
         return {"rows": [], "message": str(exc), "caution": CAUTION}
@@ -518,9 +518,32 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                          twa_text=num(s.get("twa_ppm"), "{:.3g}"),
                          spread_text=num(s.get("spread"), "{:.1f}"),
                          p_text=num(s.get("p_good"), "{:.2f}"),
-                         flags_text="; ".join(s.get("flags") or [])))
+                         flags_text="; ".join(s.get("flags") or []),
+                         red_n=cell_number(s["red"], 2), p_n=cell_number(s.get("p_good"), 2),
+                         dD_n=cell_number(s["dD"], 1), dP_n=cell_number(s["dP"], 1),
+                         dH_n=cell_number(s["dH"], 1), bp_n=cell_number(s.get("boiling_point"), 0),
+                         fp_n=cell_number(s.get("flash_point"), 0),
+                         twa_n=cell_number(s.get("twa_ppm"), 1),
+                         spread_n=cell_number(s.get("spread"), 1)))
     msg = f"{len(rows)} nearest of {d['n_candidates']} untried candidates ({filters['pool']})."
     return {"rows": rows, "message": msg, "caution": CAUTION}
+
+
+def cell_number(x, digits: int = 1):
+    """A number for a table cell (rounded, so it sorts as a number), None when unknown.
+
+    >>> cell_number(12.345, 1), cell_number(None), cell_number(float("nan")), cell_number(7.6, 0)
+    (12.3, None, None, 8)
+    """
+    if x is None:
+        return None
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return None
+    if v != v:
+        return None
+    return round(v, digits) if digits else int(round(v))
 
 
 def number_field(x, field: str = "number"):

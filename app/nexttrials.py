@@ -55,19 +55,19 @@ def register(app, get_library):
                   State(ids.FIT, "data"), State("next-trials-n", "value"),
                   State("next-trials-samples", "value"), State("nt-min-fp", "value"),
                   State("nt-max-bp", "value"), State("nt-no-carc", "value"),
-                  State("nt-exclude", "value"), State("nt-common", "value"),
+                  State("nt-exclude", "value"), State("nt-pool", "value"),
                   prevent_initial_call=True,
                   running=[(Output("next-trials-button", "disabled"), True, False),
                            (Output("next-trials-running", "children"),
                             "Resampling and refitting… (a few seconds)", "")])
-    def compute(n, result, how_many, n_samples, min_fp, max_bp, no_carc, exclude, common):
+    def compute(n, result, how_many, n_samples, min_fp, max_bp, no_carc, exclude, pool):
         if not n:
             raise PreventUpdate
         return uncertainty.next_trials(result, get_library(), n=int(how_many or 5),
                                        n_samples=n_samples, min_flash_point=min_fp,
                                        max_boiling_point=max_bp,
                                        no_carcinogens=bool(no_carc), exclude=exclude,
-                                       pool="common" if common else "liquids")
+                                       pool=pool or "working")
 
     @app.callback(Output("next-trials-list", "children"), Output("recheck-list", "children"),
                   Output("next-trials-message", "children"), Output("add-all-next", "style"),
