@@ -10,10 +10,23 @@ from dash.exceptions import PreventUpdate
 
 from solsphere.report.figures import PLANE_CHOICES, plane_label
 
-from . import ids, logic, uncertainty
+from . import ids, jobs, logic, uncertainty
 
 GRAPH_CONFIG = {"displaylogo": False, "responsive": True,
                 "modeBarButtonsToRemove": ["sendDataToCloud"]}
+
+
+SHOW, HIDE = {}, {"display": "none"}
+
+
+def progress_box(prefix: str):
+    """A progress bar with its text and a cancel button (ids ``{prefix}-progress``,
+    ``{prefix}-progress-text``, ``{prefix}-cancel``), shown while a job runs."""
+    return html.Div(id=f"{prefix}-progress-box", className="progress-box", style=HIDE,
+                    children=[html.Progress(id=f"{prefix}-progress", value="0", max="100"),
+                              html.Span(id=f"{prefix}-progress-text", className="muted small"),
+                              html.Button("Cancel", id=f"{prefix}-cancel",
+                                          className="btn btn-quiet btn-small")])
 
 
 def panel(partial: str):
@@ -47,6 +60,7 @@ def panel(partial: str):
                           options=[{"label": "their centres on the map", "value": "on"}]),
             html.Span(id="boot-running", className="running"),
         ]),
+        progress_box("boot"),
         html.Div(id="boot-status", className="boot-status"),
         html.Div(className="map-row", children=[
             dcc.Graph(id="map3d", config=GRAPH_CONFIG, className="map3d",
@@ -119,15 +133,26 @@ def register(app, get_library):
 
     @app.callback(Output(ids.BOOT, "data"), Input("boot-button", "n_clicks"),
                   State(ids.FIT, "data"), State("boot-n", "value"), State("boot-method", "value"),
-                  prevent_initial_call=True,
+                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
                   running=[(Output("boot-button", "disabled"), True, False),
                            (Output("boot-running", "children"),
-                            "Computing the plausible spheres… (a few seconds)", "")])
-    def run_bootstrap(n, result, n_resamples, method):
-        """Its own callback, run only on the button: the refit on every edit stays fast."""
+                            "Computing the plausible spheres…", ""),
+                           (Output("boot-progress-box", "style"), SHOW, HIDE)],
+                  progress=[Output("boot-progress", "value"), Output("boot-progress-text",
+                                                                     "children")],
+                  progress_default=["0", ""],
+                  cancel=[Input("boot-cancel", "n_clicks")])
+    def run_bootstrap(set_progress, n, result, n_resamples, method):
+        """A background job, run only on the button: the refit on every edit stays fast,
+        and the page stays responsive meanwhile (progress bar, cancel button)."""
         if not n or not (result or {}).get("fit"):
             raise PreventUpdate
-        return uncertainty.run_bootstrap(result, n_resamples, method or "classic")
+        method = method or "classic"
+        if method == "posterior":  # the sampler reports no steps: an indefinite bar
+            set_progress((None, "sampling the posterior (no step count)…"))
+        return uncertainty.run_bootstrap(result, n_resamples, method,
+                                         progress=jobs.Reporter(set_progress,
+                                                                "resampled spheres"))
 
     @app.callback(Output("map3d", "figure"),
                   Input(ids.FIT, "data"), Input("show-untried", "value"),
