@@ -145,6 +145,7 @@ def panel(library):
         html.Ul(id="blend-notes", className="notes"),
         grid("blend-table", COLUMNS, page_size=10, csv_name="blends.csv"),
         html.Div(id="blend-detail", className="detail"),
+        dcc.Store(id="blend-key"),
         html.Button("Clear the blend from the map", id="clear-blend", className="btn btn-quiet"),
     ])
 
@@ -196,7 +197,8 @@ def register(app, get_library):
         text = files("solsphere.data").joinpath("restricted_example.csv").read_text("utf-8")
         return dict(content=text, filename="restricted_example.csv", type="text/csv")
 
-    @app.callback(Output("blend-table", "rowData"), Output("blend-message", "children"),
+    @app.callback(Output("blend-table", "rowData"), Output("blend-key", "data"),
+                  Output("blend-message", "children"),
                   Output("blend-caution", "children"),
                   Output("blend-detail", "children", allow_duplicate=True),
                   Output("blend-table", "columnDefs"), Output("blend-notes", "children"),
@@ -209,13 +211,20 @@ def register(app, get_library):
                   Input("blend-max-frac", "value"), Input("blend-min-frac", "value"),
                   Input("blend-temperature", "value"), Input("blend-rank", "value"),
                   Input("blend-top", "value"),
+                  State("blend-key", "data"),
                   prevent_initial_call="initial_duplicate")
     def update(result, tab, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
-               exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top):
+               exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top,
+               seen):
         if result is None or tab != "blends":
             raise PreventUpdate  # computed only while the screen is shown
+        key = logic.inputs_key(result, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa,
+                               no_carc, exclude, restricted, components, max_frac, min_frac,
+                               temperature, rank_by, top)
+        if key == seen:
+            raise PreventUpdate  # shown again with the same inputs: keep what it shows
         if pool == "shelf" and shelf and shelf.get("too_big"):
-            return ([], logic.too_big_message(shelf.get("filename"), shelf["too_big"]),
+            return ([], None, logic.too_big_message(shelf.get("filename"), shelf["too_big"]),
                     logic.caution_text(), None, columns(False), [])
         out = blendlogic.blend_designer(
             result, get_library(), pool_choice=pool, shelf=shelf, ticked=ticked,
@@ -224,7 +233,7 @@ def register(app, get_library):
             no_carcinogens=bool(no_carc), restricted=restricted,
             components=int(components or 2), max_fraction=max_frac, min_fraction=min_frac,
             temperature=temperature, rank_by=rank_by or DEFAULT_RANK, top=int(top or 15))
-        return (out["blends"], out["message"], out["caution"], None,
+        return (out["blends"], key, out["message"], out["caution"], None,
                 columns(out["has_price"]), [html.Li(n) for n in out["notes"]])
 
     @app.callback(Output(ids.BLEND, "data"), Output("blend-detail", "children"),

@@ -17,7 +17,9 @@ from __future__ import annotations
 
 import base64
 import binascii
+import hashlib
 import html
+import json
 import os
 import re
 import tempfile
@@ -34,7 +36,7 @@ from solsphere.io.project import Project, load_any, save
 from solsphere.io.trials import DISPLAY, parse_outcome
 from solsphere.report import figures
 from solsphere.report.share import share_page
-from solsphere.workflows import candidate_pool, fit_project
+from solsphere.workflows import candidate_pool, fit_project, resolved_names
 
 __all__ = ["split_names"]  # re-exported for the screens
 
@@ -57,14 +59,32 @@ def blank_row() -> dict:
 
 
 def rows_from_trials(trials) -> list[dict]:
-    """Table rows for a Trials object (outcomes in the display words)."""
+    """Table rows for a Trials object (outcomes in the display words).
+
+    Each row keeps the line of the file it came from (``line``, shown in the table's
+    'file line' column), so a warning about it names the same line as the command
+    line does for that file."""
     rows = []
-    for r in trials.to_rows():
+    for t, r in zip(trials, trials.to_rows()):
         row = {c: r.get(c) for c in COLUMNS}
         row["outcome"] = WORDS.get(row["outcome"], row["outcome"])
         row["note"] = row["note"] or None
+        if getattr(t, "line", None):
+            row["line"] = int(t.line)
         rows.append(row)
     return rows
+
+
+def with_file_lines(trials, rows) -> None:
+    """Give each validated trial the file line of its table row (``line``) where the
+    row came from a file: the fit's warnings then name the line the command line names
+    for the same file. Rows added in the app keep their table row number."""
+    for t in trials:
+        k = t.line - 1  # validate_rows numbers the table rows from 1
+        row = rows[k] if 0 <= k < len(rows) and isinstance(rows[k], dict) else {}
+        line = row.get("line")
+        if isinstance(line, int) and not isinstance(line, bool) and line > 0:
+            t.line = line
 
 
 def clean_rows(rows) -> list[dict]:
@@ -133,6 +153,8 @@ def compute_fit(rows, partial: str, library) -> dict:
            "tested": sorted({t.name for t in trials} | {t.cas for t in trials if t.cas}),
            "warnings": list(trials.warnings), "partial": partial,
            "n_rows": sum(1 for r in clean_rows(rows) if any(v not in (None, "") for v in r.values()))}
+    with_file_lines(trials, rows or [])
+    out["resolved"] = resolved_names(trials)  # "PM acetate → 1-methoxy-2-propyl acetate"
     if not len(trials):
         out["fit_error"] = ("No bench results yet: add a solvent and its outcome for each "
                             "trial (or open a results file, or the demo).")
@@ -162,6 +184,31 @@ def problem_dict(err: InputError) -> dict:
             "column": err.column if isinstance(err.column, str) else None,
             "message": message,
             "hint": err.hint, "suggestions": suggestions}
+
+
+def table_status(result: dict | None, source: str | None) -> str:
+    """The banner's line about the table as it is now (not as it was opened).
+
+    >>> table_status({"fit": {"n_trials": 36}, "problems": [{"pending": True}]}, "a.csv")
+    'Table now: 36 trials counted, 1 waiting for its outcome (the table started from a.csv)'
+    >>> table_status({"fit": None, "problems": []}, None)
+    'Table now: no trials counted yet'
+    """
+    result = result or {}
+    fit = result.get("fit") or {}
+    problems = result.get("problems") or []
+    waiting = sum(1 for p in problems if p.get("pending"))
+    bad = len(problems) - waiting
+    parts = [f"{fit.get('n_trials', 0)} trials counted" if fit else "no trials counted yet"]
+    if waiting:
+        parts.append(f"{waiting} waiting for its outcome" if waiting == 1 else
+                     f"{waiting} waiting for their outcomes")
+    if bad:
+        parts.append(f"{bad} cell{'s' if bad > 1 else ''} to fix")
+    text = "Table now: " + ", ".join(parts)
+    if source:
+        text += f" (the table started from {source})"
+    return text
 
 
 def centre_text(fit: dict) -> str:
@@ -198,7 +245,8 @@ def summary(result: dict | None) -> dict:
                        f"{fit['n_partial']} partly, {fit['n_bad']} do not; 'partly' counted "
                        f"{partial} ({fit['n_counted_good']} used as dissolving, "
                        f"{fit['n_counted_bad']} as not)"),
-            "misfits": misfits, "warnings": warnings + list(fit.get("warnings") or [])}
+            "misfits": misfits, "warnings": warnings + list(fit.get("warnings") or []),
+            "resolved": list(result.get("resolved") or [])}
 
 
 def table_marks(result: dict | None, n_rows: int) -> tuple[list, list, list[dict]]:
@@ -646,6 +694,17 @@ def planes_figure(result: dict | None, blends: list | None = None):
         return empty_figure("", height=300)
     blends, _ = _current(fit, blends)
     return figures.projections(fit, blends=blends or None, height=300)
+
+
+def inputs_key(*values) -> str:
+    """A short fingerprint of a screen's inputs: a screen shown again with the same
+    inputs keeps what it shows instead of computing it again (fast tab switches).
+
+    >>> inputs_key({"a": 1}, [2, 3]) == inputs_key({"a": 1}, [2, 3]) != inputs_key(1)
+    True
+    """
+    text = json.dumps(values, sort_keys=True, default=str, ensure_ascii=False)
+    return hashlib.sha1(text.encode("utf-8")).hexdigest()[:20]
 
 
 def fit_key(fit: dict | None) -> list | None:

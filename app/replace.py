@@ -8,7 +8,7 @@ from __future__ import annotations
 from dash import Input, Output, State, ctx, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import blendlogic, ids
+from . import blendlogic, ids, logic
 from .grids import clicked_row, column, grid
 from .share import caution_line
 from .trynext import filters, pool_selector
@@ -65,13 +65,15 @@ def panel():
         grid("replace-pairs", PAIR_COLUMNS, page_size=5, csv_name="replacement-pairs.csv"),
         html.Div(id="replace-detail", className="detail"),
         dcc.Store(id="replace-target"),
+        dcc.Store(id="replace-key"),
     ])
 
 
 def register(app, get_library):
     """Callbacks: the search and the click-to-map."""
 
-    @app.callback(Output("replace-singles", "rowData"), Output("replace-pairs", "rowData"),
+    @app.callback(Output("replace-singles", "rowData"), Output("replace-key", "data"),
+                  Output("replace-pairs", "rowData"),
                   Output("replace-message", "children"), Output("replace-caution", "children"),
                   Output("replace-target", "data"),
                   Output("replace-detail", "children", allow_duplicate=True),
@@ -81,18 +83,24 @@ def register(app, get_library):
                   Input("replace-min-fp", "value"), Input("replace-max-bp", "value"),
                   Input("replace-no-carc", "value"), Input("replace-exclude", "value"),
                   Input("replace-top", "value"), Input("replace-pool", "value"),
-                  Input("replace-allow-worse", "value"), prevent_initial_call=True)
+                  Input("replace-allow-worse", "value"),
+                  State("replace-key", "data"),
+                  prevent_initial_call=True)
     def search(_n, _submit, name, material, result, tab, min_fp, max_bp, no_carc, exclude, top,
-               pool, allow_worse):
+               pool, allow_worse, seen):
         if tab != "replace" or not (name or "").strip():
             raise PreventUpdate
+        key = logic.inputs_key(name, material, result if material else None, min_fp, max_bp,
+                               no_carc, exclude, top, pool, allow_worse)
+        if key == seen and ctx.triggered_id == ids.TABS:
+            raise PreventUpdate  # shown again with the same inputs: keep what it shows
         out = blendlogic.substitutes(result, get_library(), name, for_material=bool(material),
                                      exclude=exclude, min_flash_point=min_fp,
                                      max_boiling_point=max_bp, no_carcinogens=bool(no_carc),
                                      top=int(top or 10), pool=pool or "working",
                                      allow_worse=bool(allow_worse))
-        return (out["singles"], out["pairs"], out["message"], out["caution"], out["target"],
-                None)
+        return (out["singles"], key, out["pairs"], out["message"], out["caution"],
+                out["target"], None)
 
     @app.callback(Output(ids.PICKED, "data", allow_duplicate=True),
                   Output(ids.BLEND, "data", allow_duplicate=True),

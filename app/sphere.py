@@ -116,6 +116,9 @@ def summary_children(result, saved_fit, boot=None):
         else:
             out.append(html.P("No misfits: every counted result agrees with the sphere.",
                               className="muted"))
+    if s.get("resolved"):
+        out.append(html.P(["Names resolved: ", "; ".join(s["resolved"])], id="resolved-names",
+                          className="muted small"))
     if s["warnings"]:
         out.append(html.Ul([html.Li(w) for w in s["warnings"]], className="warnings"))
     return out

@@ -95,6 +95,7 @@ def panel():
         html.Div(id="next-message", className="message"),
         grid("shortlist", COLUMNS, csv_name="try-next.csv"),
         html.Div(id="next-detail", className="detail"),
+        dcc.Store(id="next-key"),
         html.Button("Clear picked solvents from the map", id="clear-picked",
                     className="btn btn-quiet"),
     ])
@@ -103,7 +104,8 @@ def panel():
 def register(app, get_library):
     """Callbacks: the shortlist and the click-to-map."""
 
-    @app.callback(Output("shortlist", "rowData"), Output("next-message", "children"),
+    @app.callback(Output("shortlist", "rowData"), Output("next-key", "data"),
+                  Output("next-message", "children"),
                   Output("next-caution", "children"),
                   Output("next-detail", "children", allow_duplicate=True),
                   Output("shortlist", "columnDefs"),
@@ -113,10 +115,15 @@ def register(app, get_library):
                   Input("next-max-bp", "value"), Input("next-no-carc", "value"),
                   Input("next-exclude", "value"), Input("next-top", "value"),
                   Input(ids.BOOT, "data"), Input("next-pool", "value"),
+                  State("next-key", "data"),
                   prevent_initial_call="initial_duplicate")
-    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot, pool):
+    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot, pool, seen):
         if result is None or tab != "next":
             raise PreventUpdate  # computed only while the screen is shown
+        key = logic.inputs_key(result, liquids, min_fp, max_bp, no_carc, exclude, top, boot,
+                               pool)
+        if key == seen:
+            raise PreventUpdate  # shown again with the same inputs: keep what it shows
         b = uncertainty.bootstrap_of(boot, result.get("fit"))
         out = logic.shortlist(result, get_library(), liquids_only=bool(liquids),
                               min_flash_point=min_fp, max_boiling_point=max_bp,
@@ -126,7 +133,7 @@ def register(app, get_library):
         note = (p_note(boot) if with_p else
                 "Press 'How sure?' beside the map for a p_good column (the share of "
                 "resampled spheres that contain each solvent).")
-        return (out["rows"], out["message"], out["caution"], None,
+        return (out["rows"], key, out["message"], out["caution"], None,
                 columns_with_p(with_p), note)
 
     @app.callback(Output(ids.PICKED, "data"), Output("next-detail", "children"),
