@@ -41,10 +41,15 @@ function(a, b, c) {
     var tick = function() {
         var now = cells();
         if (now.length > before || tries++ > 60) {
-            t.querySelectorAll('*').forEach(function(el) {
-                if (el.scrollHeight > el.clientHeight + 4) { el.scrollTop = el.scrollHeight; }
-            });
-            if (now.length) { now[now.length - 1].scrollIntoView({block: 'nearest'}); }
+            var show = function() {
+                t.querySelectorAll('.dt-table-container__row').forEach(function(el) {
+                    if (el.scrollHeight > el.clientHeight + 4) { el.scrollTop = el.scrollHeight; }
+                });
+                var last = cells();
+                if (last.length) { last[last.length - 1].scrollIntoView({block: 'nearest'}); }
+            };
+            show();
+            setTimeout(show, 400);  // again after the refit's marks redraw the table
         } else { setTimeout(tick, 50); }
     };
     setTimeout(tick, 50);
@@ -93,7 +98,7 @@ def results_table(rows):
             style_cell_conditional=[
                 {"if": {"column_id": c}, "width": w, "minWidth": w, "maxWidth": w}
                 for c, w in (("solvent", "185px"), ("outcome", "112px"), ("dD", "54px"),
-                             ("dP", "54px"), ("dH", "54px"), ("note", "130px"),
+                             ("dP", "54px"), ("dH", "54px"), ("note", "112px"),
                              ("line", "44px"))] + [
                 {"if": {"column_id": "line"}, "color": "#6b7275", "fontSize": "12px"}],
             style_header={"backgroundColor": "#eef2f0", "fontWeight": "600"},
