@@ -202,7 +202,7 @@ def register(app, get_library):
                   Output("blend-caution", "children"),
                   Output("blend-detail", "children", allow_duplicate=True),
                   Output("blend-table", "columnDefs"), Output("blend-notes", "children"),
-                  Input(ids.FIT, "data"), Input(ids.TABS, "value"), Input("blend-pool", "value"),
+                  Input(ids.FIT, "data"), Input(ids.SHOWN["blends"], "data"), Input("blend-pool", "value"),
                   Input(ids.SHELF_PAYLOAD, "data"), Input("blend-ticked", "value"),
                   Input("blend-min-fp", "value"), Input("blend-max-bp", "value"),
                   Input("blend-min-bp", "value"), Input("blend-min-twa", "value"),
@@ -211,11 +211,11 @@ def register(app, get_library):
                   Input("blend-max-frac", "value"), Input("blend-min-frac", "value"),
                   Input("blend-temperature", "value"), Input("blend-rank", "value"),
                   Input("blend-top", "value"),
-                  State("blend-key", "data"),
+                  State("blend-key", "data"), State(ids.TABS, "value"),
                   prevent_initial_call="initial_duplicate")
-    def update(result, tab, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
+    def update(result, _shown, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
                exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top,
-               seen):
+               seen, tab):
         if result is None or tab != "blends":
             raise PreventUpdate  # computed only while the screen is shown
         key = logic.inputs_key(result, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa,

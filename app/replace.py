@@ -79,20 +79,20 @@ def register(app, get_library):
                   Output("replace-detail", "children", allow_duplicate=True),
                   Input("replace-button", "n_clicks"), Input("replace-name", "n_submit"),
                   Input("replace-name", "value"), Input("replace-material", "value"),
-                  Input(ids.FIT, "data"), Input(ids.TABS, "value"),
+                  Input(ids.FIT, "data"), Input(ids.SHOWN["replace"], "data"),
                   Input("replace-min-fp", "value"), Input("replace-max-bp", "value"),
                   Input("replace-no-carc", "value"), Input("replace-exclude", "value"),
                   Input("replace-top", "value"), Input("replace-pool", "value"),
                   Input("replace-allow-worse", "value"),
-                  State("replace-key", "data"),
+                  State("replace-key", "data"), State(ids.TABS, "value"),
                   prevent_initial_call=True)
-    def search(_n, _submit, name, material, result, tab, min_fp, max_bp, no_carc, exclude, top,
-               pool, allow_worse, seen):
+    def search(_n, _submit, name, material, result, _shown, min_fp, max_bp, no_carc, exclude, top,
+               pool, allow_worse, seen, tab):
         if tab != "replace" or not (name or "").strip():
             raise PreventUpdate
         key = logic.inputs_key(name, material, result if material else None, min_fp, max_bp,
                                no_carc, exclude, top, pool, allow_worse)
-        if key == seen and ctx.triggered_id == ids.TABS:
+        if key == seen and ctx.triggered_id == ids.SHOWN["replace"]:
             raise PreventUpdate  # shown again with the same inputs: keep what it shows
         out = blendlogic.substitutes(result, get_library(), name, for_material=bool(material),
                                      exclude=exclude, min_flash_point=min_fp,

@@ -110,14 +110,15 @@ def register(app, get_library):
                   Output("next-detail", "children", allow_duplicate=True),
                   Output("shortlist", "columnDefs"),
                   Output("next-p-note", "children"),
-                  Input(ids.FIT, "data"), Input(ids.TABS, "value"),
+                  Input(ids.FIT, "data"), Input(ids.SHOWN["next"], "data"),
                   Input("next-liquids", "value"), Input("next-min-fp", "value"),
                   Input("next-max-bp", "value"), Input("next-no-carc", "value"),
                   Input("next-exclude", "value"), Input("next-top", "value"),
                   Input(ids.BOOT, "data"), Input("next-pool", "value"),
-                  State("next-key", "data"),
+                  State("next-key", "data"), State(ids.TABS, "value"),
                   prevent_initial_call="initial_duplicate")
-    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot, pool, seen):
+    def update(result, _shown, liquids, min_fp, max_bp, no_carc, exclude, top, boot, pool, seen,
+               tab):
         if result is None or tab != "next":
             raise PreventUpdate  # computed only while the screen is shown
         key = logic.inputs_key(result, liquids, min_fp, max_bp, no_carc, exclude, top, boot,
