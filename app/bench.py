@@ -49,7 +49,8 @@ function(a, b, c) {
                 if (last.length) { last[last.length - 1].scrollIntoView({block: 'nearest'}); }
             };
             show();
-            setTimeout(show, 400);  // again after the refit's marks redraw the table
+            // again after the refit's marks redraw the table (later on a busy machine)
+            [300, 800, 1600].forEach(function(ms) { setTimeout(show, ms); });
         } else { setTimeout(tick, 50); }
     };
     setTimeout(tick, 50);

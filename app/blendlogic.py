@@ -343,4 +343,4 @@ def versus_texts(versus: dict | None) -> dict:
     """
     v = versus or {}
     return {"vs_carc": v.get("carcinogen") or "—", "vs_repro": v.get("reprotoxic") or "—",
-            "vs_flam": v.get("flammability") or "—"}
+            "vs_tox": v.get("corrosive_toxic") or "—", "vs_flam": v.get("flammability") or "—"}

@@ -77,7 +77,10 @@ def grid(grid_id: str, columns: list[dict], page_size: int = 15, csv_name: str =
             dashGridOptions={"rowHeight": ROW_HEIGHT, "pagination": True, "paginationPageSize": page_size,
                              "paginationPageSizeSelector": False, "domLayout": "autoHeight",
                              "tooltipShowDelay": 0, "enableCellTextSelection": True,
-                             "suppressCellFocus": False},
+                             "suppressCellFocus": False,
+                             # every column drawn (small grids): filters, tests and
+                             # screen readers see all of them
+                             "suppressColumnVirtualisation": True},
             csvExportParams={"fileName": csv_name},
             style={"width": "100%"},
         ),

@@ -640,7 +640,7 @@ def test_pool_selector_and_allow_worse_reach_the_workflows(demo_result, lib):
     assert all(s["name"] in pool for s in working["singles"])
     assert any(s["name"] not in pool for s in everything["singles"])
     # never worse than NMP by default; 'allow worse' lifts the rule
-    assert all("worse" not in (s["vs_carc"], s["vs_repro"], s["vs_flam"])
+    assert all("worse" not in (s["vs_carc"], s["vs_repro"], s["vs_tox"], s["vs_flam"])
                for s in working["singles"])
     loose = blendlogic.substitutes(demo_result, lib, "NMP", top=40, pool="all", allow_worse=True)
     assert any("worse" in (s["vs_carc"], s["vs_repro"], s["vs_flam"]) for s in loose["singles"])

@@ -156,7 +156,7 @@ def test_edit_to_redraw_time_on_a_40_row_table(page, forty_rows_csv):
         new MutationObserver(() => { m.text = performance.now(); }).observe(
             document.getElementById('fit-summary'), {childList: true, subtree: true, characterData: true});
         document.querySelector('#map3d .js-plotly-plot').on('plotly_afterplot', () => { m.map = performance.now(); });
-        document.querySelector('#planes .js-plotly-plot').on('plotly_afterplot', () => { m.planes = performance.now(); });
+        document.querySelector('#plane .js-plotly-plot').on('plotly_afterplot', () => { m.planes = performance.now(); });
     }""")
 
     def measure(n=6):

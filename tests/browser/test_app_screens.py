@@ -183,7 +183,7 @@ def test_pool_selectors_allow_worse_and_resolved_names(page, artefacts):
     page.press("#replace-name", "Enter")
     page.wait_for_selector("#replace-message:has-text('NMP → 1-methyl-2-pyrrolidinone')")
     page.wait_for_selector("#replace-singles .ag-row[row-index='0']")
-    for col in ("vs_carc", "vs_repro", "vs_flam"):
+    for col in ("vs_carc", "vs_repro", "vs_tox", "vs_flam"):
         assert "worse" not in column_texts(page, "replace-singles", col)
     page.locator("#replace-pool label", has_text="all library liquids").click()
     page.wait_for_selector("#replace-message:has-text('all library liquids')")
@@ -196,7 +196,8 @@ def test_pool_selectors_allow_worse_and_resolved_names(page, artefacts):
     dl.value.save_as(path)
     rows = list(csv.DictReader(io.StringIO(path.read_text(encoding="utf-8-sig"))))
     assert len(rows) == 40
-    assert any("worse" in (r["carcinogen"], r["reprotoxic"], r["flammability"]) for r in rows)
+    assert any("worse" in (r["carcinogen"], r["reprotoxic"], r["corrosive / toxic"],
+                           r["flammability"]) for r in rows)
     page.screenshot(path=str(artefacts / "16-replace-allow-worse.png"), full_page=True)
     tab(page, "Blends")
     page.wait_for_selector("#blend-message:has-text('working solvents')")
@@ -224,7 +225,7 @@ def test_banner_follows_the_table_and_a_new_row_is_shown(page, artefacts):
         const r = last.getBoundingClientRect();
         const box = last.closest('.dt-table-container__row');  // the scrolled body
         const b = box.getBoundingClientRect();
-        return r.top >= b.top && r.bottom <= b.bottom && r.bottom <= window.innerHeight;
+        return r.top >= b.top && r.top + 10 <= b.bottom && r.top + 10 <= window.innerHeight;
     }""")
     page.screenshot(path=str(artefacts / "17-new-row-shown.png"))
     assert_clean_console(page)
