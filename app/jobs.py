@@ -66,7 +66,7 @@ class Reporter:
         self.set_progress = set_progress
         self.what = what
         self.start, self.stop = start, stop
-        self.last = 0.0
+        self.last = float("-inf")  # the first step is always reported
 
     def __call__(self, done: int, total: int) -> None:
         now = time.monotonic()
