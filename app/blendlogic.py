@@ -115,7 +115,7 @@ def _where(pool_choice: str, shelf, ticked, filters: dict) -> str:
 
 # ----------------------------------------------------------------------------- blends
 
-def blend_designer(result: dict | None, library, pool_choice: str = "working",
+def blend_designer(result: dict | None, library, pool_choice: str | None = None,
                    shelf: dict | None = None, ticked=None, exclude: str | None = None,
                    min_flash_point=None, max_boiling_point=None, min_boiling_point=None,
                    min_exposure_limit=None, no_carcinogens: bool = False,
@@ -128,10 +128,11 @@ def blend_designer(result: dict | None, library, pool_choice: str = "working",
 
     Parameters
     ----------
-    pool_choice : {"working", "all", "shelf", "ticked"}, default="working"
+    pool_choice : {"working", "all", "shelf", "ticked"} or None, default=None
         The curated working solvents, every library liquid (reagents included), the
         uploaded shelf file (``shelf`` = {"filename", "contents"}), or the ticked library
-        solvents (``ticked`` = names).
+        solvents (``ticked`` = names). None: the working solvents, or every library
+        liquid with ``common_only=False``.
     restricted : dict or None
         An uploaded list of restricted solvents ({"filename", "contents"}), left out.
     components : {2, 3}
