@@ -23,7 +23,7 @@ from .grids import clicked_row, column, grid
 #: flags) are columns, visible without a click.
 COLUMNS = [column("rank", "#", "number", width=55, pinned=True),
            column("label", "blend (volume %)", width=210, pinned=True, wrap=True),
-           column("red_n", "RED", "number", width=75),
+           column("red_n", "RED", "number", width=90),
            column("fp_n", "flash pt °C", "number",
                   tip="the blend's flash point by Liaw's model minus a safety margin"),
            column("flags_text", "flags", width=250, wrap=True,

@@ -33,7 +33,7 @@ def column(field: str, header: str, kind: str = "text", width: int | None = None
     kind : {"text", "number"}, default="text"
         Filter kind (numbers sort and filter as numbers).
     width : int or None
-        Width [px] (default 95 for numbers, 110 for text); the grid scrolls sideways.
+        Width [px] (default 110 for numbers, 115 for text); the grid scrolls sideways.
     wrap : bool, default=False
         Wrap long text over up to three lines; the whole text shows on hover.
     pinned : bool, default=False
@@ -48,7 +48,7 @@ def column(field: str, header: str, kind: str = "text", width: int | None = None
          "resizable": True}
     if kind == "number":
         c["type"] = "numericColumn"
-    c["width"] = width or (95 if kind == "number" else 110)
+    c["width"] = width or (110 if kind == "number" else 115)
     if wrap:  # a fixed row height (ROW_HEIGHT: three lines); the whole text on hover
         c.update(wrapText=True, cellClass="wrap-cell", tooltipField=field)
     if pinned:

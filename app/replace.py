@@ -17,7 +17,7 @@ _VS = "compared with the solvent replaced"
 SINGLE_COLUMNS = [column("name", "solvent", width=150, pinned=True, wrap=True),
                   column("Ra_n", "Ra to old", "number",
                          tip="Hansen distance to the solvent replaced (MPa½)"),
-                  column("red_n", "RED", "number", width=75), column("side_text", "side", width=75),
+                  column("red_n", "RED", "number", width=90), column("side_text", "side", width=75),
                   column("fp_n", "flash pt °C", "number"),
                   column("vs_carc", "carcinogen", width=100, tip=f"carcinogen class {_VS}"),
                   column("vs_repro", "reprotoxic", width=100,

@@ -13,7 +13,7 @@ from .share import caution_line
 #: The shortlist's columns: the hazard facts (flash point, exposure limit, flags) are
 #: columns of their own, visible without a click.
 COLUMNS = [column("name", "solvent", width=150, pinned=True, wrap=True),
-           column("red_n", "RED", "number", width=75,
+           column("red_n", "RED", "number", width=90,
                   tip="distance to the centre / R0; below 1 is predicted inside"),
            column("fp_n", "flash pt °C", "number", tip="flash point (estimates are marked in "
                                                        "the flags)"),
