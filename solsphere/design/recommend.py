@@ -15,9 +15,9 @@ from typing import Any, Sequence
 import numpy as np
 
 from solsphere import hansen as hsp
-from solsphere.design.ordering import (MAX_USES, ORDER_TEXT, diverse, order_pairs,
+from solsphere.design.ordering import (MAX_USES, ORDER_TEXT, checked_pick, order_pairs,
                                        pair_arrays, robustness_bin)
-from solsphere.design.pairs import BlendScreen, make_blend, miscibility_warning, pair_screen
+from solsphere.design.pairs import BlendScreen, make_blend, pair_screen
 from solsphere.design.ranking import CAUTION
 from solsphere.formatting import format_table
 from solsphere.library.hazards import ghs_category, is_listed
@@ -103,37 +103,6 @@ def _notes(a: Solvent, b: Solvent) -> list[str]:
     return out
 
 
-#: Most rounds of :func:`_checked_pick` (each checks the listed pairs not checked yet).
-_MAX_CHECK_ROUNDS = 25
-
-
-def _checked_pick(pool, res, arrays, priority, p_good, only_blends, names, top, max_uses):
-    """The listed pairs, with the one-phase step decided by the full phase test.
-
-    The ordering's one-phase step is first the vectorised Flory–Huggins estimate over
-    every pair (:func:`solsphere.design.ordering.pair_arrays`); the pairs that would be
-    listed are then checked over their whole composition range by
-    :func:`solsphere.design.pairs.miscibility_warning` (UNIFAC where groups exist, the
-    test behind the "may not mix" caution), so that a pair the caution flags (a
-    blend that may split while it dries) never ranks above pairs that mix. Re-ordered
-    until every listed pair has been checked (a few rounds; each check is cached).
-    """
-    checked: set[int] = set()
-    pick: list[int] = []
-    for _ in range(_MAX_CHECK_ROUNDS):
-        order = order_pairs(res, arrays, priority, p_good=p_good, only_blends=only_blends)
-        pick = diverse(order, lambda k: (names[res["i"][k]], names[res["j"][k]]), top,
-                       max_uses)
-        todo = [k for k in pick if k not in checked]
-        if not todo:
-            break
-        for k in todo:
-            checked.add(k)
-            split = miscibility_warning(pool[res["i"][k]], pool[res["j"][k]]) is not None
-            arrays["one_phase"][k] = not split
-    return pick
-
-
 def rank_pair_blends(pool: Sequence[Solvent], centre, R0: float, top: int = 10,
                      priority: str = "hazard", p_good_of=None, diverse_top: bool = True,
                      only_blends: bool = True, filters: dict | None = None,
@@ -171,9 +140,10 @@ def rank_pair_blends(pool: Sequence[Solvent], centre, R0: float, top: int = 10,
     if p_good_of is not None and len(res["i"]):
         x = pts[res["i"]] * res["phi"][:, None] + pts[res["j"]] * (1 - res["phi"][:, None])
         p_good = np.asarray(p_good_of(x), dtype=float)
-    names = [s.name for s in pool]
-    pick = _checked_pick(pool, res, arrays, priority, p_good, only_blends, names, top,
-                         MAX_USES if diverse_top else None)
+    pick = checked_pick(pool, res, arrays["one_phase"],
+                        lambda: order_pairs(res, arrays, priority, p_good=p_good,
+                                            only_blends=only_blends),
+                        top, MAX_USES if diverse_top else None)
     red_alone = hsp.ra(pts, c) / R0 if n else np.empty(0)
     blends, crit = [], []
     for k in pick:
