@@ -19,7 +19,7 @@ from solsphere.errors import FitError, SolsphereError
 from solsphere.formatting import num
 from solsphere.uncertainty import bootstrap as confidence
 from solsphere.uncertainty import nexttrials as nexttrial
-from solsphere.uncertainty.bootstrap import Bootstrap
+from solsphere.uncertainty.bootstrap import CLASSIC_CAVEAT, Bootstrap
 from solsphere.uncertainty.posterior import Posterior, sample_posterior
 from solsphere.workflows import candidate_pool
 
@@ -28,6 +28,9 @@ from .logic import number_field, split_names
 #: Resamples the app offers by default (fast: about 2 s for 35 trials here) and at most.
 DEFAULT_RESAMPLES = 200
 MAX_RESAMPLES = 2000
+#: Time limit of a posterior run in the app [s] (a background job, but one a user waits
+#: for; the run stops with a warning giving the effective samples reached).
+POSTERIOR_SECONDS = 30.0
 #: Seed of every bootstrap in the app (reproducible: the same results give the same
 #: intervals and suggestions).
 SEED = 0
@@ -95,7 +98,8 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
         if method == "posterior":
             b = sample_posterior(X, outcomes, max(n, MIN_SAMPLES), seed=seed,
                                  partial=partial if partial != "ordinal" else "good",
-                                 names=names)  # its own physically wide prior
+                                 names=names,  # its own physically wide prior
+                                 max_seconds=POSTERIOR_SECONDS)
         else:
             b = confidence.bootstrap(X, outcomes, n, seed=seed, method=method,
                                      partial=partial, names=names, bounds=fit.get("bounds"),
@@ -135,12 +139,14 @@ def interval_texts(store: dict | None, fit: dict | None) -> dict | None:
         lo, hi = iv[k]
         return f"{lo:.1f}–{hi:.1f}"
 
+    what = "stability range" if d["fit_method"] == "classic" else "interval"
     out = {"stale": False,
-           "centre": f"{pct} interval: δD {span('dD')}, δP {span('dP')}, δH {span('dH')}",
-           "R0": f"{pct} interval: {span('R0')}",
+           "centre": f"{pct} {what}: δD {span('dD')}, δP {span('dP')}, δH {span('dH')}",
+           "R0": f"{pct} {what}: {span('R0')}",
            "about": (f"From {d['n_bootstrap']} resamples of the results ({d['fit_method']} "
-                     f"fit, seed {d['seed']}, {store.get('elapsed', 0):.1f} s); percentile "
-                     f"intervals." if d["fit_method"] != "posterior" else
+                     f"fit, seed {d['seed']}, {store.get('elapsed', 0):.1f} s); "
+                     + (CLASSIC_CAVEAT if d["fit_method"] == "classic" else
+                        "percentile intervals.") if d["fit_method"] != "posterior" else
                      f"From {d['n_samples']} spheres sampled in proportion to how well they "
                      f"explain the results (posterior of the graded model, seed {d['seed']}, "
                      f"{store.get('elapsed', 0):.1f} s); credible intervals."),

@@ -517,8 +517,8 @@ def test_intervals_cloud_and_p_good_then_stale_after_an_edit(page, artefacts):
     page.wait_for_selector("#centre-interval", timeout=60_000)
     print(f"\nbootstrap of the demo (35 trials, 200 resamples) from click to intervals: "
           f"{page.evaluate('() => performance.now()') - t0:.0f} ms")
-    assert page.inner_text("#centre-interval").startswith("95 % interval: δD")
-    assert page.inner_text("#r0-interval").startswith("95 % interval")
+    assert page.inner_text("#centre-interval").startswith("95 % stability range: δD")
+    assert page.inner_text("#r0-interval").startswith("95 % stability range")
     assert "200 resamples" in page.inner_text("#boot-about")
     wait_trace(page, "resampled centres", 200)
     page.wait_for_timeout(400)
