@@ -124,6 +124,15 @@ class ShareReport(Result):
         """The page's figures by name: ``{"map": 3D map, "planes": 2D projections}``."""
         return {"map": self.figure_map, "planes": self.figure_planes}
 
+    def figure_for_image(self, name: str = "map"):
+        """A copy of a figure laid out for a static image: the legend under the plot
+        (beside it, the long drying-path labels take half the width)."""
+        fig = self.figures()[name]
+        out = type(fig)(fig)
+        out.update_layout(legend={"orientation": "h", "x": 0.0, "y": -0.02,
+                                  "yanchor": "top"}, uirevision=None)
+        return out
+
     def html(self) -> str:
         """The self-contained page (plotly.js inlined, opens offline)."""
         return page.render(self)
