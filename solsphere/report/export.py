@@ -87,8 +87,10 @@ async def _render(jobs, width: int, height: int, scale: float):
     out = []
     async with kaleido.Kaleido(n=1, mathjax=False, proxy_server=NO_NETWORK_PROXY) as k:
         for fig, fmt in jobs:
+            # vector formats keep their size in CSS pixels; PNG is drawn denser
             out.append(await k.calc_fig(fig, opts={"format": fmt, "width": width,
-                                                   "height": height, "scale": scale}))
+                                                   "height": height,
+                                                   "scale": scale if fmt == "png" else 1}))
     return out
 
 
@@ -103,7 +105,10 @@ def render_images(jobs, width: int | None = None, height: int | None = None,
     width, height : int or None, default=None
         The image size in CSS pixels (50 to :data:`MAX_SIDE`); None: 1000 × 750.
     scale : float, default=2.0
-        Pixel density of PNG images (2: sharp on paper and on high-resolution screens).
+        Pixel density of PNG images (2: sharp on paper and on high-resolution screens);
+        SVG and PDF keep ``width`` × ``height``. A 3D map's scene is a WebGL drawing, so
+        in SVG and PDF it is embedded as a picture (axes labels included); 2D figures are
+        vectors throughout.
 
     Returns
     -------
