@@ -45,7 +45,7 @@ h3 { font-size: 1.05em; margin: 1.1em 0 .3em; }
 table.report { border-collapse: collapse; width: 100%; font-size: 13px; margin: .4em 0 1em;
                table-layout: auto; }
 table.report th, table.report td { border-bottom: 1px solid var(--rule); padding: 3px 6px;
-               text-align: left; vertical-align: top; overflow-wrap: anywhere; }
+               text-align: left; vertical-align: top; overflow-wrap: break-word; }
 table.report th { background: var(--head); font-weight: 600; overflow-wrap: normal;
                   word-break: normal; hyphens: auto; }
 table.report td.num { text-align: right; font-variant-numeric: tabular-nums;
