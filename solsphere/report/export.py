@@ -14,6 +14,8 @@ file or destroys an old one.
 from __future__ import annotations
 
 import asyncio
+import contextlib
+import logging
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -94,6 +96,22 @@ async def _render(jobs, width: int, height: int, scale: float):
     return out
 
 
+@contextlib.contextmanager
+def _quiet_browser_logs():
+    """Keep the browser driver's diagnostics (e.g. "JSONError decoding message.
+    Ignoring", with a trace, when the browser sends a partial message) off the user's
+    terminal for the duration of an export; failures still raise."""
+    loggers = [logging.getLogger(n) for n in ("choreographer", "kaleido", "logistro")]
+    levels = [lg.level for lg in loggers]
+    for lg in loggers:
+        lg.setLevel(logging.CRITICAL)
+    try:
+        yield
+    finally:
+        for lg, level in zip(loggers, levels):
+            lg.setLevel(level)
+
+
 def render_images(jobs, width: int | None = None, height: int | None = None,
                   scale: float = 2.0) -> list[bytes]:
     """Draw figures as image bytes, all through one browser.
@@ -131,7 +149,8 @@ def render_images(jobs, width: int | None = None, height: int | None = None,
         raise InputError(f"figure export needs the kaleido package ({exc}).",
                          setting="output", hint="pip install 'kaleido>=1.1'") from None
     try:
-        return asyncio.run(_render(jobs, width, height, scale))
+        with _quiet_browser_logs():
+            return asyncio.run(_render(jobs, width, height, scale))
     except ChromeNotFoundError:
         raise InputError("figure export needs a Chromium-based browser, and none was found.",
                          setting="output", hint=CHROMIUM_HINT) from None

@@ -131,6 +131,9 @@ class ShareReport(Result):
         out = type(fig)(fig)
         out.update_layout(legend={"orientation": "h", "x": 0.0, "y": -0.02,
                                   "yanchor": "top"}, uirevision=None)
+        if name == "map":  # nearer the scene: a still image cannot be zoomed
+            out.update_layout(margin={"l": 0, "r": 0, "t": 10, "b": 0},
+                              scene_camera={"eye": {"x": 1.15, "y": 0.95, "z": 0.6}})
         return out
 
     def html(self) -> str:
