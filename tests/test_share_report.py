@@ -157,6 +157,17 @@ def test_summary_gives_intervals_when_resampled(demo, lib):
     assert all(re.fullmatch(r"\d\.\d\d", row["p_good"]) for row in r.untried)
 
 
+def test_results_left_out_of_the_fit_are_not_called_misfits(demo, lib):
+    project, _ = demo
+    fit = fit_project(project, library=lib, partial="skip")
+    r = build_share(project, fit, lib, top=1, n_blends=0)
+    partly = [row for row in r.tested if row["outcome"] == "partly"]
+    assert partly and all(row["agrees"] == "not counted" for row in partly)
+    n_counted = len(r.tested) - len(partly)
+    assert any(f"of the {n_counted} results it was fitted to" in p for p in r.paragraphs)
+    assert '<tr class="misfit">' not in table_html(r.tested, "t")
+
+
 def test_graded_model_is_named(demo, lib):
     project, _ = demo
     g = fit_project(project, library=lib, method="graded")

@@ -169,7 +169,7 @@ def _model_text(fit: dict, partial: str) -> str:
 def _summary(fit: dict, bootstrap, material: str | None) -> list[str]:
     what = material or "the material"
     n_agree = sum(1 for r in fit.get("table", []) if r.get("agrees"))
-    n = len(fit.get("table", []))
+    n = sum(1 for r in fit.get("table", []) if r.get("agrees") is not None)
     text = [f"The sphere of {what}: centre δD {fit['dD']:.1f}, δP {fit['dP']:.1f}, "
             f"δH {fit['dH']:.1f} MPa½, radius R0 {fit['R0']:.1f} MPa½, fitted to "
             f"{fit.get('n_trials', n)} bench results ({fit.get('n_good', 0)} dissolves, "
@@ -186,7 +186,7 @@ def _summary(fit: dict, bootstrap, material: str | None) -> list[str]:
                     "results pin the sphere down).")
     text.append(RED_TEXT)
     misfits = [r["name"] for r in fit.get("table", []) if r.get("agrees") is False]
-    agree = f"The sphere agrees with {n_agree} of {n} results."
+    agree = f"The sphere agrees with {n_agree} of the {n} results it was fitted to."
     if misfits:
         agree += (" It disagrees with " + ", ".join(misfits) + ": check these results "
                   "first (a slow dissolution, an impure solvent, or a sphere that is not "
@@ -213,9 +213,10 @@ def _tested_rows(project, fit: dict) -> list[dict]:
                      "RED": _cell(r.get("red")),
                      "sphere predicts": {"inside": "dissolves", "outside": "does not"}.get(
                          predicted, predicted),
-                     "agrees": "yes" if r.get("agrees") else "NO (misfit)",
+                     "agrees": {True: "yes", False: "NO (misfit)"}.get(
+                         r.get("agrees"), "not counted"),
                      "note": (t.note or "") if t is not None else "",
-                     "_outcome": r.get("outcome"), "_agrees": bool(r.get("agrees"))})
+                     "_outcome": r.get("outcome"), "_agrees": r.get("agrees")})
     return rows
 
 
