@@ -26,7 +26,8 @@ from solsphere.report.page import table_html
 from solsphere.report.share import CAUTIONS, RED_TEXT, build_share
 from solsphere.workflows import candidate_pool, design_blends, fit_project
 
-HAZARD_COLUMNS = ("flash point", "exposure limit (8 h)", "carcinogen", "reprotoxic / restricted")
+HAZARD_COLUMNS = ("flash point", "exposure limit (8 h)", "carcinogen", "reprotoxic / restricted",
+                  "corrosive / toxic")
 
 
 @pytest.fixture(scope="module")
@@ -106,8 +107,9 @@ def test_hazard_columns_beside_every_recommendation(report):
         assert rows
         for col in HAZARD_COLUMNS:
             assert all(col in r and r[col] not in ("", None) for r in rows), col
-    for col in ("exposure limit (8 h)", "carcinogen", "reprotoxic / restricted"):
+    for col in ("exposure limit (8 h)", "carcinogen / reprotoxic / corrosive"):
         assert all(r[col] for r in report.blends)
+        assert all(r[col] for r in report.replacement["pairs"])
     # an exposure limit always names its jurisdiction
     limits = [r["exposure limit (8 h)"] for r in report.untried
               if r["exposure limit (8 h)"] != facts.NO_DATA]
@@ -121,6 +123,15 @@ def test_facts_of_listed_and_unknown_solvents(lib):
     assert facts.flash_text(water) == "none (not flammable)"
     assert facts.ghs_text(water) == "not flammable"
     assert facts.exposure_text(lib.lookup("toluene")).endswith("(Ontario)")
+    assert facts.health_text(lib.lookup("acetic acid")).startswith("Skin Corr. 1")
+    assert facts.health_text(lib.lookup("toluene")) == "none listed"
+    assert facts.listings_text(lib.lookup("toluene")) == "reprotoxic Repr. 2, restricted (EU)"
+    assert "IARC group 1" in facts.listings_text(benzene)
+    # data caveats the hazard cells do not already say
+    assert any(c.startswith("compilations disagree")
+               for c in facts.caveats(lib.lookup("dimethyl carbonate")))
+    assert not any(c.startswith(("flash point", "exposure limit"))
+                   for c in facts.caveats(lib.lookup("toluene")))
     # absence of data is said, never a blank
     unknown = type(nmp)("invented", 16.0, 5.0, 5.0)
     assert facts.flash_text(unknown) == facts.exposure_text(unknown) == facts.NO_DATA

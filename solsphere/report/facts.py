@@ -10,11 +10,12 @@ absence from a list is not evidence of safety.
 from __future__ import annotations
 
 from solsphere.formatting import short
-from solsphere.library.hazards import ghs_category, listing_of
-from solsphere.library.table import Solvent
+from solsphere.library.hazards import ghs_category, health_of, listing_of
+from solsphere.library.table import Solvent, hazard_flags
 
 __all__ = ["NO_DATA", "flash_text", "exposure_text", "jurisdiction_of", "carcinogen_text",
-           "listing_text", "ghs_text", "boiling_text", "hazard_cells"]
+           "listing_text", "health_text", "listings_text", "ghs_text", "boiling_text", "caveats",
+           "hazard_cells"]
 
 #: What a cell says when the data has no value (never a blank).
 NO_DATA = "no data"
@@ -94,6 +95,43 @@ def listing_text(solvent: Solvent) -> str:
     return f"{', '.join(parts) or 'listed'} ({listing.jurisdiction})"
 
 
+def health_text(solvent: Solvent) -> str:
+    """Skin corrosion, acute toxicity and eye damage from the health file, or "none
+    listed".
+
+    >>> from solsphere.library.table import load_library
+    >>> health_text(load_library().lookup("acetic acid"))
+    'Skin Corr. 1A (EU)'
+    """
+    entry = health_of(solvent)
+    return "none listed" if entry is None else entry.text()
+
+
+def listings_text(solvent: Solvent) -> str:
+    """Carcinogen class, reprotoxic / restricted listing and health entry in one cell
+    (for tables with one line per blend component), or "none listed".
+
+    >>> from solsphere.library.table import load_library
+    >>> listings_text(load_library().lookup("NMP"))
+    'reprotoxic Repr. 1B, restricted (EU)'
+    """
+    parts = []
+    for label, text in (("carcinogen", carcinogen_text(solvent)),
+                        ("reprotoxic", listing_text(solvent)),
+                        ("", health_text(solvent))):
+        if text != "none listed":
+            parts.append(f"{label} {text}".strip())
+    return "; ".join(parts) or "none listed"
+
+
+def caveats(solvent: Solvent) -> list[str]:
+    """The data caveats of :func:`solsphere.library.table.hazard_flags` that the hazard
+    cells do not already say: compilations that disagree, coordinates estimated from
+    structure (with their 95 % half-width)."""
+    shown = ("flash point", "no flash point", "exposure limit", "carcinogen")
+    return [f for f in hazard_flags(solvent) if not f.startswith(shown)]
+
+
 def ghs_text(solvent: Solvent) -> str:
     """The GHS flammable-liquid category from flash and boiling point (UN GHS Rev. 9,
     2021, ch. 2.6): "cat. 1" to "cat. 4", "not classified" (flash point above 93 °C),
@@ -123,4 +161,5 @@ def hazard_cells(solvent: Solvent) -> dict[str, str]:
             "exposure limit (8 h)": exposure_text(solvent),
             "carcinogen": carcinogen_text(solvent),
             "reprotoxic / restricted": listing_text(solvent),
+            "corrosive / toxic": health_text(solvent),
             "boiling point": boiling_text(solvent)}

@@ -57,6 +57,10 @@ RED_TEXT = ("RED (relative energy difference) is a solvent's Hansen distance Ra 
             "about 0.9 and 1.1 the prediction is borderline: test it.")
 
 
+#: The column of blends and pairs that holds every component's listings.
+LISTINGS = "carcinogen / reprotoxic / corrosive"
+
+
 def _cell(x, fmt: str = "{:.2f}") -> str:
     return num(x, fmt)
 
@@ -229,6 +233,7 @@ def _untried_rows(ranking) -> list[dict]:
         if with_p:
             row["p_good"] = _cell(r.p_good)
         row.update(facts.hazard_cells(s))
+        row["notes"] = facts.caveats(s)
         rows.append(row)
     return rows
 
@@ -291,16 +296,16 @@ def _blend_rows(blends: list[dict], by_name: dict, library) -> list[dict]:
             "drying": _drying_blend(b),
             "exposure limit (8 h)": _per_component(b["solvents"], by_name, library,
                                                    facts.exposure_text),
-            "carcinogen": _per_component(b["solvents"], by_name, library,
-                                         facts.carcinogen_text),
-            "reprotoxic / restricted": _per_component(b["solvents"], by_name, library,
-                                                      facts.listing_text),
+            # carcinogen, reprotoxic and corrosive / toxic in one column: a line per
+            # component would otherwise make the table wider than a printed page
+            LISTINGS: _per_component(b["solvents"], by_name, library, facts.listings_text),
         })
     return rows
 
 
 #: Short hazard names for the "versus old" cells.
-_SHORT = {"carcinogen": "carc.", "reprotoxic": "repr.", "flammability": "flam."}
+_SHORT = {"carcinogen": "carc.", "reprotoxic": "repr.", "corrosive_toxic": "corr./tox.",
+          "flammability": "flam."}
 
 
 def _replacement(result, by_name: dict, library) -> dict:
@@ -314,7 +319,9 @@ def _replacement(result, by_name: dict, library) -> dict:
         item["versus old"] = [f"{_SHORT.get(k, k)} {v}" for k, v in vs.items()]
         cells = facts.hazard_cells(s.solvent)
         cells.pop("boiling point")
+        cells.pop("GHS flammability")  # said in "versus old" and by the flash point
         item.update(cells)
+        item["notes"] = facts.caveats(s.solvent)
         singles.append(item)
     pairs = []
     for p in d["pairs"]:
@@ -326,8 +333,8 @@ def _replacement(result, by_name: dict, library) -> dict:
                                                     facts.flash_text),
                       "exposure limit (8 h)": _per_component(p["solvents"], by_name, library,
                                                              facts.exposure_text),
-                      "reprotoxic / restricted": _per_component(p["solvents"], by_name,
-                                                                library, facts.listing_text)})
+                      LISTINGS: _per_component(p["solvents"], by_name, library,
+                                               facts.listings_text)})
     t = result.target
     return {"target": t.name, "target_facts": facts.hazard_cells(t),
             "singles": singles, "pairs": pairs, "left_out": d.get("left_out") or {},
