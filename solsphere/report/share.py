@@ -129,15 +129,12 @@ class ShareReport(Result):
         return {"map": self.figure_map, "planes": self.figure_planes}
 
     def figure_for_image(self, name: str = "map"):
-        """A copy of a figure laid out for a static image: the legend under the plot
-        (beside it, the long drying-path labels take half the width)."""
+        """A copy of a figure laid out for a static image: the legend under the plot, the
+        size left to the image's width and height."""
         fig = self.figures()[name]
         out = type(fig)(fig)
         out.update_layout(legend={"orientation": "h", "x": 0.0, "y": -0.02,
                                   "yanchor": "top"}, uirevision=None)
-        if name == "map":  # nearer the scene: a still image cannot be zoomed
-            out.update_layout(margin={"l": 0, "r": 0, "t": 10, "b": 0},
-                              scene_camera={"eye": {"x": 1.15, "y": 0.95, "z": 0.6}})
         return out
 
     def html(self) -> str:
@@ -431,6 +428,11 @@ def build_share(project, fit, library, *, title: str | None = None,
              for b in blend_dicts if b.get("drying")]
     fig3 = figures.map3d(fd, untried=everyone.to_dict()["solvents"], blends=blend_dicts,
                          paths=paths)
+    # on the page the legend goes under the scene (beside it, the long drying-path
+    # labels take half the width) and the camera is nearer
+    fig3.update_layout(legend={"orientation": "h", "x": 0.0, "y": -0.02, "yanchor": "top"},
+                       margin={"l": 0, "r": 0, "t": 10, "b": 0}, height=700,
+                       scene_camera={"eye": {"x": 1.15, "y": 0.95, "z": 0.6}})
     fig2 = figures.projections(fd, blends=blend_dicts)
     source = str(project.trials.source or "") or None
     if not title:
