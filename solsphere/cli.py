@@ -297,9 +297,9 @@ def build_parser() -> argparse.ArgumentParser:
                    help="with --replace: also offer candidates worse than the solvent "
                         "replaced on a hazard")
     _add_bootstrap(p, "show 95 %% intervals of the centre and R0 and each solvent's p_good")
-    p.add_argument("--figure", choices=("map", "planes"), default="map",
+    p.add_argument("--figure", choices=("map", "planes", "ladder"), default="map",
                    help="the figure written to .png/.svg/.pdf outputs: 'map' the 3D map "
-                        "(default), 'planes' the three 2D planes")
+                        "(default), 'planes' the three 2D planes, 'ladder' the RED ladder")
     p.add_argument("--width", type=_at_most(6000, "pixels"), default=None, metavar="PX",
                    help="image width in CSS pixels (default 1000; PNG drawn at twice this)")
     p.add_argument("--height", type=_at_most(6000, "pixels"), default=None, metavar="PX",

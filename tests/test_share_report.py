@@ -204,6 +204,14 @@ def test_page_has_title_material_notes_tables_and_cautions(page):
         assert page.count(html.escape(c)) == 2  # at the top and at the end
 
 
+def test_page_has_the_three_figures(page, report):
+    for var, div in (("f3", "map3d"), ("f2", "planes"), ("fl", "ladder")):
+        assert f"var {var} = " in page and f'Plotly.newPlot("{div}", {var}.data' in page
+    ladder = report.figures()["ladder"]
+    names = {t.name for t in ladder.data}
+    assert {"dissolves", "does not"} <= names  # every tested solvent, by outcome
+
+
 def test_page_has_print_styles_and_opens_offline(page):
     css = page[page.index("<style>"):page.index("</style>")]
     assert "@media print" in css and "@page" in css and "size: A4" in css

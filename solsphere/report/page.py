@@ -18,11 +18,14 @@ import html
 
 from solsphere import __version__
 
-__all__ = ["render", "table_html", "CSS", "PLANES_WIDTH"]
+__all__ = ["render", "table_html", "CSS", "PLANES_WIDTH", "LADDER_WIDTH"]
 
 #: Width of the 2D planes in CSS pixels: fits an A4 page with 12 mm margins (186 mm ≈ 703
 #: px at 96 px per inch) and the screen column.
 PLANES_WIDTH = 690
+
+#: Width of the RED ladder in CSS pixels (beside nothing: it prints on any page).
+LADDER_WIDTH = 520
 
 #: Columns that hold numbers (right-aligned, tabular figures).
 NUMERIC = {"RED", "p_good", "Ra to old", "RED (material)", "#"}
@@ -58,6 +61,7 @@ tr.misfit td { background: #fbefe6; }
 .small { font-size: 12.5px; color: var(--muted); }
 #map3d { width: 100%; min-height: 560px; }
 #planes { width: """ + str(PLANES_WIDTH) + """px; max-width: 100%; margin: 0 auto; }
+#ladder { width: """ + str(LADDER_WIDTH) + """px; max-width: 100%; margin: 0 auto; }
 details pre { background: #f6f6f4; padding: .8em; overflow-x: auto; font-size: 12.5px;
               white-space: pre-wrap; overflow-wrap: anywhere; }
 .print-only { display: none; }
@@ -73,7 +77,7 @@ details pre { background: #f6f6f4; padding: .8em; overflow-x: auto; font-size: 1
   tr { break-inside: avoid; page-break-inside: avoid; }
   .screen-only, #map3d, details { display: none !important; }
   .print-only { display: block; }
-  #planes { break-inside: avoid; }
+  #planes, #ladder-section { break-inside: avoid; page-break-inside: avoid; }
   .caution { break-inside: avoid; }
   a { color: inherit; text-decoration: none; }
 }
@@ -106,6 +110,11 @@ brown.</p>
 below show the same sphere flat (δD drawn at twice the scale).</p>
 <div id="map3d"></div>
 <div id="planes"></div>
+<div id="ladder-section"><h3>How cleanly the results separate</h3>
+<p class="small">Every tested solvent on a RED axis, one column per outcome, with the
+boundary at RED 1: solvents that dissolve the material belong below the line, the others
+above it; a ringed point is on the wrong side (a misfit).</p>
+<div id="ladder"></div></div>
 </section>
 <section id="tested"><h2>Tested solvents</h2>
 {tested}
@@ -127,8 +136,10 @@ such.</p></footer>
 <script type="text/javascript">
 var f3 = {fig3d};
 var f2 = {fig2d};
+var fl = {figladder};
 Plotly.newPlot("map3d", f3.data, f3.layout, {{responsive: true, displaylogo: false}});
 Plotly.newPlot("planes", f2.data, f2.layout, {{displaylogo: false}});
+Plotly.newPlot("ladder", fl.data, fl.layout, {{displaylogo: false}});
 </script>
 </body></html>
 """
@@ -227,6 +238,8 @@ def render(report) -> str:
     cautions = "".join(f"<li>{_esc(c)}</li>" for c in report.cautions)
     planes = report.figure_planes
     planes.update_layout(width=PLANES_WIDTH, autosize=False)
+    ladder = report.figure_ladder
+    ladder.update_layout(width=LADDER_WIDTH, autosize=False)
     return TEMPLATE.format(
         title=_esc(report.title), css=CSS, plotlyjs=get_plotlyjs(), meta=meta_html,
         notes=notes, summary=summary, cautions=cautions,
@@ -236,4 +249,5 @@ def render(report) -> str:
         blends=_blends_html(report), replacement=_replacement_html(report),
         technical=_esc(report.technical), version=_esc(__version__),
         fig3d=_json_for_script(report.figure_map.to_json()),
-        fig2d=_json_for_script(planes.to_json()))
+        fig2d=_json_for_script(planes.to_json()),
+        figladder=_json_for_script(ladder.to_json()))

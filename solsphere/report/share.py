@@ -106,6 +106,7 @@ class ShareReport(Result):
     fit: dict
     figure_map: Any = field(default=None, repr=False)
     figure_planes: Any = field(default=None, repr=False)
+    figure_ladder: Any = field(default=None, repr=False)
 
     rows_key = "tested"
 
@@ -125,8 +126,10 @@ class ShareReport(Result):
         return "\n".join(out)
 
     def figures(self) -> dict:
-        """The page's figures by name: ``{"map": 3D map, "planes": 2D projections}``."""
-        return {"map": self.figure_map, "planes": self.figure_planes}
+        """The page's figures by name: ``{"map": 3D map, "planes": 2D projections,
+        "ladder": the RED ladder}``."""
+        return {"map": self.figure_map, "planes": self.figure_planes,
+                "ladder": self.figure_ladder}
 
     def figure_for_image(self, name: str = "map"):
         """A copy of a figure laid out for a static image: the legend under the plot, the
@@ -434,6 +437,7 @@ def build_share(project, fit, library, *, title: str | None = None,
                        margin={"l": 0, "r": 0, "t": 10, "b": 0}, height=700,
                        scene_camera={"eye": {"x": 1.15, "y": 0.95, "z": 0.6}})
     fig2 = figures.projections(fd, blends=blend_dicts)
+    ladder = figures.red_ladder(fd, height=420)
     source = str(project.trials.source or "") or None
     if not title:
         title = f"Solubility report: {material}" if material else "Solubility report"
@@ -443,7 +447,7 @@ def build_share(project, fit, library, *, title: str | None = None,
         tested=_tested_rows(project, fd), untried=_untried_rows(ranking),
         blends=blend_rows, replacement=replacement, pool_text=pool_text(filters),
         blend_notes=notes_b, cautions=list(CAUTIONS), technical=str(fit), fit=fd,
-        figure_map=fig3, figure_planes=fig2)
+        figure_map=fig3, figure_planes=fig2, figure_ladder=ladder)
 
 
 def share_page(project, fit, library, title: str | None = None, n_blends: int = 5,

@@ -57,6 +57,7 @@ def _open(browser, path, width: int, height: int = 1000):
     pg.goto(path.as_uri())
     pg.wait_for_selector("#planes .main-svg")
     pg.wait_for_selector("#map3d .gl-container canvas")
+    pg.wait_for_selector("#ladder .main-svg")
     return ctx, pg
 
 
@@ -105,15 +106,16 @@ def test_share_page_prints_to_a_clean_a4_pdf(browser, share_file, artefacts):
         pg.emulate_media(media="print")
         # the print styles: the WebGL map gives way to the 2D planes and a note
         assert not pg.locator("#map3d").is_visible()
-        assert pg.locator("#planes").is_visible()
+        assert pg.locator("#planes").is_visible() and pg.locator("#ladder").is_visible()
         assert pg.locator(".print-only").first.is_visible()
         assert not pg.locator("#technical").is_visible()
         assert pg.evaluate("getComputedStyle(document.querySelector('thead')).display") \
             == "table-header-group"
         # at the width of the printed column no table (and nothing else) is wider
         assert _overflow(pg) == [], _overflow(pg)
-        planes = pg.evaluate("document.querySelector('#planes').getBoundingClientRect().right")
-        assert planes <= A4_PRINT_WIDTH_PX + 1
+        for fig in ("#planes", "#ladder"):
+            right = pg.evaluate(f"document.querySelector('{fig}').getBoundingClientRect().right")
+            assert right <= A4_PRINT_WIDTH_PX + 1, fig
         pg.screenshot(path=str(artefacts / "share-print.png"), full_page=True)
         pdf_path = artefacts / "share.pdf"
         pdf = pg.pdf(path=str(pdf_path), prefer_css_page_size=True, print_background=True)
