@@ -122,6 +122,12 @@ def _resamples(text: str) -> int:
     return _whole(text, 2)
 
 
+def _add_posterior_time(p):
+    p.add_argument("--posterior-seconds", type=_positive_int, metavar="S", default=60,
+                   help="time limit of the posterior sampling (default 60 s); when it stops "
+                        "first the report says so and gives the effective samples reached")
+
+
 def _add_bootstrap(p, what: str):
     p.add_argument("--bootstrap", type=_resamples, metavar="N", default=None,
                    help=f"resample the trials N times (e.g. 1000) and {what}")
@@ -191,14 +197,16 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--posterior", type=_positive_int, metavar="N", default=None,
                    help="sample N plausible spheres (e.g. 2000) from the graded model's "
                         "posterior and report their 95 %% credible intervals")
+    _add_posterior_time(p)
     p.add_argument("--spheres", type=int, choices=(1, 2), default=1,
                    help="2: also try two spheres (good if inside either) and say whether "
                         "the second earns its keep")
     p.add_argument("--no-influence", action="store_true",
                    help="skip the leave-one-out list of results to re-check first")
-    p.add_argument("--compare", action="store_true",
-                   help="compare classic and graded fits and the 'partly' readings on "
-                        "held-back results and say which to trust (a few seconds)")
+    p.add_argument("--no-compare", action="store_true",
+                   help="skip the comparison of the classic and graded fits and the 'partly' "
+                        "readings on held-back results (shown by default)")
+    p.add_argument("--compare", action="store_true", help=argparse.SUPPRESS)  # the default now
 
     p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
     _add_input(p)
@@ -208,6 +216,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--posterior", type=_positive_int, metavar="N", default=None,
                    help="take p_good from N spheres sampled from the graded model's "
                         "posterior instead (e.g. 2000)")
+    _add_posterior_time(p)
 
     p = sub.add_parser("next", help="which solvents to test next to pin the sphere down",
                        epilog=EPILOG)

@@ -11,30 +11,29 @@ import sys
 from pathlib import Path
 
 from solsphere.design.ranking import rank_solvents
-from solsphere.errors import FitError, InputError
+from solsphere.errors import InputError
 from solsphere.formatting import num, split_names
 from solsphere import limits
 from solsphere.io.files import atomic_write_text, check_output
 from solsphere.io.project import load_any, save
 from solsphere.library.table import load_library
-from solsphere.models.comparison import compare_models
 from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
 from solsphere.report.export import image_format, write_images
 from solsphere.report.share import build_share
 from solsphere.uncertainty.bootstrap import bootstrap, influence
 from solsphere.uncertainty.nexttrials import suggest_next
-from solsphere.uncertainty.posterior import sample_posterior
+from solsphere.uncertainty.posterior import MAX_SECONDS, sample_posterior
 from solsphere.workflows import (candidate_pool, design_blends, find_replacements, fit_project,
                                  resolved_names as shared_resolved_names)
 
 
-def load_session(args):
+def load_session(args, compare: bool = False):
     """Read FILE (results or project) and return (project, fit result, library)."""
     lib = load_library()
     project = load_any(args.file, library=lib)
     fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
-                      method=args.method)
+                      method=args.method, compare=compare)
     return project, fit, lib
 
 
@@ -86,7 +85,8 @@ def _bootstrap(args, project, fit, n: int):
 def _posterior(args, project, fit, n: int):
     # the posterior's own prior (physically wide), not the classic fit's tested box
     return sample_posterior(project.trials, n_samples=n, seed=args.seed,
-                            partial=_binary_partial(fit))
+                            partial=_binary_partial(fit),
+                            max_seconds=getattr(args, "posterior_seconds", MAX_SECONDS))
 
 
 def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:
@@ -111,8 +111,13 @@ def resolved_names(project) -> list[str]:
 def cmd_fit(args) -> int:
     if args.save:  # said before the fit, and a pipe or device is never opened
         check_output(args.save, inputs=[args.file])
-    project, fit, lib = load_session(args)
+    project, fit, lib = load_session(args, compare=not args.no_compare)
     obj, text = fit.to_dict(), str(fit)
+    if fit.model_comparison is not None and fit.model_comparison.rows:
+        best = next(r for r in fit.model_comparison.rows if r["recommended"])
+        if (best["model"], best["partial"]) != (args.method, fit.partial):
+            text += (f"\n    To fit with it: solsphere fit FILE --method {best['model']}"
+                     + ("" if best["partial"] == "ordinal" else f" --partial {best['partial']}"))
     resolved = resolved_names(project)
     obj["resolved_names"] = resolved
     if resolved:
@@ -141,15 +146,6 @@ def cmd_fit(args) -> int:
         obj["influence"] = rows
         text += ("\n[[Re-check first]] (results whose removal moves the sphere most)\n"
                  + "\n".join(recheck_lines(rows)))
-    if args.compare:
-        try:
-            cmp = compare_models(project.trials)
-        except FitError as exc:  # too few results to hold any back: say so, keep the fit
-            obj["model_comparison"] = {"error": str(exc)}
-            text += f"\n[[Which model?]]\n    not compared: {exc}"
-        else:
-            obj["model_comparison"] = cmp.to_dict()
-            text += "\n" + str(cmp)
     if args.spheres == 2:
         two = fit_two_spheres(project.trials, partial=_binary_partial(fit), seed=args.seed)
         obj["two_spheres"] = two.to_dict()

@@ -43,6 +43,7 @@ from solsphere.mixtures.phases import blend_phases
 from solsphere.mixtures.vapour import VapourPressures
 from solsphere.models.base import SPREAD_WARN  # noqa: F401  (re-exported for callers)
 from solsphere.models.classic import SphereModel
+from solsphere.models.comparison import compare_or_explain
 from solsphere.models.graded import GradedSphereModel
 from solsphere.results import Result
 from solsphere.limits import check as check_limit, check_temperature
@@ -72,7 +73,7 @@ def estimate_structure(smiles: str):
     return estimate_one(smiles)
 
 def fit_project(project, partial: str | None = None, library=None, seed: int = 0,
-                method: str = "classic"):
+                method: str = "classic", compare: bool = False):
     """Fit the sphere to a project's trials.
 
     Parameters
@@ -86,6 +87,10 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
     method : {"classic", "graded"}, default="classic"
         Hansen's desirability fit, or the graded (probabilistic) boundary, where 'partly'
         results are their own middle class unless ``partial`` says otherwise.
+    compare : bool, default=False
+        Also compare the classic and graded fits and the 'partly' readings on held-back
+        results (:func:`solsphere.models.comparison.compare_or_explain`; about a second
+        on the 35-result demo) and attach it as ``model_comparison``.
 
     Returns
     -------
@@ -95,10 +100,14 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
     if method not in ("classic", "graded"):
         raise ValueError(f"method must be 'classic' or 'graded'; found {method!r}")
     if method == "graded":
-        return GradedSphereModel(partial=partial or "ordinal", seed=seed).fit(
+        result = GradedSphereModel(partial=partial or "ordinal", seed=seed).fit(
             project.trials).result_
-    partial = partial or project.settings.get("partial") or "good"
-    return SphereModel(partial=partial, seed=seed).fit(project.trials).result_
+    else:
+        partial = partial or project.settings.get("partial") or "good"
+        result = SphereModel(partial=partial, seed=seed).fit(project.trials).result_
+    if compare:
+        result.model_comparison = compare_or_explain(project.trials)
+    return result
 
 
 def resolved_names(trials) -> list[str]:

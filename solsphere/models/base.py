@@ -12,7 +12,7 @@ validated points, canonical outcomes, names and weights; :func:`binary_data` and
 from __future__ import annotations
 
 import inspect
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, field
 
 import numpy as np
 
@@ -215,6 +215,41 @@ def edge_warnings(c, box, points=None) -> list[str]:
     return out
 
 
+#: Spread [MPa½, root mean square, δD counted twice as in Ra] below which the tested
+#: solvents are taken to lie on a line or a plane (common practice, no source).
+FLAT = 0.25
+
+
+def shape_warnings(points, box) -> list[str]:
+    """A warning when the tested solvents lie on one line or one plane in Hansen space
+    (blends of two or three solvents, one family of solvents) along a direction the
+    box-width warnings of :func:`edge_warnings` do not already name: across it the
+    centre cannot be located.
+
+    Examples
+    --------
+    >>> X = [[15 + i, 5 + i, 5 + i] for i in range(6)]  # invented, on a diagonal line
+    >>> shape_warnings(X, [[15, 20], [5, 10], [5, 10]])[0][:44]
+    'All tested solvents lie on (nearly) one line'
+    """
+    P = as_points(points) * np.array([2.0, 1.0, 1.0])
+    if len(P) < 2:
+        return []
+    s = np.linalg.svd(P - P.mean(axis=0), compute_uv=False)
+    flat = int(np.sum(s / np.sqrt(len(P)) < FLAT)) + 3 - len(s)  # (n < 3: fewer values)
+    narrow = sum(hi - lo <= 2 * EDGE for lo, hi in np.asarray(box, dtype=float))
+    if flat <= narrow or flat == 0:
+        return []
+    if flat >= 2:
+        return ["All tested solvents lie on (nearly) one line in Hansen space (e.g. blends "
+                "of two solvents): the results only place the centre along that line, not "
+                "across it, and the fitted centre and R0 are one choice of many. Test "
+                "solvents off the line."]
+    return ["All tested solvents lie on (nearly) one plane in Hansen space: the results "
+            "cannot place the centre across that plane, and the fitted centre and R0 are "
+            "one choice of many. Test solvents off the plane."]
+
+
 def few_results_warnings(n_good: int, n_bad: int) -> list[str]:
     """A warning for each side with fewer than ``MIN_ADVISED`` results."""
     out = []
@@ -244,6 +279,56 @@ def unboundable_message(n_cg: int, n_cb: int, n_partial: int, partial: str) -> s
 
 
 # ----------------------------------------------------------------------------- results
+@dataclass
+class ModelComparison(Result):
+    """Result of :func:`solsphere.models.comparison.compare_models` (kept here so that
+    the fit results can carry it).
+
+    ``rows``: one dict per reading: ``model`` ("classic"/"graded"), ``partial``,
+    ``label``, ``n_scored``, ``n_right``, ``accuracy``, ``log_score`` (None for classic),
+    ``gain`` (held-back results right beyond the default), ``z`` (gain over its
+    standard error; None when both agree everywhere), ``recommended``.
+    ``recommendation``: the label of the recommended reading; ``reason``: one sentence.
+    """
+
+    rows: list
+    folds: int
+    n_scored: int
+    recommendation: str
+    reason: str
+    warnings: list = field(default_factory=list)
+
+    rows_key = "rows"
+
+    def to_dict(self) -> dict:
+        """JSON-safe plain types (``solsphere fit --json``, key ``"model_comparison"``)."""
+        return asdict(self)
+
+    @classmethod
+    def from_dict(cls, d: dict) -> "ModelComparison":
+        """Inverse of :meth:`to_dict`."""
+        return cls(rows=[dict(r) for r in d.get("rows", [])], folds=int(d.get("folds", 0)),
+                   n_scored=int(d.get("n_scored", 0)),
+                   recommendation=str(d.get("recommendation", "")),
+                   reason=str(d.get("reason", "")), warnings=list(d.get("warnings", [])))
+
+    def __str__(self) -> str:
+        if not self.rows:
+            return "[[Which model?]]\n    " + self.reason
+        out = [f"[[Which model?]] (held-back clear results, {self.folds}-fold "
+               f"cross-validation, {self.n_scored} scored)"]
+        for r in self.rows:
+            ls = "" if r["log_score"] is None else f", log score {r['log_score']:.2f}"
+            g = "" if r["model"] == "classic" and r["partial"] == "good" else \
+                f", {r['gain']:+d} vs default"
+            mark = "  <- recommended" if r["recommended"] else ""
+            out.append(f"    {r['label']}: {r['n_right']}/{r['n_scored']} right "
+                       f"({100 * r['accuracy']:.0f} %){ls}{g}{mark}")
+        out.append(f"    {self.reason}")
+        out += [f"    {t}" for t in self.warnings]
+        return "\n".join(out)
+
+
 class FitResultBase(Result):
     """What the fit results share (dataclasses with dD, dP, dH and a per-trial ``table``):
     the centre as an array, ``to_dict()`` of plain fields, one table row per trial."""

@@ -57,10 +57,11 @@ from scipy.optimize import linprog, minimize, nnls
 from solsphere.errors import FitError
 from solsphere.formatting import num, warning_lines
 from solsphere.hansen import SCALE, as_points, ra
-from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
+from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, ModelComparison,
+                                   SphereEstimator,
                                    as_weights, estimator,
                                    counted_classes, default_bounds, edge_warnings,
-                                   few_results_warnings, model_inputs, search_box,
+                                   few_results_warnings, model_inputs, shape_warnings, search_box,
                                    unboundable_message)
 
 __all__ = ["SphereModel", "SphereFitResult", "SphereOptimum", "best_sphere", "best_radius",
@@ -236,12 +237,15 @@ def separable_fit(points, good, box, weights=None):
                  b_ub=b_pair, bounds=[*zip(ylo, yhi), (None, 1.0)], method="highs")
     if lp.status != 0 or -lp.fun < -1e-12:
         return None
-    # Convex QP in x = (y, s): minimise |y|^2 + s subject to
-    #   goods: -2 y.g_i + |g_i|^2 - s <= 0;  pairs: A_pair y - b_pair <= 0;  box.
-    gg = np.sum(G * G, axis=1)
+    # Convex QP in x = (y, s), R0^2 = s + |y|^2: minimise |y|^2 + s subject to
+    #   goods: -2 y.g_i + |g_i|^2 - s <= 0;  bads: 2 y.b_k - |b_k|^2 + s <= 0;  box.
+    # (The same feasible centres as the pairs above: some s lies between every good's
+    # and every bad's |p|^2 - 2 y.p exactly when each pair is ordered; n_good + n_bad
+    # rows instead of n_good * n_bad keep SLSQP fast.)
+    gg, bb = np.sum(G * G, axis=1), np.sum(B * B, axis=1)
     A = np.vstack([np.column_stack([-2.0 * G / scale, -np.ones(len(G)) / scale]),
-                   np.column_stack([A_pair, np.zeros(len(D))])])
-    rhs = np.r_[-gg / scale, b_pair]  # constraints: A x <= rhs
+                   np.column_stack([2.0 * B / scale, np.ones(len(B)) / scale])])
+    rhs = np.r_[-gg / scale, bb / scale]  # constraints: A x <= rhs
 
     def f(x):
         return (x[:3] @ x[:3] + x[3]) / scale, np.r_[2.0 * x[:3], 1.0] / scale
@@ -489,17 +493,17 @@ class SphereFitResult(FitResultBase):
     bounds: list
     success: bool
     n_evaluations: int
-
-
-
+    model_comparison: ModelComparison | None = None
 
     @classmethod
     def from_dict(cls, data: dict) -> "SphereFitResult":
-        names = [f.name for f in fields(cls)]
+        names = [f.name for f in fields(cls) if f.name != "model_comparison"]
         missing = [k for k in names if k not in data]
         if missing:
             raise ValueError(f"fit result is missing {', '.join(missing)}")
         d = {k: data[k] for k in names}
+        if data.get("model_comparison"):
+            d["model_comparison"] = ModelComparison.from_dict(data["model_comparison"])
         d["table"] = [dict(row) for row in d["table"]]
         for k in ("misfits", "warnings"):
             d[k] = list(d[k])
@@ -528,6 +532,8 @@ class SphereFitResult(FitResultBase):
         if on:
             out.append(f"    on the surface (RED 1.00, either outcome fits): {', '.join(on)}")
         out += warning_lines(self.warnings)
+        if self.model_comparison is not None:
+            out.append(str(self.model_comparison))
         return "\n".join(out)
 
 
@@ -630,6 +636,7 @@ class SphereModel(SphereEstimator):
                       agrees=bool((Ra[i] <= R0) == g[i] or surf[i]) if use[i] else None)
                  for i in range(n)]
         notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box, P[use])
+        notes += shape_warnings(P[use], box)
         if R0 < POINT_R0:
             notes.append(f"R0 = {R0:.2g} MPa½: the results counted as good sit at one point "
                          "(or nearly), so the smallest sphere that fits is that point and the "

@@ -36,18 +36,18 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass, field
-
 import numpy as np
 from scipy.special import expit
 
 from solsphere.errors import FitError
 from solsphere.hansen import ra
-from solsphere.models.base import counted_classes, default_bounds, model_inputs
+from solsphere.models.base import (ModelComparison, counted_classes, default_bounds,
+                                   model_inputs)
 from solsphere.models.classic import best_sphere
 from solsphere.models.graded import fit_theta
 
-__all__ = ["ModelComparison", "compare_models", "recommend", "MIN_GAIN", "CV_SEARCH"]
+__all__ = ["ModelComparison", "compare_models", "compare_or_explain", "recommend", "MIN_GAIN",
+           "CV_SEARCH"]
 
 #: Held-back results a reading must get right beyond the classic fit (with z >= 2).
 MIN_GAIN = 2
@@ -62,49 +62,6 @@ _LABEL = {("classic", "good"): "classic, partly = dissolves (default)",
           ("classic", "skip"): "classic, partly left out",
           ("graded", "good"): "graded, partly = dissolves",
           ("graded", "ordinal"): "graded, partly its own class"}
-
-
-@dataclass
-class ModelComparison:
-    """Result of :func:`compare_models`.
-
-    ``rows``: one dict per reading: ``model`` ("classic"/"graded"), ``partial``,
-    ``label``, ``n_scored``, ``n_right``, ``accuracy``, ``log_score`` (None for classic),
-    ``gain`` (held-back results right beyond the default), ``z`` (gain over its
-    standard error; None when both agree everywhere), ``recommended``.
-    ``recommendation``: the label of the recommended reading; ``reason``: one sentence.
-    """
-
-    rows: list
-    folds: int
-    n_scored: int
-    recommendation: str
-    reason: str
-    warnings: list = field(default_factory=list)
-
-    def to_dict(self) -> dict:
-        """JSON-safe plain types (``solsphere fit --compare --json``, key
-        ``"model_comparison"``)."""
-        return asdict(self)
-
-    def to_frame(self):
-        """The rows as a pandas DataFrame (pandas imported here: optional)."""
-        import pandas as pd  # deferred: pandas is optional
-        return pd.DataFrame(self.rows)
-
-    def __str__(self) -> str:
-        out = [f"[[Which model?]] (held-back clear results, {self.folds}-fold "
-               f"cross-validation, {self.n_scored} scored)"]
-        for r in self.rows:
-            ls = "" if r["log_score"] is None else f", log score {r['log_score']:.2f}"
-            g = "" if r["model"] == "classic" and r["partial"] == "good" else \
-                f", {r['gain']:+d} vs default"
-            mark = "  <- recommended" if r["recommended"] else ""
-            out.append(f"    {r['label']}: {r['n_right']}/{r['n_scored']} right "
-                       f"({100 * r['accuracy']:.0f} %){ls}{g}{mark}")
-        out.append(f"    {self.reason}")
-        out += [f"    {t}" for t in self.warnings]
-        return "\n".join(out)
 
 
 def _folds(y: np.ndarray, k: int) -> np.ndarray:
@@ -260,3 +217,22 @@ def compare_models(X, good=None, names=None, *, folds: int = 10) -> ModelCompari
     best["recommended"] = True
     return ModelComparison(rows=rows, folds=k, n_scored=m, recommendation=best["label"],
                            reason=reason, warnings=notes)
+
+
+def compare_or_explain(X, good=None, names=None, *, folds: int = 10) -> ModelComparison:
+    """:func:`compare_models`, or, when the results are too few to hold any back, a
+    comparison without rows whose ``reason`` says why (the fit report shows it; the
+    default classic fit stays the recommendation).
+
+    Examples
+    --------
+    >>> cmp = compare_or_explain([[17, 5, 5], [18, 16, 17]], ["good", "bad"])  # invented
+    >>> cmp.rows, cmp.reason.startswith("Not compared")
+    ([], True)
+    """
+    try:
+        return compare_models(X, good, names, folds=folds)
+    except FitError as exc:
+        return ModelComparison(rows=[], folds=0, n_scored=0,
+                               recommendation=_LABEL[("classic", "good")],
+                               reason=f"Not compared: {exc}.")

@@ -56,9 +56,11 @@ from scipy.special import expit
 
 from solsphere.errors import FitError
 from solsphere.formatting import num, warning_lines
-from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, SphereEstimator,
+from solsphere.models.base import (AXES, SURFACE, WORDS, FitResultBase, ModelComparison,
+                                   SphereEstimator,
                                    counted_classes, estimator,
                                    edge_warnings, few_results_warnings, model_inputs,
+                                   shape_warnings,
                                    search_box, unboundable_message)
 from solsphere.models.classic import best_sphere, desirability
 from solsphere.hansen import SCALE, ra
@@ -227,6 +229,7 @@ class GradedFitResult(FitResultBase):
     success: bool
     n_evaluations: int
     method: str = "graded"
+    model_comparison: ModelComparison | None = None
 
 
 
@@ -261,6 +264,8 @@ class GradedFitResult(FitResultBase):
         out += [f"    {r['name']}: {WORDS[r['outcome']]} but {p_text(r)} (Ra {f(r['Ra'])}, "
                 f"RED {r['red']:.2f})" for r in rows] or ["    none"]
         out += warning_lines(self.warnings)
+        if self.model_comparison is not None:
+            out.append(str(self.model_comparison))
         return "\n".join(out)
 
 
@@ -341,6 +346,7 @@ class GradedSphereModel(SphereEstimator):
                 on_surface=bool(surf[i]), p_good=float(p_out[i]), p_dissolves=float(p_in[i]),
                 agrees=agrees if use[i] else None))
         notes = notes_in + few_results_warnings(n_cg, n_cb) + edge_warnings(c, box, P[use])
+        notes += shape_warnings(P[use], box)
         if width <= self.min_width * 1.001:
             notes.append(f"The boundary width is at its lower bound ({self.min_width:g} "
                          "MPa½): the results are perfectly separated and the width only says "

@@ -13,7 +13,9 @@ is flipped (an outlier the model does not generate). Panels with fewer than two 
 two bad results are redrawn (counted).
 
 For each panel the posterior (:func:`solsphere.uncertainty.posterior.sample_posterior`,
-defaults) and the classic bootstrap (200 warm resamples) give 95 % intervals; the script
+defaults), the classic bootstrap (200 warm resamples; also scored with the basic,
+reflected interval of the same resamples) and the graded bootstrap give 95 % intervals;
+each posterior miss and the three slowest panels are listed; the script
 prints per parameter the share of panels whose interval holds the truth, and of the
 misses the share that came with a warning naming the parameter (``dD``...) or any
 warning. Prints
@@ -88,6 +90,19 @@ def warned(key: str, notes: list) -> tuple[bool, bool]:
     return any(any(nm in t for nm in names) for t in notes), bool(notes)
 
 
+def basic_intervals(b) -> dict:
+    """The basic bootstrap interval [2 t - q_hi, 2 t - q_lo] of the same resamples
+    (Davison and Hinkley 1997, eq. 5.6, from memory): reflects the resamples' skew about
+    the full fit."""
+    full = dict(zip(KEYS, (*b.centre, b.R0)))
+    samples = dict(zip(KEYS, (*b.centres.T, b.radii)))
+    out = {}
+    for k in KEYS:
+        lo, hi = np.percentile(samples[k], [2.5, 97.5])
+        out[k] = [2 * full[k] - hi, 2 * full[k] - lo]
+    return out
+
+
 class Tally:
     def __init__(self, keys):
         self.keys = keys
@@ -97,7 +112,9 @@ class Tally:
         self.miss_any = {k: 0 for k in keys}
         self.by_kind: dict = {}
 
-    def add(self, intervals, truth, notes, kind):
+    def add(self, intervals, truth, notes, kind, label=""):
+        """Count one panel; returns the misses as (key, described line)."""
+        misses = []
         for k in self.keys:
             lo, hi = intervals[k]
             ok = lo <= truth[k] <= hi
@@ -110,6 +127,10 @@ class Tally:
                 a, b = warned(k, notes)
                 self.miss_named[k] += a
                 self.miss_any[k] += b
+                misses.append(f"{label} {k}: truth {truth[k]:.2f} not in [{lo:.2f}, "
+                              f"{hi:.2f}] ({kind}; warned: "
+                              f"{'naming it' if a else 'other' if b else 'NONE'})")
+        return misses
 
     def coverage(self, k):
         return self.hit[k] / max(self.n[k], 1)
@@ -138,8 +159,10 @@ def main(argv=None) -> int:
     rng = np.random.default_rng(args.seed)
     post = Tally((*KEYS, "width"))
     boot = Tally(KEYS)
+    basic = Tally(KEYS)
+    graded = Tally(KEYS)
     redraws = flips = 0
-    t_post, t_boot, ess, errors = [], [], [], []
+    t_post, t_boot, ess, errors, missed, slow = [], [], [], [], [], []
     for i in range(args.panels):
         X, outcomes, truth, kind, r, f = make_panel(pool, rng)
         redraws += r
@@ -152,7 +175,11 @@ def main(argv=None) -> int:
             continue
         t_post.append(time.perf_counter() - t)
         ess.append(getattr(p, "effective_samples", float("nan")))
-        post.add(p.intervals, truth, p.warnings, kind)
+        label = (f"panel {i} (n={len(X)}, w={truth['width']:.2f}, R0={truth['R0']:.1f}"
+                 f"{', flipped' if f else ''})")
+        missed += post.add(p.intervals, truth, p.warnings, kind, label)
+        slow.append((t_post[-1], label, getattr(p, "converged", None),
+                     getattr(p, "autocorr_time", None)))
         if args.bootstrap:
             t = time.perf_counter()
             try:
@@ -162,6 +189,14 @@ def main(argv=None) -> int:
                 continue
             t_boot.append(time.perf_counter() - t)
             boot.add(b.intervals, truth, b.warnings, kind)
+            basic.add(basic_intervals(b), truth, b.warnings, kind)
+            try:
+                gb = bootstrap(X, outcomes, args.bootstrap, seed=i, method="graded",
+                               partial="good", n_jobs=1)
+            except Exception as e:  # noqa: BLE001
+                errors.append(f"panel {i} graded bootstrap: {type(e).__name__}: {e}")
+                continue
+            graded.add(gb.intervals, truth, gb.warnings, kind)
     worst = min(post.coverage(k) for k in KEYS)
     ok = worst >= TARGET and not errors
     print(f"BENCH calibration ratio={worst:.3f} target={TARGET:g} {'ok' if ok else 'FAIL'}")
@@ -170,10 +205,17 @@ def main(argv=None) -> int:
     print("\n".join(post.lines("posterior")))
     if args.bootstrap:
         print("\n".join(boot.lines(f"classic bootstrap ({args.bootstrap} resamples)")))
+        print("\n".join(basic.lines("classic bootstrap, basic (reflected) interval, same "
+                                    "resamples")))
+        print("\n".join(graded.lines(f"graded bootstrap ({args.bootstrap} resamples)")))
     print(f"  posterior time median {np.median(t_post):.2f} s, max {np.max(t_post):.2f} s; "
           f"effective samples median {np.nanmedian(ess) if np.isfinite(ess).any() else 'n/a'}")
     if t_boot:
         print(f"  bootstrap time median {np.median(t_boot):.2f} s")
+    for t, label, conv, tau in sorted(slow, key=lambda r: r[0], reverse=True)[:3]:
+        print(f"  slowest: {label}: {t:.1f} s, converged {conv}, tau {tau}")
+    for line in missed:
+        print("  posterior miss: " + line)
     for e in errors:
         print("  ERROR " + e)
     return 0 if ok else 1
