@@ -42,6 +42,8 @@ API = {
     "solsphere.models.graded": ("GradedFitResult", "GradedSphereModel"),
     "solsphere.models.twosphere": ("TwoSphereFitResult", "TwoSphereModel"),
     "solsphere.report.figures": ("map3d", "projections"),
+    "solsphere.report.share": ("ShareReport", "build_share"),
+    "solsphere.report.export": ("write_images",),
     "solsphere.uncertainty.bootstrap": ("Bootstrap", "Influence", "bootstrap", "influence"),
     "solsphere.uncertainty.nexttrials": ("Suggestions", "suggest_next"),
     "solsphere.uncertainty.posterior": ("Posterior", "sample_posterior"),
@@ -81,8 +83,8 @@ __all__ = [
     "estimate", "Estimates", "plan_from_structure",
     # workflows (what the CLI and the app do)
     "candidate_pool", "design_blends", "BlendDesign", "find_replacements", "fit_project",
-    # figures
-    "map3d", "projections",
+    # figures and the share report
+    "map3d", "projections", "build_share", "ShareReport", "write_images",
     # errors
     "SolsphereError", "InputError", "FitError", "NotFittedError",
 ]

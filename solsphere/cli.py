@@ -164,6 +164,25 @@ def _add_pool(p, pool: str = "working"):
                         "(Hansen–Beerbower relations); the sphere stays as fitted")
 
 
+def _add_blend_options(p, drying: str = "with --drying: "):
+    """The blend design options of ``blend`` and ``share`` (one definition)."""
+    p.add_argument("--components", type=int, choices=(2, 3), default=2,
+                   help="two- or three-solvent blends (default 2)")
+    p.add_argument("--max-fraction", action="append", default=[], metavar="NAME=F",
+                   help="upper volume-fraction limit for a solvent in 3-component blends, "
+                        "e.g. toluene=0.3 or toluene=30%% (repeatable)")
+    p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
+                   help="lower volume-fraction limit (repeatable)")
+    p.add_argument("--rank-by", choices=RANK_CHOICES, default="hazard",
+                   help="the priority after feasibility (inside, one phase) and robustness "
+                        "(window width): hazard (default; safer first), cost (needs shelf "
+                        f"prices), drying ({drying}stays inside longest), evaporation "
+                        "(faster first); 'red' = the plain RED order of earlier versions")
+    p.add_argument("--all-combinations", action="store_true",
+                   help="list the top blends even when a solvent repeats (by default no "
+                        "solvent is in more than two of them)")
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="solsphere", epilog=EPILOG,
                      description="Hansen solubility spheres from bench results: fit, rank "
@@ -228,24 +247,10 @@ def build_parser() -> argparse.ArgumentParser:
     _add_pool(p)
     p.add_argument("--with-single", action="store_true",
                    help="also list pairs whose best mix is one solvent alone")
-    p.add_argument("--components", type=int, choices=(2, 3), default=2,
-                   help="two- or three-solvent blends (default 2)")
-    p.add_argument("--max-fraction", action="append", default=[], metavar="NAME=F",
-                   help="upper volume-fraction limit for a solvent in 3-component blends, "
-                        "e.g. toluene=0.3 or toluene=30%% (repeatable)")
-    p.add_argument("--min-fraction", action="append", default=[], metavar="NAME=F",
-                   help="lower volume-fraction limit (repeatable)")
     p.add_argument("--drying", action="store_true",
                    help="simulate evaporation (activity coefficients, evaporative cooling) "
                         "and report when the drying liquid leaves the sphere")
-    p.add_argument("--rank-by", choices=RANK_CHOICES, default="hazard",
-                   help="the priority after feasibility (inside, one phase) and robustness "
-                        "(window width): hazard (default; safer first), cost (needs shelf "
-                        "prices), drying (with --drying: stays inside longest), evaporation "
-                        "(faster first); 'red' = the plain RED order of earlier versions")
-    p.add_argument("--all-combinations", action="store_true",
-                   help="list the top blends even when a solvent repeats (by default no "
-                        "solvent is in more than two of them)")
+    _add_blend_options(p)
 
     p = sub.add_parser("mixture", help="flash point, vapour pressure, phases and drying path "
                        "of one blend (activity coefficients)", epilog=EPILOG)
@@ -276,10 +281,38 @@ def build_parser() -> argparse.ArgumentParser:
     _add_pool(p)
     _add_limits(p)
 
-    p = sub.add_parser("share", help="write one self-contained HTML file with the 3D map", epilog=EPILOG)
+    p = sub.add_parser("share", help="write a report page (one self-contained HTML file with "
+                                     "the 3D map) or the map as PNG, SVG or PDF", epilog=EPILOG)
     _add_input(p)
-    p.add_argument("-o", "--output", required=True, metavar="OUT.html", help="where to write it")
-    p.add_argument("--title", default=None, help="page title")
+    p.add_argument("-o", "--output", required=True, action="append", metavar="OUT",
+                   help="where to write: OUT.html the report page (opens offline, prints to "
+                        "a clean A4 page); OUT.png, OUT.svg or OUT.pdf a figure (needs "
+                        "Chromium). Repeatable: every image is drawn by one browser")
+    p.add_argument("--title", default=None, help="page title (default: 'Solubility report' "
+                                                 "and the material's name)")
+    p.add_argument("--material-name", metavar="NAME", default=None,
+                   help="the material's name, shown on the page")
+    p.add_argument("--notes", metavar="TEXT", default=None,
+                   help="notes shown under the title (e.g. how the results were judged)")
+    _add_pool(p)
+    p.add_argument("--blends", type=_count, default=5, metavar="N",
+                   help="blends to list (default 5; 0 for none)")
+    _add_blend_options(p, drying="")
+    p.add_argument("--replace", metavar="NAME", default=None,
+                   help="also list replacements for this solvent from the same candidates")
+    p.add_argument("--pairs", type=_count, default=5, metavar="N",
+                   help="with --replace: pairs to list (default 5)")
+    p.add_argument("--allow-worse", action="store_true",
+                   help="with --replace: also offer candidates worse than the solvent "
+                        "replaced on a hazard")
+    _add_bootstrap(p, "show 95 %% intervals of the centre and R0 and each solvent's p_good")
+    p.add_argument("--figure", choices=("map", "planes", "ladder"), default="map",
+                   help="the figure written to .png/.svg/.pdf outputs: 'map' the 3D map "
+                        "(default), 'planes' the three 2D planes, 'ladder' the RED ladder")
+    p.add_argument("--width", type=_at_most(6000, "pixels"), default=None, metavar="PX",
+                   help="image width in CSS pixels (default 1000; PNG drawn at twice this)")
+    p.add_argument("--height", type=_at_most(6000, "pixels"), default=None, metavar="PX",
+                   help="image height in CSS pixels (default 750)")
 
     p = sub.add_parser("app", help="serve the interactive app in the browser", epilog=EPILOG)
     p.add_argument("file", metavar="FILE", nargs="?", help="project or results file to open")
@@ -300,6 +333,9 @@ def _version() -> str:
 
 #: Each workflow setting an error can be about, with the option that sets it and a hint.
 SETTING_OPTIONS = {
+    "output": ("-o", None),
+    "width": ("--width", "give a width from 50 to 6000 px"),
+    "height": ("--height", "give a height from 50 to 6000 px"),
     "drying": ("--rank-by", "add --drying"),
     "rank_by": ("--rank-by", "give --candidates SHELF with columns solvent,price"),
     "max_fraction": ("--max-fraction", "write e.g. --max-fraction toluene=0.3 or toluene=30%"),

@@ -19,6 +19,8 @@ from solsphere.io.project import load_any, save
 from solsphere.library.table import load_library
 from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
+from solsphere.report.export import image_format, write_images
+from solsphere.report.share import build_share
 from solsphere.uncertainty.bootstrap import bootstrap, influence
 from solsphere.uncertainty.nexttrials import suggest_next
 from solsphere.uncertainty.posterior import MAX_SECONDS, sample_posterior
@@ -310,15 +312,43 @@ def cmd_replace(args) -> int:
 
 
 def cmd_share(args) -> int:
-    from solsphere.report.share import share_page  # deferred: plotly is heavy to import
-
-    check_output(args.output, inputs=[args.file])
+    # an output ending in .png, .svg or .pdf gets the figure, any other the report page
+    outputs = list(args.output)
+    for out in outputs:  # said before any work, and a pipe or device is never opened
+        check_output(out, inputs=[args.file])
+        if image_format(out) is None:
+            _check_share_target(out)
+    if len(set(map(str, outputs))) < len(outputs):
+        raise InputError("the same output is named twice.", file="<command line>",
+                         column="-o", hint="give each -o a different file")
     project, fit, lib = load_session(args)
-    _check_share_target(args.output)
-    page = share_page(project, fit, lib, title=args.title)
-    atomic_write_text(args.output, page)
-    _emit(args, {"output": args.output, "bytes": len(page.encode())},
-          f"Wrote {args.output} ({len(page.encode()) / 1e6:.1f} MB, self-contained, opens offline)")
+    boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
+    report = build_share(project, fit, lib, title=args.title, material=args.material_name,
+                         notes=args.notes, top=args.top, n_blends=args.blends,
+                         components=args.components, rank_by=args.rank_by,
+                         diverse=not args.all_combinations, max_fraction=args.max_fraction,
+                         min_fraction=args.min_fraction, replace=args.replace,
+                         n_pairs=args.pairs, allow_worse=args.allow_worse, bootstrap=boot,
+                         **pool_options(args))
+    written, lines = [], []
+    pages = [o for o in outputs if image_format(o) is None]
+    if pages:
+        page = report.html()
+        for out in pages:
+            atomic_write_text(out, page)
+            n = len(page.encode())
+            written.append({"path": out, "format": "html", "bytes": n})
+            lines.append(f"Wrote {out} ({n / 1e6:.1f} MB, self-contained, opens offline)")
+    images = [o for o in outputs if image_format(o) is not None]
+    if images:
+        fig = report.figure_for_image(args.figure)
+        for img in write_images([(fig, o) for o in images], width=args.width,
+                                height=args.height):
+            written.append(img.to_dict())
+            lines.append(f"Wrote {img.path} ({img.format.upper()}, {img.bytes / 1e3:.0f} kB)")
+    first = written[0]
+    _emit(args, {"output": first["path"], "bytes": first["bytes"], "outputs": written,
+                 "report": report.to_dict()}, "\n".join(lines))
     return 0
 
 

@@ -180,7 +180,7 @@ def test_every_write_in_the_package_and_the_app_is_atomic_or_private():
         assert any((w["file"], w["function"]) == key for w in found), key
     # and the user-facing saves do go through the atomic writer
     assert "atomic_write_text(path, text)" in (ROOT / "solsphere/io/project.py").read_text()
-    assert "atomic_write_text(args.output, page)" in (ROOT / "solsphere/commands.py").read_text()
+    assert "atomic_write_text(out, page)" in (ROOT / "solsphere/commands.py").read_text()
 
 
 # ------------------------------------------------------------------ 2. the seam

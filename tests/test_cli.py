@@ -476,8 +476,12 @@ def test_share_is_self_contained(shared):
 
 def test_share_contains_the_fit_report_and_caution(shared):
     page = shared["html"]
-    assert "[[Fit]]" in page and "[[Parameters]]" in page and "R0 =" in page
-    assert "confirm at the bench" in page
+    # the summary in plain words; the command line's report only folded away at the end
+    assert "<h2>Summary</h2>" in page and "radius R0" in page and "RED (relative energy" in page
+    assert page.index("<h2>Summary</h2>") < page.index("[[Fit]]")
+    assert "<details>" in page[page.index("[[Fit]]") - 300:page.index("[[Fit]]")]
+    assert "confirm every recommendation at the bench" in page
+    assert "Read the safety data sheet" in page
 
 
 def test_share_escapes_user_text(shared):

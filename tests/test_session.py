@@ -146,9 +146,11 @@ def _fig(page, var):
 
 def test_share_page_title_report_and_sections(page, demo):
     project, fit = demo
-    assert f"<title>Hansen solubility sphere — {project.trials.source}</title>" in page
-    assert f"dD = {fit.dD:.1f} MPa½" in page and f"R0 = {fit.R0:.1f} MPa½" in page
-    assert "Untried solvents nearest the sphere" in page and "<h2>Blends</h2>" in page
+    # the title is not the file name; the file is named on the line under it
+    assert "<title>Solubility report</title>" in page
+    assert f"Bench results: {project.trials.source}" in page
+    assert f"δD {fit.dD:.1f}, δP {fit.dP:.1f}, δH {fit.dH:.1f} MPa½, radius R0 {fit.R0:.1f}" in page
+    assert "<h2>Untried solvents to try</h2>" in page and "<h2>Blends</h2>" in page
 
 
 def test_share_page_blends_have_segments(page, lib):
