@@ -448,3 +448,13 @@ def test_pairs_the_phase_test_flags_come_after_pairs_that_mix():
     assert split == sorted(split)  # every flagged pair after every unflagged one
     for b, s in zip(d["blends"], split):
         assert b["criteria"]["one_phase"] is (not s), b["solvents"]
+
+
+def test_replacements_with_estimated_coordinates_are_marked():
+    rc, out, err = run(["replace", "NMP", "--top", "10"])
+    assert rc == 0, err
+    marked = [ln for ln in out.splitlines() if re.match(r"\d+\s+\S.* \*\s", ln)]
+    assert marked and all("formylmorpholine" in ln or "solketal" in ln or "levulinate" in ln
+                          or "lactate" in ln or "oxolane" in ln or "diacetate" in ln
+                          for ln in marked)
+    assert "* δD, δP, δH estimated from structure, not measured" in out

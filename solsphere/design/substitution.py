@@ -140,7 +140,8 @@ class Substitution(Result):
         for k, s in enumerate(self.singles, 1):
             v = s.versus
             lst_s = listing_of(s.solvent)
-            rows.append((str(k), s.solvent.name[:40], f"{s.Ra:.1f}")
+            rows.append((str(k), s.solvent.name[:40] + (" *" if _estimated(s.solvent) else ""),
+                         f"{s.Ra:.1f}")
                         + ((("—" if s.red is None else f"{s.red:.2f}"),) if self.material else ())
                         + (_fp(s.solvent), _cat(ghs_category(s.solvent)),
                            _WORD[v.get("carcinogen", "unknown")],
@@ -156,11 +157,18 @@ class Substitution(Result):
         out = [head, rule + ".", order, format_table(rows)]
         if self.pairs:
             out += ["", f"Pairs (no solvent in more than {MAX_USES}):", format_table(prow)]
+        if any(_estimated(s.solvent) for s in self.singles):
+            out.append("* δD, δP, δH estimated from structure, not measured (95 % uncertain by "
+                       "up to about 5 MPa½): its Ra is uncertain; confirm at the bench.")
         for reason, names in self.refused.items():
             if names:
                 shown = ", ".join(names[:12]) + (f" … ({len(names)} in all)" if len(names) > 12 else "")
                 out.append(f"Left out ({reason}): {shown}")
         return "\n".join(out + [LISTING_CAUTION, CAUTION])
+
+
+def _estimated(s: Solvent) -> bool:
+    return str(s.sources.get("dD", "")).startswith("estimated from structure")
 
 
 def _cat(c) -> str:
