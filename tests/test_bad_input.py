@@ -204,8 +204,9 @@ BENCH_REFUSED = [
     ("pdf", "r.csv", b"%PDF-1.7\n" + JUNK[:500], None, None, ["pdf"]),
     ("nul-bytes", "r.csv", b"solvent,outcome\ntoluene,good\nwa\x00ter,bad\n", 3, None,
      ["nul"]),
-    ("latin1-not-utf8", "r.csv", "solvent,outcome,note\ntoluene,good,trouble\nwater,bad,trübe\n"
-     .encode("latin-1"), 3, 13, ["not valid utf-8", "utf-8"]),
+    # 0x81 is neither UTF-8 nor defined in the Windows code page 1252 (the fallback)
+    ("not-utf8-nor-cp1252", "r.csv", b"solvent,outcome,note\ntoluene,good,trouble\n"
+     b"water,bad,tr\x81be\n", 3, 13, ["not valid utf-8", "utf-8"]),
     ("too-big", "r.csv", b"solvent,outcome\n" + b"toluene,good\n" * 400_000, None, None,
      ["limit"]),
     ("all-dissolve", "r.csv", lines("toluene,good", "acetone,good"), None, None,
@@ -537,7 +538,7 @@ CLI_REFUSED = [
      ["--pairs"]),
     ("port-zero", ["app", "--port", "0"], "<command line>", None, ["--port"]),
     ("port-too-big", ["app", "--port", "70000"], "<command line>", None, ["--port", "65535"]),
-    ("dash-as-file", ["fit", "-"], "-", None, ["not found"]),
+    ("dash-as-file", ["fit", "-"], "<stdin>", None, ["standard input"]),
     ("seed-negative", ["fit", "{bench}", "--seed", "-1"], "<command line>", None,
      ["--seed", "≥ 0"]),
     ("seed-not-a-number", ["fit", "{bench}", "--seed", "abc"], "<command line>", None,
@@ -664,7 +665,7 @@ UPLOAD_REFUSED = [
     ("newer-project", None, "proj.json", None, None, ["newer solsphere"]),
     ("truncated-project", None, "proj.json", None, None, ["cut short"]),
     ("project-not-json", data_url(b"{not json"), "proj.json", 1, 2, ["not valid json"]),
-    ("latin1", data_url("solvent,outcome\nwater,trübe\n".encode("latin-1")), "alt.csv", 2, 9,
+    ("not-cp1252", data_url(b"solvent,outcome\nwater,tr\x81be\n"), "alt.csv", 2, 9,
      ["utf-8"]),
     ("traversal-name-bad-content", data_url(b"solvent,outcome\n"), "../../../etc/passwd", 2,
      None, ["no trial rows"]),
