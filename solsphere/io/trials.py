@@ -64,7 +64,7 @@ from solsphere.limits import check as check_limit, clip, current as current_limi
 __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
            "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates",
-           "parse_blend_spec", "read_materials", "read_bytes_table", "CAL_TO_MPA",
+           "parse_blend_spec", "read_materials", "pick_material", "read_bytes_table", "CAL_TO_MPA",
            "MAX_PROBLEMS"]
 
 #: Canonical outcomes.
@@ -460,7 +460,7 @@ def read_bytes_table(data: bytes, source: str, library: LibraryLike | None = Non
     whose ending says whether it is a workbook.
     """
     groups = _read_groups(data, source, library, name=name, sheet=sheet, scale=scale)
-    return _pick(groups, source, material)
+    return pick_material(groups, source, material)
 
 
 def read_materials(source, library: LibraryLike | None = None, *, sheet: str | None = None,
@@ -488,8 +488,9 @@ def read_materials(source, library: LibraryLike | None = None, *, sheet: str | N
     return _read_groups(read_bytes(source), label, library, sheet=sheet, scale=scale)
 
 
-def _pick(groups: list, source: str, material: str | None) -> Trials:
-    """The one material asked for (or the only one)."""
+def pick_material(groups: list, source: str, material: str | None) -> Trials:
+    """The one material of ``groups`` (from :func:`read_materials`) asked for, or the
+    only one; InputError (``setting="material"``) naming the materials otherwise."""
     names = [g.material for g in groups if g.material is not None]
     shown = ", ".join(repr(n) for n in names[:8]) + (" …" if len(names) > 8 else "")
     if material is not None:
@@ -620,7 +621,7 @@ def read_text(text: str, source: str = "<text>", library: LibraryLike | None = N
     names it in messages; ``library``, ``scale``, ``material`` and the result are as for
     :func:`read`, and so is the error raised for the first problem.
     """
-    return _pick(_text_groups(text, source, library, scale=scale), source, material)
+    return pick_material(_text_groups(text, source, library, scale=scale), source, material)
 
 
 def _table_text(source) -> tuple[str, str] | None:
