@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 import sys
+from importlib.resources import files
 from pathlib import Path
 
 from solsphere.design.ranking import rank_solvents
@@ -130,8 +131,6 @@ def resolved_names(project) -> list[str]:
 
 def demo_path() -> str:
     """The packaged demo results file (invented data), wherever solsphere is installed."""
-    from importlib.resources import files  # deferred: only --demo needs it
-
     entry = files("solsphere.data.demo").joinpath("varnish_binder.csv")
     if not entry.is_file():
         raise InputError("the packaged demo results are missing from this installation.",

@@ -77,7 +77,13 @@ def check_refused(rc: int, out: str, err: str, *, file: str | None, line=None, c
     assert rc == 2, f"expected exit code 2, got {rc}: {err or out}"
     assert "Traceback" not in err and "Traceback" not in out
     msg_lines = [ln for ln in err.splitlines() if ln.strip()]
-    assert len(msg_lines) == 1, f"expected one message line, got: {err!r}"
+    # one line per problem: the first, then the others of the same file (at most 20),
+    # each a complete message of its own
+    assert 1 <= len(msg_lines) <= 20, f"expected one line per problem, got: {err!r}"
+    assert all(ln.startswith("solsphere: error:") for ln in msg_lines), err
+    if len(msg_lines) > 1:
+        assert "more problem" in msg_lines[0], msg_lines[0]
+        assert all(file is None or file in ln for ln in msg_lines), err
     msg = msg_lines[0]
     assert msg.startswith("solsphere: error:"), msg
     if file is not None:
@@ -515,7 +521,7 @@ CLI_REFUSED = [
     ("unknown-subcommand", ["fitt", "{bench}"], "<command line>", None, ["invalid choice"]),
     ("unknown-option", ["fit", "{bench}", "--frobnicate"], "<command line>", None,
      ["unrecognized arguments"]),
-    ("missing-file-argument", ["fit"], "<command line>", None, ["required"]),
+    ("missing-file-argument", ["fit"], "<command line>", None, ["needs a results"]),
     ("share-without-output", ["share", "{bench}"], "<command line>", None, ["-o"]),
     ("exclude-unknown-name", ["rank", "{bench}", "--exclude", "toluene,tolunee"],
      "<command line>", "--exclude", ["did you mean"]),

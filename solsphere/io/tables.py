@@ -8,7 +8,9 @@ workbook (openpyxl, one sheet); JSON gets the whole ``to_dict()``. Cells that ho
 as JSON text, so every table is flat. The write is atomic and never destroys: a
 folder, a device, a pipe or one of the command's input files is refused
 (:func:`solsphere.io.files.check_output`), and so is replacing an existing file that is
-not a table of that kind (a results workbook given to ``-o`` by mistake is kept).
+not an earlier table of the same kind (a results file or workbook given to ``-o`` by
+mistake is kept): a CSV with the same header line, a JSON object with the same keys, a
+workbook whose author is solsphere.
 """
 
 from __future__ import annotations
@@ -97,6 +99,7 @@ def _xlsx_bytes(columns, rows, title: str) -> bytes:
     for row in rows:
         ws.append([_safe_text(v) for v in row])
     ws.freeze_panes = "A2"
+    wb.properties.creator = XLSX_CREATOR
     buf = io.BytesIO()
     wb.save(buf)
     return buf.getvalue()
@@ -107,30 +110,37 @@ def _json_bytes(obj) -> bytes:
             + "\n").encode("utf-8")
 
 
-def _replaceable(path, kind: str) -> bool:
-    """True for a new path, or an existing file that is already a table of ``kind``."""
+#: The workbook author written into every .xlsx table (how a later -o recognises its own).
+XLSX_CREATOR = "solsphere"
+
+
+def _replaceable(path, kind: str, data: bytes) -> bool:
+    """True for a new or empty path, or an existing file that is an earlier table of the
+    same kind: a .csv with the same header line, a .json object with the same keys, an
+    .xlsx that solsphere wrote. Anything else (a user's results, a project) is kept."""
     if not os.path.isfile(path):
         return True
     try:
         with open(path, "rb") as fh:
-            head = fh.read(4096)
+            old = fh.read(2_000_000)
     except OSError:
+        return True  # the writer reports what is wrong with the path
+    if not old.strip():
         return True
-    if not head:
-        return True
-    if kind == "xlsx":
-        try:
-            with zipfile.ZipFile(path) as zf:
-                names = zf.namelist()
-        except (zipfile.BadZipFile, OSError):
-            return False
-        # ours: one sheet written by write_table (more sheets: someone's workbook)
-        sheets = [n for n in names if n.startswith("xl/worksheets/sheet")]
-        return len(sheets) <= 1
-    text = head.lstrip(b"\xef\xbb\xbf").lstrip()
+    if kind == "csv":
+        return old.split(b"\n", 1)[0].rstrip(b"\r") == data.split(b"\n", 1)[0].rstrip(b"\r")
     if kind == "json":
-        return text.startswith(b"{") and b'"solsphere-project"' not in head
-    return b"\x00" not in head and not head.startswith(b"PK")
+        try:
+            before = json.loads(old.decode("utf-8"))
+        except (UnicodeDecodeError, ValueError):
+            return False
+        return isinstance(before, dict) and set(before) == set(json.loads(data.decode("utf-8")))
+    try:
+        with zipfile.ZipFile(path) as zf:
+            core = zf.read("docProps/core.xml")
+    except (zipfile.BadZipFile, KeyError, OSError):
+        return False
+    return f"<dc:creator>{XLSX_CREATOR}</dc:creator>".encode() in core
 
 
 def write_table(result, path, *, inputs=(), title: str = "table") -> str:
@@ -169,10 +179,6 @@ def write_table(result, path, *, inputs=(), title: str = "table") -> str:
     """
     kind = table_kind(path)
     check_output(path, inputs=inputs)
-    if not _replaceable(path, kind):
-        raise InputError(f"this file exists and is not a {kind.upper()} table solsphere "
-                         f"wrote; not overwriting it.", file=os.fspath(path),
-                         setting="output", hint="choose another name for the table")
     records = result.records() if hasattr(result, "records") else list(result)
     if kind == "json":
         obj = result.to_dict() if hasattr(result, "to_dict") else {"rows": records}
@@ -181,5 +187,9 @@ def write_table(result, path, *, inputs=(), title: str = "table") -> str:
         columns, rows = flat_rows(records)
         data = (_csv_bytes(columns, rows) if kind == "csv"
                 else _xlsx_bytes(columns, rows, title))
+    if not _replaceable(path, kind, data):
+        raise InputError(f"this file exists and is not an earlier table of this kind; not "
+                         f"overwriting it.", file=os.fspath(path), setting="output",
+                         hint="choose another name for the table, or delete the old file")
     atomic_write_bytes(path, data)
     return kind
