@@ -315,6 +315,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="results or project file: rank by behaviour towards that material")
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="with --for-material: how to count 'partly' results")
+    _add_reading(p)  # --sheet, --scale, --material for the --for-material file
     p.add_argument("--pairs", type=_count, default=5, metavar="N", help="pairs to list (default 5)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--allow-worse", action="store_true",

@@ -402,8 +402,8 @@ def cmd_replace(args) -> int:
     lib = load_library()
     fit = None
     if args.for_material:
-        fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
-                          library=lib)
+        fit = fit_project(load_any(args.for_material, library=lib, **reading(args)),
+                          partial=args.partial, library=lib)
     result = find_replacements(lib, args.name, fit=fit, top=args.top, n_pairs=args.pairs,
                                allow_worse=args.allow_worse, **pool_options(args))
     text = str(result) + "\n" + _pool_line(result.filters)

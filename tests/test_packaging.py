@@ -4,6 +4,8 @@ the demo data ship inside the wheel (so 'solsphere fit --demo' works once instal
 
 from __future__ import annotations
 
+import json
+import os
 import subprocess
 import sys
 import tomllib
@@ -51,11 +53,29 @@ def test_make_test_lowest_is_wired_into_ci():
 
 
 @pytest.mark.slow
-def test_the_wheel_ships_the_demo(tmp_path):
-    """Build the wheel and look inside (about half a minute)."""
+def test_the_installed_wheel_fits_its_demo_outside_the_repository(tmp_path):
+    """Build the wheel, install it (no dependencies) into a folder of its own, and run
+    'solsphere fit --demo' from another folder with that copy first on the path (about
+    half a minute)."""
     r = subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation",
-                        "-q", "-w", str(tmp_path), str(ROOT)], capture_output=True, text=True)
+                        "-q", "-w", str(tmp_path / "dist"), str(ROOT)],
+                       capture_output=True, text=True)
     assert r.returncode == 0, r.stderr
-    wheel = next(tmp_path.glob("solsphere-*.whl"))
+    wheel = next((tmp_path / "dist").glob("solsphere-*.whl"))
     names = zipfile.ZipFile(wheel).namelist()
     assert "solsphere/data/demo/varnish_binder.csv" in names
+    assert "solsphere/data/demo/three_binders.xlsx" in names
+    target = tmp_path / "site"
+    r = subprocess.run([sys.executable, "-m", "pip", "install", "--no-deps", "-q", "--target",
+                        str(target), str(wheel)], capture_output=True, text=True)
+    assert r.returncode == 0, r.stderr
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    env = {**os.environ, "PYTHONPATH": str(target)}
+    r = subprocess.run([sys.executable, "-c", "import solsphere, sys; print(solsphere.__file__)"],
+                       capture_output=True, text=True, cwd=elsewhere, env=env)
+    assert r.stdout.strip().startswith(str(target)), r.stdout  # the installed copy, not the repo
+    r = subprocess.run([sys.executable, "-m", "solsphere", "fit", "--demo", "--json",
+                        "--no-influence"], capture_output=True, text=True, cwd=elsewhere, env=env)
+    assert r.returncode == 0, r.stderr
+    assert json.loads(r.stdout)["n_trials"] > 10
