@@ -532,6 +532,11 @@ def liquid_state(cas, out, src):
 
 # --------------------------------------------------------------------------- curated data
 CURATED = HERE / "curated_solvents.csv"
+#: In the dD, dP, dH cells of a curated row: estimate them from the structure (the SMILES of
+#: chemicals.identifiers) with the packaged model of solsphere.estimate, marked with the
+#: 95 % half-widths; such rows are never training data (build_structure_model.py skips them).
+STRUCTURE = "structure"
+STRUCTURE_RULE = "structure estimate"
 _CURATED_COLUMNS = ("cas", "name", "dD", "dP", "dH", "boiling_point", "melting_point",
                     "flash_point", "vapour_pressure", "density", "mw", "carcinogen", "source")
 
@@ -559,7 +564,10 @@ def load_curated(path=CURATED) -> dict[str, dict]:
             raise ValueError(f"{where}: empty source")
         if 0 < sum(bool(row[k]) for k in ("dD", "dP", "dH")) < 3:
             raise ValueError(f"{where}: give all three of dD, dP, dH or none")
-        for k in ("dD", "dP", "dH", "boiling_point", "melting_point", "vapour_pressure",
+        structure = [row[k] == STRUCTURE for k in ("dD", "dP", "dH")]
+        if any(structure) and not all(structure):
+            raise ValueError(f"{where}: '{STRUCTURE}' goes in all three of dD, dP, dH")
+        for k in (() if all(structure) else ("dD", "dP", "dH")) + ("boiling_point", "melting_point", "vapour_pressure",
                   "density", "mw") + (("flash_point",) if row["flash_point"] != "none" else ()):
             if row[k] and _num(row[k]) is None:
                 raise ValueError(f"{where}, column {k}: not a number: {row[k]!r}")
@@ -576,7 +584,7 @@ def apply_curated(row: dict, cur: dict) -> None:
             row["synonyms"] = [row["name"]] + [x for x in row["synonyms"]
                                                if norm(x) != norm(row["name"])]
         row["name"] = cur["name"]
-    if cur["dD"]:
+    if cur["dD"] and cur["dD"] != STRUCTURE:
         row["dD"], row["dP"], row["dH"] = (round(float(cur[k]), 2) for k in ("dD", "dP", "dH"))
         for k in ("dD", "dP", "dH"):
             src[k] = "curated"
@@ -601,6 +609,21 @@ def apply_curated(row: dict, cur: dict) -> None:
     if cur["carcinogen"]:
         row["carcinogen"] = cur["carcinogen"]
         src["carcinogen"] = "curated"
+
+
+def structure_estimate(cas: str):
+    """The packaged structure model's estimate for the compound's SMILES (chemicals'
+    identifiers); RDKit is needed at build time only."""
+    from chemicals.identifiers import search_chemical
+
+    sys.path.insert(0, str(HERE.parent))
+    from solsphere.estimate.model import estimate
+
+    est = estimate([search_chemical(cas).smiles])[0]
+    if est.refused or not est.in_domain:
+        raise ValueError(f"curated_solvents.csv: {cas} cannot be estimated from its "
+                         f"structure ({est.refused or '; '.join(est.notes)})")
+    return est
 
 
 # --------------------------------------------------------------------------- estimates
@@ -766,12 +789,18 @@ def build(verbose: bool = True):
             if len(usable) < len(have):
                 rule += ", " + " ".join(m for m in have if m not in usable) + " set aside"
             dD, dP, dH = have[winner]
+        elif cur["dD"] == STRUCTURE:
+            winner, rule = "structure", STRUCTURE_RULE
+            est = structure_estimate(cas)
+            dD, dP, dH = (round(float(v), 2) for v in (est.dD, est.dP, est.dH))
         else:
             winner, rule = "curated", "curated"
             dD, dP, dH = (round(float(cur[k]), 2) for k in ("dD", "dP", "dH"))
         stats[rule] = stats.get(rule, 0) + 1
         props, src = properties(cas, mw, tables)
         sources = {"dD": winner, "dP": winner, "dH": winner, "hansen_rule": rule}
+        if rule == STRUCTURE_RULE:
+            sources.update(est.library_sources())
         if mw:
             sources["mw"] = "chemicals.identifiers"
         sources.update(src)

@@ -77,8 +77,8 @@ def load_training(path: Path = HERE / "solvents.csv"):
     rows = list(csv.DictReader(open(path, newline="", encoding="utf-8")))
     keep, mols, smiles = [], [], []
     for r in rows:
-        if "hansen_rule=curated" in r["sources"]:
-            continue  # Hansen parameters from data/curated_solvents.csv (some from memory)
+        if "hansen_rule=curated" in r["sources"] or "hansen_rule=structure" in r["sources"]:
+            continue  # from data/curated_solvents.csv (some from memory), or this model's own
         try:
             s = search_chemical(r["cas"]).smiles
         except ValueError:  # a mixture added by curated_solvents.csv (no structure)

@@ -293,11 +293,11 @@ def test_checksum_of_packaged_table():
     these numbers on purpose, with the reason in the commit message)."""
     with open(DATA / "solvents.csv", newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
-    assert len(rows) == 1235
-    assert sum(Decimal(r["dD"]) for r in rows) == Decimal("21016.42")
-    assert sum(Decimal(r["dP"]) for r in rows) == Decimal("9071.63")
-    assert sum(Decimal(r["dH"]) for r in rows) == Decimal("9179.31")
-    assert sum(r["liquid"] == "true" for r in rows) == 777
+    assert len(rows) == 1241  # 6 working solvents estimated from structure
+    assert sum(Decimal(r["dD"]) for r in rows) == Decimal("21117.23")
+    assert sum(Decimal(r["dP"]) for r in rows) == Decimal("9117.49")
+    assert sum(Decimal(r["dH"]) for r in rows) == Decimal("9235.62")
+    assert sum(r["liquid"] == "true" for r in rows) == 783
 
 
 def test_table_columns_and_units(lib):
@@ -312,7 +312,8 @@ def test_table_columns_and_units(lib):
     assert key == sorted(key) and len(set(cas)) == len(cas)
     for r in lib:
         assert 0 <= r.dP < 40 and 0 <= r.dH < 45 and 7 < r.dD < 30, r.name
-        assert r.sources["dD"] in r.compilations
+        assert (r.sources["dD"] in r.compilations
+                or r.sources["hansen_rule"] == "structure estimate"), r.name
         if r.alpha is not None:  # liquids expand by ~1e-4 to 2e-3 per K; molten metals less (common practice, no source)
             assert 1e-5 < r.alpha < 5e-3, r.name
         for f in ("boiling_point", "flash_point", "molar_volume", "vapour_pressure",

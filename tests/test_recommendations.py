@@ -24,8 +24,9 @@ from solsphere.design.ordering import (MAX_USES, diverse, order_blends, robustne
                                        sort_key)
 from solsphere.design.substitution import find_substitutes
 from solsphere.errors import AmbiguousNameError
-from solsphere.library.hazards import (compare, ghs_category, is_listed, load_listings,
-                                       never_worse, read_listings)
+from solsphere.library.hazards import (compare, corrosive_toxic_level, ghs_category,
+                                       hazard_facts, is_listed, load_health, load_listings,
+                                       never_worse, read_health, read_listings)
 from solsphere.library.pools import load_working, pool_name, working_cas
 from solsphere.library.table import Solvent, load_library
 
@@ -77,13 +78,15 @@ def test_curated_files_are_pinned():
     """Pinned checksums: an edit of a curated file is noticed (update on purpose, with the
     reason in the commit message)."""
     assert {n: _sha(n) for n in ("working_solvents.csv", "curated_solvents.csv",
-                                 "hazard_listings.csv", "aliases.csv")} == PINNED
+                                 "hazard_listings.csv", "health_hazards.csv",
+                                 "aliases.csv")} == PINNED
 
 
 PINNED = {
-    "working_solvents.csv": "1e30b6ec847f95a4",
-    "curated_solvents.csv": "9f450006362b9e94",
+    "working_solvents.csv": "b9d512b9bbd5f18f",
+    "curated_solvents.csv": "b23db264eb631831",
     "hazard_listings.csv": "0be9cce4fc2f7e6c",
+    "health_hazards.csv": "a0a1ab80f60f13c0",
     "aliases.csv": "e97bd5d28b8fcb0c",
 }
 
@@ -150,6 +153,61 @@ def test_listing_reader_refuses_bad_rows():
         read_listings(head + "1-1-1,x,3,,,EU,s\n")
     with pytest.raises(ValueError, match="jurisdiction and source"):
         read_listings(head + "1-1-1,x,1B,,,,\n")
+
+
+def test_health_file_is_marked_and_covers_the_working_pool_entries(lib):
+    text = (DATA / "health_hazards.csv").read_text(encoding="utf-8")
+    assert "FROM MEMORY" in text and "NEVER MEANS SAFE" in text
+    health = load_health()
+    keep = working_cas()
+    for cas, entry in health.items():
+        assert entry.source and entry.jurisdiction, cas
+        assert cas in keep, cas  # the file covers working solvents
+        assert lib.find(cas) is not None, cas
+    # common practice, no source: these are the working pool's corrosive or toxic liquids
+    for name in ("methanol", "acetic acid", "formic acid", "HFIP"):
+        assert corrosive_toxic_level(lib.lookup(name)) >= 1, name
+    for name in ("ethanol", "NMP", "GBL", "toluene"):  # GBL: eye damage only, not ranked
+        assert corrosive_toxic_level(lib.lookup(name)) == 0, name
+
+
+def test_health_reader_refuses_bad_rows():
+    head = "cas,name,skin,acute,eye,jurisdiction,source\n"
+    with pytest.raises(ValueError, match="line 2: skin must be"):
+        read_health(head + "1-1-1,x,2,,,EU,s\n")
+    with pytest.raises(ValueError, match="needs skin, acute or eye"):
+        read_health(head + "1-1-1,x,,,,EU,s\n")
+    with pytest.raises(ValueError, match="jurisdiction and source"):
+        read_health(head + "1-1-1,x,1A,,,,\n")
+    assert read_health(head + "1-1-1,x,,2,,EU,s\n")["1-1-1"].level() == 2
+
+
+def test_corrosive_and_toxic_solvents_are_worse_and_shown(lib):
+    # methanol (Acute Tox. 3) never replaces ethanol by default; acetic acid shows its facts
+    v = compare(lib.lookup("methanol"), lib.lookup("ethanol"))
+    assert v["corrosive_toxic"] == "worse"
+    assert never_worse(lib.lookup("methanol"), lib.lookup("ethanol"))[0] is False
+    assert hazard_facts(lib.lookup("acetic acid"))[0].startswith("corrosive or toxic: Skin Corr.")
+    assert hazard_facts(lib.lookup("NMP"))[0] == "listed: Repr. 1B (EU; restricted)"
+
+
+def test_rank_shows_listings_and_corrosives_beside_each_solvent(tmp_path):
+    # a sphere around NMP: NMP and its neighbours are ranked; the listing is in the flags
+    bench = tmp_path / "b.csv"
+    bench.write_text("solvent,outcome\nDMSO,good\nDMF,good\nacetone,good\nhexane,bad\n"
+                     "water,bad\ntoluene,bad\nmethanol,bad\nethyl acetate,bad\n",
+                     encoding="utf-8")
+    d = run_json(["rank", str(bench), "--top", "40"])
+    flags = {r["name"]: " | ".join(r["flags"]) for r in d["solvents"]}
+    nmp = next(k for k in flags if "pyrrolid" in k and "methyl" in k)
+    assert "Repr. 1B" in flags[nmp]
+
+
+def test_demo_blends_put_no_corrosive_or_toxic_solvent_in_the_top_ten():
+    d = run_json(["blend", str(DEMO), "--top", "10"])
+    names = " ".join(c for b in d["blends"] for c in b["solvents"])
+    for bad in ("hexafluoroisopropanol", "acetic acid", "formic acid", "methanol"):
+        assert bad not in names, bad
 
 
 def test_listing_cas_numbers_against_chemicals():
@@ -234,7 +292,8 @@ def test_ghs_categories_and_comparison(lib):
     assert ghs_category(lib.lookup("water")) == 0
     assert ghs_category(Solvent("x", 1, 1, 1)) is None
     v = compare(lib.lookup("DMSO"), lib.lookup("DMF"))
-    assert v == {"carcinogen": "better", "reprotoxic": "better", "flammability": "better"}
+    assert v == {"carcinogen": "better", "reprotoxic": "better", "corrosive_toxic": "same",
+                 "flammability": "better"}
     assert never_worse(lib.lookup("benzene"), lib.lookup("toluene"))[0] is False
     assert never_worse(lib.lookup("DMAc"), lib.lookup("DMF"))[1].startswith("listed")
 

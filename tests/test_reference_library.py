@@ -73,6 +73,9 @@ def test_every_value_comes_from_a_compilation_by_the_rule(lib, tables):
         if r.sources.get("hansen_rule") == "curated":  # data/curated_solvents.csv, own test
             assert not have and r.compilations == ("curated",), r.name
             continue
+        if r.sources.get("hansen_rule") == "structure estimate":  # own test in test_estimate
+            assert not have and not r.compilations, r.name
+            continue
         assert have, f"{r.name} ({r.cas}) is in none of the three compilations"
         usable = {m: p for m, p in have.items() if (r.cas, m) not in SET_ASIDE}
         win = _winner(usable)

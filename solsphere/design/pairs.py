@@ -62,7 +62,8 @@ from solsphere.limits import check as check_limit
 from solsphere.formatting import blend_label, float_or_none, format_table, num, pct, plain
 from solsphere.hansen import SCALE, flory_huggins_chi, mix, ra
 from solsphere.library.pools import apply_filters
-from solsphere.library.table import Solvent, hazard_flags
+from solsphere.library.hazards import hazard_facts
+from solsphere.library.table import Solvent
 from solsphere.mixtures.phases import pair_split, volume_gap
 from solsphere.results import Result
 
@@ -424,7 +425,7 @@ def component_flags(solvents: Sequence[Solvent]) -> list[str]:
             if warning:
                 out.append(warning)
     for s in solvents:
-        for text in hazard_flags(s) or ():
+        for text in hazard_facts(s) or ():
             text = str(text)
             line = text if text.casefold().startswith(s.name.casefold()) else f"{s.name}: {text}"
             if line not in out:

@@ -14,7 +14,8 @@ import numpy as np
 
 from solsphere import hansen as hsp
 from solsphere.formatting import format_table, num
-from solsphere.library.table import Solvent, hazard_flags, is_tested, tested_keys
+from solsphere.library.hazards import hazard_facts
+from solsphere.library.table import Solvent, is_tested, tested_keys
 from solsphere.results import Result
 
 CAUTION = ("Predictions are guides: confirm at the bench. Solvents are flammable and toxic: "
@@ -142,7 +143,7 @@ def rank_solvents(candidates, centre, R0: float, top: int | None = None,
         s = pool[i][0]
         chi = (float(np.ravel(hsp.flory_huggins_chi(dist[i], s.molar_volume, temperature_C))[0])
                if s.molar_volume else None)
-        rows.append(RankedSolvent(s, float(dist[i]), float(dist[i] / R0), hazard_flags(s),
+        rows.append(RankedSolvent(s, float(dist[i]), float(dist[i] / R0), hazard_facts(s),
                                   pool[i][1], chi,
                                   None if p_good is None else float(p_good[n])))
     return Ranking(rows, centre, float(R0), len(pool), dict(filters or {}))

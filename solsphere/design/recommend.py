@@ -75,7 +75,7 @@ class RankedBlends:
                 + ("" if not self.diverse else
                    f" Diverse: no solvent in more than {MAX_USES} of the listed blends."),
                 ("hazard = the worse component's score: 3 × carcinogen class + 3 × reprotoxic "
-                 "class + GHS flammability (0 none … 4 category 1)." if self.priority == "hazard"
+                 "class + 3 × corrosive/toxic class + GHS flammability (0 none … 4 category 1)." if self.priority == "hazard"
                  else ""), ""]
         f = s.filters
         lim = []

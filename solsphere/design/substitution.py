@@ -13,7 +13,8 @@ Two questions, two rankings:
   sorted by Ra to the old solvent among blends on the same side.
 
 Never worse by default: a candidate that is worse than the old solvent on carcinogen
-class, reprotoxic listing or GHS flammability category, that lacks the data to tell
+class, reprotoxic listing, skin corrosion/acute toxicity or GHS flammability category,
+that lacks the data to tell
 (listed as left out for lack of data), or that is itself listed
 (:func:`solsphere.library.hazards.never_worse`) is left out unless ``allow_worse``.
 Each candidate shows better / same / worse per hazard.
@@ -42,8 +43,8 @@ from solsphere.design.pairs import make_blend, pair_screen
 from solsphere.design.ranking import CAUTION
 from solsphere.formatting import format_table, plain
 from solsphere.library.hazards import (LISTING_CAUTION, compare, ghs_category,
-                                       hazard_score, listing_of, never_worse)
-from solsphere.library.table import Solvent, hazard_flags
+                                       hazard_facts, hazard_score, listing_of, never_worse)
+from solsphere.library.table import Solvent
 from solsphere.limits import check as check_limit
 from solsphere.results import Result
 
@@ -127,13 +128,15 @@ class Substitution(Result):
             head += (f" for the material at {m['dD']:.1f}, {m['dP']:.1f}, {m['dH']:.1f}, "
                      f"R0 {m['R0']:.1f} (old solvent's RED {m['red_target']:.2f})")
         rule = ("Never worse than the old solvent on carcinogen class, reprotoxic/regulatory "
-                "listing and GHS flammability category; listed solvents left out"
+                "listing, skin corrosion/acute toxicity and GHS flammability category; listed "
+                "solvents left out"
                 if not self.allow_worse else
                 "--allow-worse: candidates may be worse than the old solvent (see the columns)")
         order = (f"Order: {'same side as the old solvent → margin 1−RED (steps of 0.1)' if self.material else f'closeness to the old solvent (Ra in steps of {RA_STEP:g} MPa½)'}"
                  f" → {self.priority} → Ra.")
         rows = [("#", "single solvent", "Ra to old") + (("RED",) if self.material else ())
-                + ("flash °C", "GHS", "carcinogen", "reprotoxic", "flammability", "listing")]
+                + ("flash °C", "GHS", "carcinogen", "reprotoxic", "corr./toxic", "flammability",
+                   "listing")]
         for k, s in enumerate(self.singles, 1):
             v = s.versus
             lst_s = listing_of(s.solvent)
@@ -142,6 +145,7 @@ class Substitution(Result):
                         + (_fp(s.solvent), _cat(ghs_category(s.solvent)),
                            _WORD[v.get("carcinogen", "unknown")],
                            _WORD[v.get("reprotoxic", "unknown")],
+                           _WORD[v.get("corrosive_toxic", "unknown")],
                            _WORD[v.get("flammability", "unknown")],
                            "—" if lst_s is None else lst_s.text()))
         prow = [("#", "pair (volume %)", "feasible", "Ra to old", "hazard", "flash °C")]
@@ -241,7 +245,7 @@ def find_substitutes(target: Solvent, candidates, top: int = 10, n_pairs: int = 
             singles.append(Substitute(s, float(dist[k]),
                                       None if reds is None else float(reds[k]),
                                       None if side is None else bool(side[k]),
-                                      hazard_flags(s), compare(s, target), hazard_score(s)))
+                                      hazard_facts(s), compare(s, target), hazard_score(s)))
         if n_pairs and len(pool) > 1:
             pairs, pair_crit = _pairs(pool, pts, tp, n_pairs, material, mat, priority,
                                       diverse_pairs)

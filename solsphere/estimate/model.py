@@ -91,6 +91,18 @@ class Estimate:
     def u95(self) -> tuple[float, float, float] | None:
         return None if self.refused else (self.dD_u95, self.dP_u95, self.dH_u95)
 
+    def library_sources(self) -> dict:
+        """The ``sources`` a library row or a shelf solvent with these coordinates carries:
+        each of dD, dP, dH ``"estimated from structure ± u (95 %)"``, the half-widths
+        (``u95``), the SMILES and any out-of-domain note (what the hazard flags show)."""
+        src = {k: f"estimated from structure ± {u:.1f} (95 %)"
+               for k, u in zip(("dD", "dP", "dH"), self.u95)}
+        src["u95"] = " / ".join(f"{u:.1f}" for u in self.u95)
+        src["smiles"] = self.smiles
+        if not self.in_domain:
+            src["estimate_notes"] = "; ".join(self.notes)
+        return src
+
     def to_dict(self) -> dict:
         return {"smiles": self.smiles, "label": self.label, "dD": self.dD, "dP": self.dP,
                 "dH": self.dH, "dT": self.dT, "molar_volume": self.molar_volume,

@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from solsphere.hansen import ra
-from solsphere.library.table import hazard_flags
+from solsphere.library.hazards import hazard_facts
 from solsphere.results import Result
 from solsphere.uncertainty.nexttrials import Suggestion, select_informative, suggestion_lines
 
@@ -160,7 +160,7 @@ def plan_from_structure(est, candidates, n: int = 16, *, n_samples: int = 2000,
             name=s.name, cas=s.cas, dD=float(s.dD), dP=float(s.dP), dH=float(s.dH),
             p_good=float(p[j]), red=float(red[j]), gain=0.0 if gain is None else gain,
             reason=_reason(float(p[j]), k, gain), flash_point=s.flash_point,
-            boiling_point=s.boiling_point, twa_ppm=s.twa_ppm, flags=hazard_flags(s)))
+            boiling_point=s.boiling_point, twa_ppm=s.twa_ppm, flags=hazard_facts(s)))
     if len(out) < n:
         warnings.append(f"only {len(out)} candidates were left to suggest")
     return StructurePlan(out, est, len(pool), n_samples, seed, tuple(r0_range), warnings)

@@ -198,7 +198,7 @@ def read_shelf(path, library, *, structure=None) -> list:
             sol = Solvent(name=label, dD=p[0], dP=p[1], dH=p[2], liquid=True)
         sol = dataclasses.replace(sol, dD=float(p[0]), dP=float(p[1]), dH=float(p[2]), **props)
         if estimated is not None:
-            sol = dataclasses.replace(sol, sources=_estimate_sources(estimated))
+            sol = dataclasses.replace(sol, sources=estimated.library_sources())
         ident = sol.cas or sol.name.casefold()
         if ident in seen:
             continue
@@ -233,12 +233,3 @@ def _estimate_row(structure, smiles: str, file: str, line: int):
     return est
 
 
-def _estimate_sources(est) -> dict:
-    """``sources`` of a solvent whose coordinates were estimated from its structure."""
-    src = {k: f"estimated from structure ± {u:.1f} (95 %)"
-           for k, u in zip(("dD", "dP", "dH"), est.u95)}
-    src["u95"] = " / ".join(f"{u:.1f}" for u in est.u95)
-    src["smiles"] = est.smiles
-    if not est.in_domain:
-        src["estimate_notes"] = "; ".join(est.notes)
-    return src

@@ -16,6 +16,11 @@ is worse:
 - ``reprotoxic``: 0 none listed, 1 suspected (EU Repr. 2), 2 known or presumed (Repr.
   1A/1B); ``restricted`` (a restriction, authorisation or Candidate-List entry) is shown
   beside it.
+- ``corrosive_toxic``: 0 none listed, 1 corrosive to skin (EU Skin Corr. 1, 1A-1C) or
+  toxic on short exposure (Acute Tox. 3), 2 fatal (Acute Tox. 1-2); from the health file
+  (``solsphere/data/health_hazards.csv``, also compiled from memory, working solvents
+  only). Serious eye damage (Eye Dam. 1) is shown as a fact but not ranked: goggles
+  handle it, and counting it would refuse γ-butyrolactone as a replacement for NMP.
 - ``flammability``: the GHS flammable-liquid category from flash and boiling point
   (UN GHS Rev. 9, 2021, ch. 2.6, thresholds in :mod:`solsphere.library.table`): 0 not
   classified (no flash point, or above 93 °C), 1 category 4, 2 category 3, 3 category 2,
@@ -33,14 +38,15 @@ from functools import lru_cache
 from solsphere.library.data import data_dir
 from solsphere.library.table import (GHS_BOILING_CATEGORY_1_C, GHS_FLASH_CATEGORY_2_C,
                                      GHS_FLASH_CATEGORY_3_C, GHS_FLASH_CATEGORY_4_C,
-                                     Solvent)
+                                     Solvent, hazard_flags)
 
-__all__ = ["Listing", "HAZARDS", "read_listings", "load_listings", "listing_of",
+__all__ = ["Listing", "HealthEntry", "HAZARDS", "read_listings", "load_listings", "listing_of",
+           "read_health", "load_health", "health_of", "corrosive_toxic_level", "hazard_facts",
            "carcinogen_level", "reprotoxic_level", "flammability_level", "ghs_category",
            "is_listed", "compare", "never_worse", "hazard_score", "LISTING_CAUTION"]
 
 #: The hazards compared for a substitution, in display order.
-HAZARDS = ("carcinogen", "reprotoxic", "flammability")
+HAZARDS = ("carcinogen", "reprotoxic", "corrosive_toxic", "flammability")
 
 LISTING_CAUTION = ("Listings compiled from memory of published lists (EU CLP, REACH, IARC): "
                    "check them against the current official list. Absence from the list "
@@ -49,7 +55,8 @@ LISTING_CAUTION = ("Listings compiled from memory of published lists (EU CLP, RE
 _COLUMNS = ("cas", "name", "reprotoxic", "carcinogen", "restricted", "jurisdiction", "source")
 _EU_CARC = {"1A": 3, "1B": 2, "2": 1}
 _EU_REPR = {"1A": 2, "1B": 2, "2": 1}
-_WORST = {"carcinogen": 3, "reprotoxic": 2, "flammability": 4}
+_WORST = {"carcinogen": 3, "reprotoxic": 2, "corrosive_toxic": 2, "flammability": 4}
+_HEALTH_COLUMNS = ("cas", "name", "skin", "acute", "eye", "jurisdiction", "source")
 
 
 @dataclass(frozen=True)
@@ -129,6 +136,123 @@ def listing_of(solvent: Solvent) -> Listing | None:
     return load_listings().get(solvent.cas) if solvent.cas else None
 
 
+@dataclass(frozen=True)
+class HealthEntry:
+    """One entry of the health file: skin corrosion, acute toxicity, eye damage."""
+
+    cas: str
+    name: str
+    skin: str           # EU CLP Skin Corr. category "1", "1A", "1B", "1C" or ""
+    acute: str          # the worst EU CLP Acute Tox. category "1", "2", "3" or ""
+    eye: bool           # Eye Dam. 1
+    jurisdiction: str
+    source: str
+
+    def level(self) -> int:
+        """0 none listed, 1 corrosive or toxic (Acute Tox. 3), 2 fatal (Acute Tox. 1-2)."""
+        if self.acute in ("1", "2"):
+            return 2
+        return 1 if self.skin or self.acute == "3" else 0
+
+    def text(self) -> str:
+        """Short text: ``"Skin Corr. 1A, Eye Dam. 1 (EU)"``."""
+        parts = ([f"Skin Corr. {self.skin}"] if self.skin else []) + \
+                ([f"Acute Tox. {self.acute}"] if self.acute else []) + \
+                (["Eye Dam. 1"] if self.eye else [])
+        return f"{', '.join(parts)} ({self.jurisdiction})"
+
+    def to_dict(self) -> dict:
+        return {"cas": self.cas, "name": self.name, "skin_corrosion": self.skin,
+                "acute_toxicity": self.acute, "eye_damage": self.eye,
+                "jurisdiction": self.jurisdiction, "source": self.source,
+                "compiled_from_memory": True}
+
+
+def read_health(text: str, source: str = "health_hazards.csv") -> dict[str, HealthEntry]:
+    """Parse the health file (``#`` lines are comments) into {CAS: HealthEntry}.
+
+    Raises
+    ------
+    ValueError
+        Wrong header, unknown category, a repeated CAS, an empty entry or source, with
+        the line.
+
+    Examples
+    --------
+    >>> d = read_health("cas,name,skin,acute,eye,jurisdiction,source\\n"
+    ...                 "64-19-7,acetic acid,1A,,,EU,CLP Annex VI\\n")
+    >>> d["64-19-7"].text(), d["64-19-7"].level()
+    ('Skin Corr. 1A (EU)', 1)
+    """
+    lines = text.splitlines()
+    numbered = [(i, ln) for i, ln in enumerate(lines, 1) if not ln.lstrip().startswith("#")]
+    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in numbered)))
+    header = next(reader, [])
+    if tuple(c.strip() for c in header) != _HEALTH_COLUMNS:
+        raise ValueError(f"{source}: header must be {','.join(_HEALTH_COLUMNS)}")
+    out: dict[str, HealthEntry] = {}
+    for (line, _), row in zip(numbered[1:], reader):
+        if not any(c.strip() for c in row):
+            continue
+        if len(row) != len(_HEALTH_COLUMNS):
+            raise ValueError(f"{source}, line {line}: expected {len(_HEALTH_COLUMNS)} cells")
+        cas, name, skin, acute, eye, jur, src = (c.strip() for c in row)
+        if skin not in ("", "1", "1A", "1B", "1C") or acute not in ("", "1", "2", "3") \
+                or eye not in ("", "1"):
+            raise ValueError(f"{source}, line {line}: skin must be 1, 1A, 1B, 1C or empty; "
+                             f"acute 1, 2, 3 or empty; eye 1 or empty")
+        if not (skin or acute or eye):
+            raise ValueError(f"{source}, line {line}: an entry needs skin, acute or eye")
+        if not src or not jur:
+            raise ValueError(f"{source}, line {line}: jurisdiction and source are required")
+        if cas in out:
+            raise ValueError(f"{source}, line {line}: CAS {cas} repeats")
+        out[cas] = HealthEntry(cas, name, skin, acute, eye == "1", jur, src)
+    return out
+
+
+@lru_cache(maxsize=1)
+def load_health() -> dict[str, HealthEntry]:
+    """The packaged health file, read once per process (cached)."""
+    return read_health(data_dir().joinpath("health_hazards.csv").read_text(encoding="utf-8"))
+
+
+def health_of(solvent: Solvent) -> HealthEntry | None:
+    """The solvent's entry in the health file (by CAS), or None (which is not "safe")."""
+    return load_health().get(solvent.cas) if solvent.cas else None
+
+
+def corrosive_toxic_level(solvent: Solvent) -> int:
+    """0 none listed, 1 corrosive to skin or toxic (Acute Tox. 3), 2 fatal (Acute Tox. 1-2)."""
+    entry = health_of(solvent)
+    return 0 if entry is None else entry.level()
+
+
+def hazard_facts(solvent: Solvent) -> list[str]:
+    """Every hazard fact to show beside a recommendation, most important first: the
+    listing (reprotoxic, carcinogen, restricted), the health entry (corrosive, toxic, eye
+    damage), then :func:`solsphere.library.table.hazard_flags` (flash point, exposure
+    limit, carcinogen class, data caveats).
+
+    Examples
+    --------
+    >>> from solsphere.library.table import load_library
+    >>> hazard_facts(load_library().lookup("NMP"))[0]
+    'listed: Repr. 1B (EU; restricted)'
+    >>> hazard_facts(load_library().lookup("acetic acid"))[0]
+    'corrosive or toxic: Skin Corr. 1A (EU)'
+    """
+    facts = []
+    lst = listing_of(solvent)
+    if lst is not None:
+        facts.append(f"listed: {lst.text()}")
+    entry = health_of(solvent)
+    if entry is not None:
+        word = "corrosive or toxic" if entry.level() else "serious eye damage"
+        facts.append(f"{word}: {entry.text()}")
+    return facts + hazard_flags(solvent)
+
+
 def carcinogen_level(solvent: Solvent) -> int:
     """0-3 (see the module docstring): the worst of the library text and the listing."""
     text = solvent.carcinogen or ""
@@ -198,6 +322,7 @@ def flammability_level(solvent: Solvent) -> int | None:
 
 def _levels(solvent: Solvent) -> dict[str, int | None]:
     return {"carcinogen": carcinogen_level(solvent), "reprotoxic": reprotoxic_level(solvent),
+            "corrosive_toxic": corrosive_toxic_level(solvent),
             "flammability": flammability_level(solvent)}
 
 
@@ -249,7 +374,9 @@ def never_worse(candidate: Solvent, target: Solvent) -> tuple[bool, str]:
 
 def hazard_score(solvent: Solvent) -> float:
     """One number for ordering by hazard (higher is worse; our own weights, no source):
-    3 × carcinogen + 3 × reprotoxic + flammability (unknown flash point counts as 4)."""
+    3 × (carcinogen + reprotoxic + corrosive_toxic) + flammability (an unknown flash point
+    counts as 4)."""
     lv = _levels(solvent)
     fl = lv["flammability"]
-    return 3.0 * lv["carcinogen"] + 3.0 * lv["reprotoxic"] + (4.0 if fl is None else fl)
+    return (3.0 * (lv["carcinogen"] + lv["reprotoxic"] + lv["corrosive_toxic"])
+            + (4.0 if fl is None else fl))

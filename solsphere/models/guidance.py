@@ -20,7 +20,8 @@ import numpy as np
 
 from solsphere.hansen import as_points
 from solsphere.library.pools import load_common
-from solsphere.library.table import hazard_flags, load_library
+from solsphere.library.hazards import hazard_facts
+from solsphere.library.table import load_library
 
 __all__ = ["pinning_solvents", "pinning_advice", "GREEK"]
 
@@ -81,7 +82,7 @@ def pinning_solvents(axis: str, side: str, points, centre, n: int = 3, pool=None
 def _hazard(s) -> str:
     """Hazard flags (they include the flash point when it matters), else the flash point:
     safety facts beside every name."""
-    flags = hazard_flags(s)
+    flags = hazard_facts(s)
     if flags:
         return ", ".join(flags)
     return "flash point unknown" if s.flash_point is None else f"flash point {s.flash_point:.0f} °C"

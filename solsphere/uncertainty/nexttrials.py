@@ -62,7 +62,8 @@ from scipy.special import expit
 
 from solsphere.limits import check as check_limit
 from solsphere.hansen import ra
-from solsphere.library.table import hazard_flags, is_tested, tested_keys
+from solsphere.library.hazards import hazard_facts
+from solsphere.library.table import is_tested, tested_keys
 from solsphere.models.base import binary_data, search_box
 from solsphere.results import Result
 from solsphere.uncertainty import bootstrap as confidence
@@ -390,7 +391,7 @@ def suggest_next(data, good=None, candidates=(), n: int = 5, *,
             p_good=float(p[j]), red=float(red[j]), gain=0.0 if gain is None else gain,
             reason=_reason(float(p[j]), gain, a, k, float(red[j])),
             flash_point=s.flash_point, boiling_point=s.boiling_point, twa_ppm=s.twa_ppm,
-            flags=hazard_flags(s)))
+            flags=hazard_facts(s)))
     if gains and all(x is None for x in gains):
         notes.append("The sampled spheres agree on every candidate: the sphere is as well "
                      "pinned down as these candidates can show; suggestions are the "
