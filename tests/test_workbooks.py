@@ -347,12 +347,12 @@ def test_password_and_not_a_workbook(tmp_path):
 
 @settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow,
                                                                   HealthCheck.function_scoped_fixture])
-@given(st.data())
-def test_random_damage_never_crashes(tmp_path, data):
+@given(st.data(), st.sampled_from(["xlsx", "ods"]))
+def test_random_damage_never_crashes(tmp_path, data, kind):
     """Bytes flipped or cut anywhere in a real workbook: read, or one clear refusal."""
-    base = tmp_path / "base.xlsx"
+    base = tmp_path / f"base.{kind}"
     if not base.exists():
-        xlsx(base, [("solvent", "outcome")] + ROWS)
+        (xlsx if kind == "xlsx" else ods)(base, [("solvent", "outcome")] + ROWS)
     raw = bytearray(base.read_bytes())
     n = data.draw(st.integers(1, 8))
     for _ in range(n):
@@ -360,7 +360,7 @@ def test_random_damage_never_crashes(tmp_path, data):
         raw[i] = data.draw(st.integers(0, 255))
     if data.draw(st.booleans()):
         raw = raw[: data.draw(st.integers(0, len(raw)))]
-    p = tmp_path / "damaged.xlsx"
+    p = tmp_path / f"damaged.{kind}"
     p.write_bytes(bytes(raw))
     rc, out, err = run_cli(["fit", p, "--no-influence"])
     assert rc in (0, 2), err

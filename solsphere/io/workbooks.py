@@ -27,6 +27,7 @@ from __future__ import annotations
 
 import io
 import zipfile
+import zlib
 from dataclasses import dataclass, field
 from datetime import date, datetime, time, timedelta
 from xml.etree import ElementTree as ET
@@ -49,6 +50,11 @@ _ODS_TABLE = "urn:oasis:names:tc:opendocument:xmlns:table:1.0"
 _XLSX_MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 _REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
 _PKG_REL = "http://schemas.openxmlformats.org/package/2006/relationships"
+
+
+#: What reading a part of a damaged zip can raise (Python's zipfile and zlib).
+_ZIP_ERRORS = (zipfile.BadZipFile, NotImplementedError, OSError, EOFError, ValueError,
+               zlib.error, RuntimeError)
 
 
 @dataclass
@@ -147,7 +153,7 @@ def read_sheet(data: bytes, file: str, sheet: str | None = None) -> Sheet:
     try:
         zf = zipfile.ZipFile(io.BytesIO(data))
         unpacked = sum(i.file_size for i in zf.infolist())
-    except (zipfile.BadZipFile, OSError, ValueError, EOFError):
+    except _ZIP_ERRORS:
         raise InputError("the workbook is damaged or not a workbook (not a valid zip "
                          "file).", file=file, hint=damaged) from None
     if unpacked > MAX_UNPACKED:
@@ -217,10 +223,10 @@ def _check_cells(zf: zipfile.ZipFile, out: Sheet, ws, file: str, name: str) -> N
     merged = ws.merged_cell_ranges
     formulas: list[tuple[int, int]] = []
     if merged is None or "content.xml" in zf.namelist():
-        merged, formulas = _ods_marks(zf, name)
+        merged, formulas = _ods_marks(zf, name, file)
     else:
         merged = [((a[0] + 1, a[1]), (b[0] + 1, b[1])) for a, b in merged]
-        formulas = _xlsx_formulas(zf, name)
+        formulas = _xlsx_formulas(zf, name, file)
     for (r0, c0), (r1, c1) in sorted(merged):
         if r1 >= first_row and c0 < width:
             where = f"{column_letter(c0)}{r0}:{column_letter(c1)}{r1}"
@@ -237,12 +243,29 @@ def _check_cells(zf: zipfile.ZipFile, out: Sheet, ws, file: str, name: str) -> N
                                   "(that stores the values), or paste the values instead")
 
 
-def _xlsx_sheet_part(zf: zipfile.ZipFile, name: str) -> str | None:
-    """The zip path of sheet ``name``'s XML in an .xlsx, or None."""
+def _read_part(zf: zipfile.ZipFile, part: str, label: str) -> bytes | None:
+    """The bytes of ``part`` (None when missing); InputError when the zip is damaged."""
     try:
-        wb = ET.fromstring(zf.read("xl/workbook.xml"))
-        rels = ET.fromstring(zf.read("xl/_rels/workbook.xml.rels"))
-    except (KeyError, ET.ParseError):
+        return zf.read(part)
+    except KeyError:
+        return None
+    except _ZIP_ERRORS as exc:
+        raise InputError(f"the workbook is damaged (part {part!r}: "
+                         f"{clip(str(exc) or type(exc).__name__, 80, quote=False)}).",
+                         file=label, hint="open it in the spreadsheet program and save it "
+                                          "again (or export it as CSV)") from None
+
+
+def _xlsx_sheet_part(zf: zipfile.ZipFile, name: str, label: str) -> str | None:
+    """The zip path of sheet ``name``'s XML in an .xlsx, or None."""
+    wb_raw = _read_part(zf, "xl/workbook.xml", label)
+    rels_raw = _read_part(zf, "xl/_rels/workbook.xml.rels", label)
+    if wb_raw is None or rels_raw is None:
+        return None
+    try:
+        wb = ET.fromstring(wb_raw)
+        rels = ET.fromstring(rels_raw)
+    except ET.ParseError:
         return None
     rid = None
     for s in wb.iter(f"{{{_XLSX_MAIN}}}sheet"):
@@ -255,12 +278,12 @@ def _xlsx_sheet_part(zf: zipfile.ZipFile, name: str) -> str | None:
     return None
 
 
-def _xlsx_formulas(zf: zipfile.ZipFile, name: str) -> list[tuple[int, int]]:
+def _xlsx_formulas(zf: zipfile.ZipFile, name: str, label: str) -> list[tuple[int, int]]:
     """(row, column) of the formula cells of an .xlsx sheet (only when it has any)."""
-    part = _xlsx_sheet_part(zf, name)
-    if part is None or part not in zf.namelist():
+    part = _xlsx_sheet_part(zf, name, label)
+    raw = None if part is None else _read_part(zf, part, label)
+    if raw is None:
         return []
-    raw = zf.read(part)
     if b"<f" not in raw and b":f" not in raw:
         return []
     out = []
@@ -275,11 +298,10 @@ def _xlsx_formulas(zf: zipfile.ZipFile, name: str) -> list[tuple[int, int]]:
     return out
 
 
-def _ods_marks(zf: zipfile.ZipFile, name: str):
+def _ods_marks(zf: zipfile.ZipFile, name: str, label: str):
     """(merged ranges, formula cells) of an .ods sheet, read from content.xml."""
-    try:
-        raw = zf.read("content.xml")
-    except KeyError:
+    raw = _read_part(zf, "content.xml", label)
+    if raw is None:
         return [], []
     t = f"{{{_ODS_TABLE}}}"
     merged, formulas = [], []
