@@ -30,6 +30,34 @@ function(contents, filename) {
 }
 """ % logic.UPLOAD_LIMIT
 
+#: After "Add" or "Add an empty row": once the new row is drawn, scroll the table to it
+#: (new rows go at the end, which was out of sight in a long table).
+SHOW_NEW_ROW_JS = """
+function(a, b, c) {
+    var t = document.getElementById('results-table');
+    if (!t) { return window.dash_clientside.no_update; }
+    var cells = function() { return t.querySelectorAll('td[data-dash-column="solvent"]'); };
+    var before = cells().length, tries = 0;
+    var tick = function() {
+        var now = cells();
+        if (now.length > before || tries++ > 60) {
+            var show = function() {
+                t.querySelectorAll('.dt-table-container__row').forEach(function(el) {
+                    if (el.scrollHeight > el.clientHeight + 4) { el.scrollTop = el.scrollHeight; }
+                });
+                var last = cells();
+                if (last.length) { last[last.length - 1].scrollIntoView({block: 'nearest'}); }
+            };
+            show();
+            // again after the refit's marks redraw the table (later on a busy machine)
+            [300, 800, 1600].forEach(function(ms) { setTimeout(show, ms); });
+        } else { setTimeout(tick, 50); }
+    };
+    setTimeout(tick, 50);
+    return Date.now();
+}
+"""
+
 #: Fills the type-ahead list with plain <option> elements (thousands of names: cheaper
 #: as DOM nodes than as components).
 FILL_NAMES_JS = """
@@ -61,7 +89,8 @@ def results_table(rows):
                      {"id": "dD", "name": "own δD", "type": "numeric"},
                      {"id": "dP", "name": "own δP", "type": "numeric"},
                      {"id": "dH", "name": "own δH", "type": "numeric"},
-                     {"id": "note", "name": "note"}],
+                     {"id": "note", "name": "note"},
+                     {"id": "line", "name": "file line", "editable": False}],
             dropdown={"outcome": {"options": OUTCOME_OPTIONS, "clearable": False}},
             page_action="none", fixed_rows={"headers": True},
             style_table={"maxHeight": "52vh", "overflowY": "auto", "overflowX": "auto"},
@@ -70,7 +99,9 @@ def results_table(rows):
             style_cell_conditional=[
                 {"if": {"column_id": c}, "width": w, "minWidth": w, "maxWidth": w}
                 for c, w in (("solvent", "185px"), ("outcome", "112px"), ("dD", "54px"),
-                             ("dP", "54px"), ("dH", "54px"), ("note", "130px"))],
+                             ("dP", "54px"), ("dH", "54px"), ("note", "112px"),
+                             ("line", "44px"))] + [
+                {"if": {"column_id": "line"}, "color": "#6b7275", "fontSize": "12px"}],
             style_header={"backgroundColor": "#eef2f0", "fontWeight": "600"},
             tooltip_delay=0, tooltip_duration=None, css=[
                 {"selector": ".Select-menu-outer", "rule": "display: block !important"},
@@ -123,6 +154,7 @@ def panel(rows, library, has_demo: bool):
             html.Code("toluene 70 + ethanol 30"), ". Leave δD δP δH empty to use the "
             "library's values."]),
         results_table(rows),
+        dcc.Store(id="new-row-shown"),
         html.Div(id="problems", className="problems"),
     ])
 
@@ -166,6 +198,18 @@ def register(app, get_library):
             raise PreventUpdate
         styles, tips, problems = logic.table_marks(result, len(rows or []))
         return styles, tips, _problem_items(problems)
+
+    @app.callback(Output("table-status", "children"), Input(ids.FIT, "data"),
+                  Input(ids.SOURCE, "data"))
+    def status(result, source):
+        """The banner follows the table: counts as they are now, after every edit."""
+        if result is None:
+            raise PreventUpdate
+        return logic.table_status(result, source)
+
+    app.clientside_callback(SHOW_NEW_ROW_JS, Output("new-row-shown", "data"),
+                            Input("add-button", "n_clicks"), Input("add-solvent", "n_submit"),
+                            Input("add-empty", "n_clicks"), prevent_initial_call=True)
 
     app.clientside_callback(FILL_NAMES_JS, Output("solvent-names", "className"),
                             Input("solvent-names-data", "data"))

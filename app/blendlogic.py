@@ -12,13 +12,27 @@ import os
 
 from solsphere.errors import InputError, SolsphereError
 from solsphere.formatting import blend_label, num
-from solsphere.workflows import CAUTION, design_blends, find_replacements
+from solsphere.workflows import CAUTION, DEFAULT_RANK, design_blends, find_replacements
 
+from .logic import cell_number as rounded
 from .logic import decode_upload, fit_key, number_field, split_names, with_upload_file
 
 #: Digits kept for the drying path points sent to the browser (MPa½).
 PATH_DIGITS = 3
-RANK_CHOICES = {"red": "RED", "cost": "cost (shelf prices)", "drying": "drying"}
+#: The orders the Blends screen offers (the first is the workflows' default, the same as
+#: ``solsphere blend``'s --rank-by default).
+RANK_CHOICES = {"hazard": "least hazardous", "red": "RED only", "cost": "cost (shelf prices)",
+                "drying": "drying", "evaporation": "evaporation"}
+assert next(iter(RANK_CHOICES)) == DEFAULT_RANK
+#: What the screen says about each order.
+ORDER_WORDS = {"hazard": "feasible, then robust, then least hazardous, then RED",
+               "red": "by RED", "cost": "feasible, then robust, then cheapest",
+               "drying": "feasible, then longest inside while drying",
+               "evaporation": "feasible, then robust, then by evaporation rate"}
+#: Pool choices of the Blends screen: the library pools (the one pool rule of
+#: :func:`solsphere.workflows.candidate_pool`), a shelf file, ticked solvents.
+POOL_CHOICES = {"working": "working solvents", "all": "all library liquids (reagents too)",
+                "shelf": "my shelf (file)", "ticked": "solvents I tick"}
 
 #: The app's words for a workflow setting an error is about: (field, hint).
 SETTING_FIELDS = {
@@ -55,12 +69,15 @@ def _with_uploads(shelf: dict | None, restricted: dict | None, fn):
     return with_upload_file(data, shelf.get("filename"), "shelf.csv", with_restricted)
 
 
-def pool_options(pool_choice: str, shelf, ticked, common_only: bool, exclude,
+def pool_options(pool_choice: str, shelf, ticked, common_only: bool | None, exclude,
                  min_flash_point=None, max_boiling_point=None, min_boiling_point=None,
                  min_exposure_limit=None, no_carcinogens: bool = False,
                  temperature=None) -> dict:
     """The form's pool controls as :func:`solsphere.workflows.candidate_pool` keywords
-    (without the uploaded files, which :func:`_with_uploads` adds)."""
+    (without the uploaded files, which :func:`_with_uploads` adds).
+
+    ``pool_choice`` "working" or "all" names the library pool; the older "library"
+    takes it from ``common_only``."""
     if pool_choice == "shelf" and not (shelf and shelf.get("contents")):
         raise InputError("no shelf file yet.", file="<shelf>",
                          hint="upload a CSV with a 'solvent' column listing what you have")
@@ -71,10 +88,21 @@ def pool_options(pool_choice: str, shelf, ticked, common_only: bool, exclude,
                 min_exposure_limit=number_field(min_exposure_limit, "min exposure limit"),
                 exclude_carcinogens=bool(no_carcinogens),
                 temperature=number_field(temperature, "temperature"),
-                pool="working" if common_only else "all")
+                pool=library_pool(pool_choice, common_only))
     if pool_choice == "ticked":
         opts["ticked"] = list(ticked or [])
     return opts
+
+
+def library_pool(pool_choice: str | None, common_only: bool | None = None) -> str:
+    """"working" or "all" from the form.
+
+    >>> library_pool("all"), library_pool("library", True), library_pool(None)
+    ('all', 'working', 'working')
+    """
+    if pool_choice in ("working", "all"):
+        return pool_choice
+    return "all" if common_only is False else "working"
 
 
 def _where(pool_choice: str, shelf, ticked, filters: dict) -> str:
@@ -87,23 +115,24 @@ def _where(pool_choice: str, shelf, ticked, filters: dict) -> str:
 
 # ----------------------------------------------------------------------------- blends
 
-def blend_designer(result: dict | None, library, pool_choice: str = "library",
+def blend_designer(result: dict | None, library, pool_choice: str | None = None,
                    shelf: dict | None = None, ticked=None, exclude: str | None = None,
                    min_flash_point=None, max_boiling_point=None, min_boiling_point=None,
                    min_exposure_limit=None, no_carcinogens: bool = False,
                    restricted: dict | None = None, components: int = 2,
                    max_fraction: str | None = None, min_fraction: str | None = None,
-                   temperature=None, rank_by: str = "red", top: int = 15,
-                   common_only: bool = True) -> dict:
+                   temperature=None, rank_by: str = DEFAULT_RANK, top: int = 15,
+                   common_only: bool | None = None) -> dict:
     """Top blends of two or three solvents for the fitted sphere (``solsphere blend``
     with its constraints, ``--drying`` always on).
 
     Parameters
     ----------
-    pool_choice : {"library", "shelf", "ticked"}
-        The curated working solvents (every library liquid with ``common_only=False``),
-        the uploaded shelf file (``shelf`` = {"filename", "contents"}), or the ticked library
-        solvents (``ticked`` = names).
+    pool_choice : {"working", "all", "shelf", "ticked"} or None, default=None
+        The curated working solvents, every library liquid (reagents included), the
+        uploaded shelf file (``shelf`` = {"filename", "contents"}), or the ticked library
+        solvents (``ticked`` = names). None: the working solvents, or every library
+        liquid with ``common_only=False``.
     restricted : dict or None
         An uploaded list of restricted solvents ({"filename", "contents"}), left out.
     components : {2, 3}
@@ -111,7 +140,8 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
         Per-solvent volume-fraction limits for three components (``"toluene=30%"``).
     temperature : float or None
         Process temperature [°C].
-    rank_by : {"red", "cost", "drying"}
+    rank_by : {"hazard", "red", "cost", "drying", "evaporation"}, default=DEFAULT_RANK
+        The workflows' order (the same default as ``solsphere blend``).
 
     Returns
     -------
@@ -145,8 +175,7 @@ def blend_designer(result: dict | None, library, pool_choice: str = "library",
     key = fit_key(fit)
     out = [blend_row(b, k + 1, key) for k, b in enumerate(design.blends)]
     what = "three-solvent blends" if int(components) == 3 else "pairs"
-    order = {"red": "by RED", "cost": "inside the sphere, cheapest first",
-             "drying": "longest inside while drying first"}.get(rank_by, "")
+    order = ORDER_WORDS.get(rank_by, rank_by)
     counted = f"{design.n_screened} {'triples' if int(components) == 3 else 'pairs'}"
     msg = (f"Top {len(out)} {what} ({order}) of {counted} from {pool_size} candidates "
            f"({_where(pool_choice, shelf, ticked, filters)}).")
@@ -202,6 +231,15 @@ def blend_row(b: dict, rank: int, key) -> dict:
     b["price_text"] = num(b.get("price_per_litre"), "{:.2f}")
     b["mix_text"] = "may not mix" if b.get("may_not_mix") else ""
     b["flags_text"] = "; ".join(b.get("flags") or [])
+    fpe = b.get("flash_point_estimate") or {}
+    b["fp_n"] = rounded(fpe.get("estimate"), 0)
+    b["fp_low_n"] = rounded(fpe.get("conservative"), 0)
+    b["fps_text"] = " / ".join(num(x, "{:.0f}") for x in b.get("flash_points") or [])
+    b["red_n"] = rounded(b["red"], 2)
+    crit = b.get("criteria") or {}
+    b["robust_n"] = rounded(crit.get("robustness"), 2)
+    b["hazard_n"] = rounded(crit.get("hazard"), 2)
+    b["price_n"] = rounded(b.get("price_per_litre"), 2)
     d = b.pop("drying", None)
     b["drying_text"] = drying_text(d)
     if d is not None:
@@ -223,9 +261,14 @@ def map_entry(b: dict) -> dict:
 def substitutes(result: dict | None, library, name: str | None, for_material: bool = False,
                 exclude: str | None = None, min_flash_point=None, max_boiling_point=None,
                 no_carcinogens: bool = False, top: int = 10, n_pairs: int = 5,
-                common_only: bool = True) -> dict:
+                common_only: bool = True, pool: str | None = None,
+                allow_worse: bool = False) -> dict:
     """Solvents and pairs that can take the place of ``name``: the replacement workflow
     (``solsphere replace``) read from the form.
+
+    ``pool`` "working" (default) or "all"; ``allow_worse`` lifts the rule that a
+    replacement is never worse than the solvent replaced on carcinogen class,
+    reproductive-toxicity listing and flammability category.
 
     Returns
     -------
@@ -241,8 +284,11 @@ def substitutes(result: dict | None, library, name: str | None, for_material: bo
     try:
         sub = find_replacements(
             library, name, fit=material, top=int(top), n_pairs=int(n_pairs),
-            **pool_options("library", None, None, common_only, exclude, min_flash_point,
-                           max_boiling_point, no_carcinogens=no_carcinogens))
+            allow_worse=bool(allow_worse),
+            **pool_options(pool or "library", None, None, common_only, exclude,
+                           min_flash_point, max_boiling_point,
+                           no_carcinogens=no_carcinogens))
+        resolved = library.resolved(name)
     except InputError as exc:
         return dict(empty, message=app_error(exc, "<replace>"))
     except SolsphereError as exc:
@@ -257,12 +303,17 @@ def substitutes(result: dict | None, library, name: str | None, for_material: bo
                             fp_text=num(s.get("flash_point"), "{:.0f}"),
                             bp_text=num(s.get("boiling_point"), "{:.0f}"),
                             twa_text=num(s.get("twa_ppm"), "{:.3g}"),
+                            Ra_n=rounded(s["Ra"], 1), red_n=rounded(s.get("red"), 2),
+                            fp_n=rounded(s.get("flash_point"), 0),
+                            bp_n=rounded(s.get("boiling_point"), 0),
+                            twa_n=rounded(s.get("twa_ppm"), 1),
+                            **versus_texts(s.get("versus_old")),
                             flags_text="; ".join(s.get("flags") or [])))
     pairs = []
     for b in d["pairs"]:
         pairs.append(dict(b, red=None, for_fit=key,
                           label=blend_label(b["solvents"], b["volume_fractions"]),
-                          Ra_text=f"{b['ra']:.2f}",
+                          Ra_text=f"{b['ra']:.2f}", Ra_n=rounded(b["ra"], 2),
                           fp_text=" / ".join(num(x, "{:.0f}") for x in b["flash_points"]),
                           flags_text="; ".join(b.get("flags") or [])))
     t = d["target"]
@@ -275,8 +326,22 @@ def substitutes(result: dict | None, library, name: str | None, for_material: bo
         how = "nearest in Hansen space (distance Ra)"
         if for_material:
             how += " (no sphere yet, so not for the material)"
-    msg = (f"{len(singles)} solvents and {len(pairs)} pairs to replace {t['name']} "
-           f"(δD {t['dD']:.1f}, δP {t['dP']:.1f}, δH {t['dH']:.1f}), {how}; from "
-           f"{d['n_candidates']} candidates.")
+    rule = ("worse ones allowed (you ticked 'allow worse')" if allow_worse else
+            "none worse than it on carcinogen class, reproductive-toxicity listing or "
+            "flammability")
+    msg = (f"Replacing {resolved}: {len(singles)} solvents and {len(pairs)} pairs "
+           f"(δD {t['dD']:.1f}, δP {t['dP']:.1f}, δH {t['dH']:.1f}), {how}; {rule}; from "
+           f"{d['n_candidates']} candidates ({'all library liquids' if library_pool(pool, common_only) == 'all' else 'working solvents'}).")
     return {"singles": singles, "pairs": pairs, "target": t, "message": msg,
-            "caution": CAUTION}
+            "caution": CAUTION, "resolved": resolved}
+
+
+def versus_texts(versus: dict | None) -> dict:
+    """Better / same / worse than the solvent replaced, per hazard, as grid cells.
+
+    >>> versus_texts({"carcinogen": "same", "reprotoxic": "better"})["vs_repro"]
+    'better'
+    """
+    v = versus or {}
+    return {"vs_carc": v.get("carcinogen") or "—", "vs_repro": v.get("reprotoxic") or "—",
+            "vs_tox": v.get("corrosive_toxic") or "—", "vs_flam": v.get("flammability") or "—"}

@@ -1,11 +1,14 @@
 """'Blends' screen: blends of two or three solvents that land inside the sphere, from a
 chosen pool under the constraints of ``solsphere blend`` (safety limits, restricted
-list, share limits, process temperature), ranked by RED, cost or drying. A click draws
+list, share limits, process temperature), from the working solvents by default, in the
+workflows' order (least hazardous by default, the same as ``solsphere blend``). A click draws
 the blend's segment (or triangle), its best mix and its drying path on the map."""
 
 from __future__ import annotations
 
 from importlib.resources import files
+
+from solsphere.workflows import DEFAULT_RANK
 
 from dash import Input, Output, State, ctx, dcc, html
 from dash.exceptions import PreventUpdate
@@ -13,21 +16,44 @@ from dash.exceptions import PreventUpdate
 from . import blendlogic, ids, logic
 from .bench import CHECK_UPLOAD_JS
 from .share import caution_line
-from .trynext import common_checkbox, table
+from .grids import clicked_row, column, grid
 
-COLUMNS = [("rank", "#"), ("label", "blend (volume %)"), ("red_text", "RED"),
-           ("window_text", "inside for"), ("fp_text", "flash pt °C"),
-           ("drying_text", "drying"), ("mix_text", "mixing"), ("twa_text", "TWA ppm"),
-           ("mass_text", "mass %"), ("nonsolvents_text", "non-solvents alone")]
-PRICE_COLUMN = ("price_text", "price / L")
+#: The blend table's columns: the order's criteria (feasible, robust, hazard, RED) and
+#: the hazard facts (flash point of the blend and of its components, exposure limits,
+#: flags) are columns, visible without a click.
+COLUMNS = [column("rank", "#", "number", width=55, pinned=True),
+           column("label", "blend (volume %)", width=210, pinned=True, wrap=True),
+           column("red_n", "RED", "number", width=90),
+           column("fp_n", "flash pt °C", "number",
+                  tip="the blend's flash point by Liaw's model minus a safety margin"),
+           column("flags_text", "flags", width=250, wrap=True,
+                  tip="carcinogen and reproductive-toxicity listings, flammability, "
+                      "may not mix, estimated values"),
+           column("twa_text", "TWA ppm", width=80, tip="8-hour exposure limits of the "
+                                                     "components (— = not in the data)"),
+           column("window_text", "inside for", width=150, wrap=True,
+                  tip="range of the first solvent's share that stays inside (pairs), or the "
+                      "share of all mixes of the three that is inside"),
+           column("robust_n", "robustness", "number",
+                  tip="window width or margin 1 − RED (0–1): larger stays inside more surely"),
+           column("hazard_n", "hazard", "number", tip="hazard score used by the order "
+                                                      "(lower is safer)"),
+           column("fp_low_n", "lowest comp. fp °C", "number",
+                  tip="the lowest flash point of its components"),
+           column("fps_text", "comp. flash pts °C", width=90),
+           column("drying_text", "drying", width=120, wrap=True),
+           column("mix_text", "mixing", width=80),
+           column("mass_text", "mass %", width=70),
+           column("nonsolvents_text", "non-solvents alone", width=80)]
+PRICE_COLUMN = column("price_n", "price / L", "number")
 
 
 def columns(has_price: bool) -> list[dict]:
     """The blend table's columns (a price column when the shelf gives prices)."""
     cols = list(COLUMNS)
     if has_price:
-        cols.insert(5, PRICE_COLUMN)
-    return [{"id": c, "name": n} for c, n in cols]
+        cols.insert(4, PRICE_COLUMN)
+    return cols
 
 
 def _num_input(label: str, element_id: str, **kw):
@@ -92,17 +118,15 @@ def panel(library):
             dcc.RadioItems(id="blend-components", value=2, inline=True, className="radio",
                            options=[{"label": "2", "value": 2}, {"label": "3", "value": 3}]),
             html.Span("Rank by", className="ctl-label"),
-            dcc.RadioItems(id="blend-rank", value="red", inline=True, className="radio",
+            dcc.RadioItems(id="blend-rank", value=DEFAULT_RANK, inline=True, className="radio",
                            options=[{"label": v, "value": k}
                                     for k, v in blendlogic.RANK_CHOICES.items()]),
         ]),
         html.Div(className="pool", children=[
             html.Span("Pool", className="ctl-label"),
-            dcc.RadioItems(id="blend-pool", value="library", inline=True, className="radio",
-                           options=[{"label": "all library liquids", "value": "library"},
-                                    {"label": "my shelf (file)", "value": "shelf"},
-                                    {"label": "solvents I tick", "value": "ticked"}]),
-            html.Span(id="blend-common-box", children=common_checkbox("blend", on=True)),
+            dcc.RadioItems(id="blend-pool", value="working", inline=True, className="radio",
+                           options=[{"label": v, "value": k}
+                                    for k, v in blendlogic.POOL_CHOICES.items()]),
         ]),
         html.Div(id="shelf-box", className="pool-box", children=[
             dcc.Upload(id="shelf-upload", max_size=-1, accept=".csv,.tsv,.txt",
@@ -119,8 +143,9 @@ def panel(library):
         caution_line("blend-caution"),
         html.Div(id="blend-message", className="message"),
         html.Ul(id="blend-notes", className="notes"),
-        table("blend-table", COLUMNS, page_size=10),
+        grid("blend-table", COLUMNS, page_size=10, csv_name="blends.csv"),
         html.Div(id="blend-detail", className="detail"),
+        dcc.Store(id="blend-key"),
         html.Button("Clear the blend from the map", id="clear-blend", className="btn btn-quiet"),
     ])
 
@@ -136,12 +161,12 @@ def register(app, get_library):
                             State("restricted-upload", "filename"))
 
     @app.callback(Output("shelf-box", "style"), Output("ticked-box", "style"),
-                  Output("share-limits", "style"), Output("blend-common-box", "style"),
+                  Output("share-limits", "style"),
                   Input("blend-pool", "value"), Input("blend-components", "value"))
     def show_pool(pool, components):
         hide, show = {"display": "none"}, {}
         return ((show if pool == "shelf" else hide), (show if pool == "ticked" else hide),
-                (show if components == 3 else hide), (show if pool == "library" else hide))
+                (show if components == 3 else hide))
 
     @app.callback(Output("shelf-name", "children"), Input(ids.SHELF_PAYLOAD, "data"),
                   prevent_initial_call=True)
@@ -172,11 +197,12 @@ def register(app, get_library):
         text = files("solsphere.data").joinpath("restricted_example.csv").read_text("utf-8")
         return dict(content=text, filename="restricted_example.csv", type="text/csv")
 
-    @app.callback(Output("blend-table", "data"), Output("blend-message", "children"),
-                  Output("blend-caution", "children"), Output("blend-table", "active_cell"),
+    @app.callback(Output("blend-table", "rowData"), Output("blend-key", "data"),
+                  Output("blend-message", "children"),
+                  Output("blend-caution", "children"),
                   Output("blend-detail", "children", allow_duplicate=True),
-                  Output("blend-table", "columns"), Output("blend-notes", "children"),
-                  Input(ids.FIT, "data"), Input(ids.TABS, "value"), Input("blend-pool", "value"),
+                  Output("blend-table", "columnDefs"), Output("blend-notes", "children"),
+                  Input(ids.FIT, "data"), Input(ids.SHOWN["blends"], "data"), Input("blend-pool", "value"),
                   Input(ids.SHELF_PAYLOAD, "data"), Input("blend-ticked", "value"),
                   Input("blend-min-fp", "value"), Input("blend-max-bp", "value"),
                   Input("blend-min-bp", "value"), Input("blend-min-twa", "value"),
@@ -184,36 +210,41 @@ def register(app, get_library):
                   Input(ids.RESTRICTED_PAYLOAD, "data"), Input("blend-components", "value"),
                   Input("blend-max-frac", "value"), Input("blend-min-frac", "value"),
                   Input("blend-temperature", "value"), Input("blend-rank", "value"),
-                  Input("blend-top", "value"), Input("blend-common", "value"),
+                  Input("blend-top", "value"),
+                  State("blend-key", "data"), State(ids.TABS, "value"),
                   prevent_initial_call="initial_duplicate")
-    def update(result, tab, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
+    def update(result, _shown, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
                exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top,
-               common):
+               seen, tab):
         if result is None or tab != "blends":
             raise PreventUpdate  # computed only while the screen is shown
+        key = logic.inputs_key(result, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa,
+                               no_carc, exclude, restricted, components, max_frac, min_frac,
+                               temperature, rank_by, top)
+        if key == seen:
+            raise PreventUpdate  # shown again with the same inputs: keep what it shows
         if pool == "shelf" and shelf and shelf.get("too_big"):
-            return ([], logic.too_big_message(shelf.get("filename"), shelf["too_big"]),
-                    logic.caution_text(), None, None, columns(False), [])
+            return ([], None, logic.too_big_message(shelf.get("filename"), shelf["too_big"]),
+                    logic.caution_text(), None, columns(False), [])
         out = blendlogic.blend_designer(
             result, get_library(), pool_choice=pool, shelf=shelf, ticked=ticked,
             exclude=exclude, min_flash_point=min_fp, max_boiling_point=max_bp,
             min_boiling_point=min_bp, min_exposure_limit=min_twa,
             no_carcinogens=bool(no_carc), restricted=restricted,
             components=int(components or 2), max_fraction=max_frac, min_fraction=min_frac,
-            temperature=temperature, rank_by=rank_by or "red", top=int(top or 15),
-            common_only=bool(common))
-        return (out["blends"], out["message"], out["caution"], None, None,
+            temperature=temperature, rank_by=rank_by or DEFAULT_RANK, top=int(top or 15))
+        return (out["blends"], key, out["message"], out["caution"], None,
                 columns(out["has_price"]), [html.Li(n) for n in out["notes"]])
 
     @app.callback(Output(ids.BLEND, "data"), Output("blend-detail", "children"),
-                  Input("blend-table", "active_cell"), Input("clear-blend", "n_clicks"),
-                  State("blend-table", "derived_viewport_data"), prevent_initial_call=True)
+                  Input("blend-table", "cellClicked"), Input("clear-blend", "n_clicks"),
+                  State("blend-table", "rowData"), prevent_initial_call=True)
     def pick(cell, _clear, rows):
         if ctx.triggered_id == "clear-blend":
             return [], None
-        if not cell or not rows or cell["row"] >= len(rows):
+        b = clicked_row(cell, rows)
+        if b is None:
             raise PreventUpdate
-        b = rows[cell["row"]]
         return [blendlogic.map_entry(b)], detail(b)
 
 

@@ -8,7 +8,14 @@ values: no module-level state, so two browser tabs never see each other's data.
 
 from __future__ import annotations
 
-from . import bench, blends, nexttrials, replace, share, sphere, trynext
+import json
+
+from dash import Input, Output, State
+
+from . import bench, blends, grids, ids, nexttrials, replace, share, sphere, trynext
+
+#: Every recommendation grid (each has a CSV download button).
+GRIDS = ("shortlist", "blend-table", "replace-singles", "replace-pairs")
 
 
 def register_callbacks(app, get_library) -> None:
@@ -22,3 +29,14 @@ def register_callbacks(app, get_library) -> None:
     """
     for screen in (bench, sphere, trynext, nexttrials, blends, replace, share):
         screen.register(app, get_library)
+    grids.register_csv(app, GRIDS)
+    tabs = list(ids.SHOWN)  # a tab shown counts up its screen's store (no request)
+    app.clientside_callback(
+        """function(tab, ...counts) {
+            var names = %s;
+            return names.map(function(n, k) {
+                return n === tab ? (counts[k] || 0) + 1 : window.dash_clientside.no_update;
+            });
+        }""" % json.dumps(tabs),
+        [Output(ids.SHOWN[t], "data") for t in tabs], Input(ids.TABS, "value"),
+        [State(ids.SHOWN[t], "data") for t in tabs])

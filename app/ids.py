@@ -15,3 +15,6 @@ SHELF_PAYLOAD = "shelf-payload"  # checked upload of a shelf file
 BOOT = "boot-store"          # a bootstrap of the fit (intervals, resampled spheres)
 NEXT = "next-store"          # the suggested next trials and the results to re-check
 RESTRICTED_PAYLOAD = "restricted-payload"  # checked upload of a restricted-solvents list
+#: Per screen, how many times it was shown (counted in the browser): a screen computes
+#: when it is shown, without a request for every other tab switch.
+SHOWN = {"next": "next-shown", "blends": "blends-shown", "replace": "replace-shown"}

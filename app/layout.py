@@ -32,8 +32,10 @@ def build_layout(initial: dict | None, library, has_demo: bool):
                 html.Span("solsphere", className="name"),
                 html.Span("Hansen solubility sphere from your bench results", className="sub"),
             ]),
-            html.Div(id=ids.NOTICE, className="notice-box",
-                     children=html.Div(message, className="notice notice-ok")),
+            html.Div(className="notice-box", children=[
+                html.Div(id=ids.NOTICE, children=html.Div(message, className="notice notice-ok")),
+                html.Div(id="table-status", className="table-status muted small"),
+            ]),
         ]),
         html.Main(className="columns", children=[
             html.Section(className="left", children=[
@@ -68,5 +70,6 @@ def build_layout(initial: dict | None, library, has_demo: bool):
         dcc.Store(id=ids.RESTRICTED_PAYLOAD),
         dcc.Store(id=ids.BOOT),
         dcc.Store(id=ids.NEXT),
+        *[dcc.Store(id=v, data=0) for v in ids.SHOWN.values()],
         *bench.type_ahead(library),
     ])

@@ -17,7 +17,9 @@ from __future__ import annotations
 
 import base64
 import binascii
+import hashlib
 import html
+import json
 import os
 import re
 import tempfile
@@ -34,7 +36,7 @@ from solsphere.io.project import Project, load_any, save
 from solsphere.io.trials import DISPLAY, parse_outcome
 from solsphere.report import figures
 from solsphere.report.share import share_page
-from solsphere.workflows import candidate_pool, fit_project
+from solsphere.workflows import candidate_pool, fit_project, resolved_names
 
 __all__ = ["split_names"]  # re-exported for the screens
 
@@ -57,14 +59,32 @@ def blank_row() -> dict:
 
 
 def rows_from_trials(trials) -> list[dict]:
-    """Table rows for a Trials object (outcomes in the display words)."""
+    """Table rows for a Trials object (outcomes in the display words).
+
+    Each row keeps the line of the file it came from (``line``, shown in the table's
+    'file line' column), so a warning about it names the same line as the command
+    line does for that file."""
     rows = []
-    for r in trials.to_rows():
+    for t, r in zip(trials, trials.to_rows()):
         row = {c: r.get(c) for c in COLUMNS}
         row["outcome"] = WORDS.get(row["outcome"], row["outcome"])
         row["note"] = row["note"] or None
+        if getattr(t, "line", None):
+            row["line"] = int(t.line)
         rows.append(row)
     return rows
+
+
+def with_file_lines(trials, rows) -> None:
+    """Give each validated trial the file line of its table row (``line``) where the
+    row came from a file: the fit's warnings then name the line the command line names
+    for the same file. Rows added in the app keep their table row number."""
+    for t in trials:
+        k = t.line - 1  # validate_rows numbers the table rows from 1
+        row = rows[k] if 0 <= k < len(rows) and isinstance(rows[k], dict) else {}
+        line = row.get("line")
+        if isinstance(line, int) and not isinstance(line, bool) and line > 0:
+            t.line = line
 
 
 def clean_rows(rows) -> list[dict]:
@@ -133,6 +153,8 @@ def compute_fit(rows, partial: str, library) -> dict:
            "tested": sorted({t.name for t in trials} | {t.cas for t in trials if t.cas}),
            "warnings": list(trials.warnings), "partial": partial,
            "n_rows": sum(1 for r in clean_rows(rows) if any(v not in (None, "") for v in r.values()))}
+    with_file_lines(trials, rows or [])
+    out["resolved"] = resolved_names(trials)  # "PM acetate → 1-methoxy-2-propyl acetate"
     if not len(trials):
         out["fit_error"] = ("No bench results yet: add a solvent and its outcome for each "
                             "trial (or open a results file, or the demo).")
@@ -162,6 +184,31 @@ def problem_dict(err: InputError) -> dict:
             "column": err.column if isinstance(err.column, str) else None,
             "message": message,
             "hint": err.hint, "suggestions": suggestions}
+
+
+def table_status(result: dict | None, source: str | None) -> str:
+    """The banner's line about the table as it is now (not as it was opened).
+
+    >>> table_status({"fit": {"n_trials": 36}, "problems": [{"pending": True}]}, "a.csv")
+    'Table now: 36 trials counted, 1 waiting for its outcome (the table started from a.csv)'
+    >>> table_status({"fit": None, "problems": []}, None)
+    'Table now: no trials counted yet'
+    """
+    result = result or {}
+    fit = result.get("fit") or {}
+    problems = result.get("problems") or []
+    waiting = sum(1 for p in problems if p.get("pending"))
+    bad = len(problems) - waiting
+    parts = [f"{fit.get('n_trials', 0)} trials counted" if fit else "no trials counted yet"]
+    if waiting:
+        parts.append(f"{waiting} waiting for its outcome" if waiting == 1 else
+                     f"{waiting} waiting for their outcomes")
+    if bad:
+        parts.append(f"{bad} cell{'s' if bad > 1 else ''} to fix")
+    text = "Table now: " + ", ".join(parts)
+    if source:
+        text += f" (the table started from {source})"
+    return text
 
 
 def centre_text(fit: dict) -> str:
@@ -198,7 +245,8 @@ def summary(result: dict | None) -> dict:
                        f"{fit['n_partial']} partly, {fit['n_bad']} do not; 'partly' counted "
                        f"{partial} ({fit['n_counted_good']} used as dissolving, "
                        f"{fit['n_counted_bad']} as not)"),
-            "misfits": misfits, "warnings": warnings + list(fit.get("warnings") or [])}
+            "misfits": misfits, "warnings": warnings + list(fit.get("warnings") or []),
+            "resolved": list(result.get("resolved") or [])}
 
 
 def table_marks(result: dict | None, n_rows: int) -> tuple[list, list, list[dict]]:
@@ -469,7 +517,7 @@ def fit_matches(saved: dict | None, fit: dict | None, tol: float = 1e-6) -> bool
 def shortlist(result: dict | None, library, liquids_only: bool = True,
               min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
               exclude: str | None = None, top: int = 30, bootstrap=None,
-              common_only: bool = True) -> dict:
+              common_only: bool = True, pool: str | None = None) -> dict:
     """Untried solvents nearest the sphere, with their safety facts.
 
     ``bootstrap`` (a :class:`solsphere.confidence.Bootstrap` of the same results) adds
@@ -500,8 +548,8 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                                        max_boiling_point=number_field(max_boiling_point),
                                        exclude_carcinogens=bool(no_carcinogens),
                                        liquid_only=bool(liquids_only),
-                                       pool="common" if common_only else "liquids")
-        if not liquids_only and not common_only:
+                                       pool=pool or ("working" if common_only else "all"))
+        if not liquids_only and (pool or ("working" if common_only else "all")) == "all":
             filters["pool"] = "all library solvents"
     except SolsphereError as exc:
         return {"rows": [], "message": str(exc), "caution": CAUTION}
@@ -518,9 +566,32 @@ def shortlist(result: dict | None, library, liquids_only: bool = True,
                          twa_text=num(s.get("twa_ppm"), "{:.3g}"),
                          spread_text=num(s.get("spread"), "{:.1f}"),
                          p_text=num(s.get("p_good"), "{:.2f}"),
-                         flags_text="; ".join(s.get("flags") or [])))
+                         flags_text="; ".join(s.get("flags") or []),
+                         red_n=cell_number(s["red"], 2), p_n=cell_number(s.get("p_good"), 2),
+                         dD_n=cell_number(s["dD"], 1), dP_n=cell_number(s["dP"], 1),
+                         dH_n=cell_number(s["dH"], 1), bp_n=cell_number(s.get("boiling_point"), 0),
+                         fp_n=cell_number(s.get("flash_point"), 0),
+                         twa_n=cell_number(s.get("twa_ppm"), 1),
+                         spread_n=cell_number(s.get("spread"), 1)))
     msg = f"{len(rows)} nearest of {d['n_candidates']} untried candidates ({filters['pool']})."
     return {"rows": rows, "message": msg, "caution": CAUTION}
+
+
+def cell_number(x, digits: int = 1):
+    """A number for a table cell (rounded, so it sorts as a number), None when unknown.
+
+    >>> cell_number(12.345, 1), cell_number(None), cell_number(float("nan")), cell_number(7.6, 0)
+    (12.3, None, None, 8)
+    """
+    if x is None:
+        return None
+    try:
+        v = float(x)
+    except (TypeError, ValueError):
+        return None
+    if v != v:
+        return None
+    return round(v, digits) if digits else int(round(v))
 
 
 def number_field(x, field: str = "number"):
@@ -550,15 +621,41 @@ def drying_paths(blends) -> list[dict]:
 
 # ----------------------------------------------------------------------------- figures
 
+#: Heights of the map (and the RED ladder beside it) and of the 2D plane [px].
+MAP_HEIGHT = 520
+PLANE_HEIGHT = 380
+
+
 def figures_for(result: dict | None, library, show_untried: bool = True,
-                picked: list | None = None, blends: list | None = None, cloud=None):
-    """The 3D map and the three projections for the stored fit (plotly figures).
+                picked: list | None = None, blends: list | None = None, cloud=None,
+                plane: str = "dP-dH"):
+    """The 3D map, the RED ladder and the chosen 2D plane for the stored fit.
 
     ``blends`` are the clicked blends (their segment or triangle, and their drying path
     when they carry ``drying_points``); ``cloud`` the resampled sphere centres of a
-    bootstrap of the same results (shape (n, 3)), drawn faintly."""
+    bootstrap of the same results (shape (n, 3)), drawn faintly; ``plane`` a key of
+    :data:`solsphere.report.figures.PLANE_CHOICES`."""
     return (map_figure(result, library, show_untried, picked, blends, cloud),
-            planes_figure(result, blends))
+            ladder_figure(result), plane_figure(result, plane, blends))
+
+
+def ladder_figure(result: dict | None):
+    """The RED ladder of the stored fit (:func:`solsphere.report.figures.red_ladder`)."""
+    fit = (result or {}).get("fit")
+    if not fit:
+        return empty_figure("", height=MAP_HEIGHT)
+    return figures.red_ladder(fit, height=MAP_HEIGHT)
+
+
+def plane_figure(result: dict | None, choice: str = "dP-dH", blends: list | None = None):
+    """One 2D plane of the stored fit (:func:`solsphere.report.figures.plane`); an
+    unknown choice falls back to δP–δH."""
+    fit = (result or {}).get("fit")
+    if not fit:
+        return empty_figure("", height=PLANE_HEIGHT)
+    blends, _ = _current(fit, blends)
+    axes = figures.PLANE_CHOICES.get(choice, figures.PLANE_CHOICES["dP-dH"])
+    return figures.plane(fit, axes, blends=blends or None, height=PLANE_HEIGHT)
 
 
 def _current(fit: dict, blends, picked=None):
@@ -584,7 +681,8 @@ def map_figure(result: dict | None, library, show_untried: bool = True,
                                 tested=set(result.get("tested") or ()))
         untried = ranking.to_dict()["solvents"]
     return figures.map3d(fit, untried=untried, blends=blends or None,
-                         highlight=picked or None, show_untried=show_untried, height=560,
+                         highlight=picked or None, show_untried=show_untried,
+                         height=MAP_HEIGHT,
                          paths=drying_paths(blends) or None,
                          cloud=cloud if cloud else None)
 
@@ -596,6 +694,17 @@ def planes_figure(result: dict | None, blends: list | None = None):
         return empty_figure("", height=300)
     blends, _ = _current(fit, blends)
     return figures.projections(fit, blends=blends or None, height=300)
+
+
+def inputs_key(*values) -> str:
+    """A short fingerprint of a screen's inputs: a screen shown again with the same
+    inputs keeps what it shows instead of computing it again (fast tab switches).
+
+    >>> inputs_key({"a": 1}, [2, 3]) == inputs_key({"a": 1}, [2, 3]) != inputs_key(1)
+    True
+    """
+    text = json.dumps(values, sort_keys=True, default=str, ensure_ascii=False)
+    return hashlib.sha1(text.encode("utf-8")).hexdigest()[:20]
 
 
 def fit_key(fit: dict | None) -> list | None:

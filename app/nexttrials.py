@@ -8,7 +8,8 @@ from __future__ import annotations
 from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import ids, uncertainty
+from . import ids, jobs, uncertainty
+from .sphere import HIDE, SHOW, progress_box
 from .share import caution_line
 from .trynext import filters
 
@@ -34,6 +35,7 @@ def panel():
                                                       className="num")]),
             html.Span(id="next-trials-running", className="running"),
         ]),
+        progress_box("nt"),
         filters("nt", with_liquids=False, common=True),
         caution_line("next-trials-caution"),
         html.Div(id="next-trials-message", className="message"),
@@ -55,19 +57,29 @@ def register(app, get_library):
                   State(ids.FIT, "data"), State("next-trials-n", "value"),
                   State("next-trials-samples", "value"), State("nt-min-fp", "value"),
                   State("nt-max-bp", "value"), State("nt-no-carc", "value"),
-                  State("nt-exclude", "value"), State("nt-common", "value"),
-                  prevent_initial_call=True,
+                  State("nt-exclude", "value"), State("nt-pool", "value"),
+                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
                   running=[(Output("next-trials-button", "disabled"), True, False),
                            (Output("next-trials-running", "children"),
-                            "Resampling and refitting… (a few seconds)", "")])
-    def compute(n, result, how_many, n_samples, min_fp, max_bp, no_carc, exclude, common):
+                            "Sampling spheres and scoring the candidates…", ""),
+                           (Output("nt-progress-box", "style"), SHOW, HIDE)],
+                  progress=[Output("nt-progress", "value"), Output("nt-progress-text",
+                                                                   "children")],
+                  progress_default=["0", ""],
+                  cancel=[Input("nt-cancel", "n_clicks")])
+    def compute(set_progress, n, result, how_many, n_samples, min_fp, max_bp, no_carc,
+                exclude, pool):
+        """A background job (progress bar, cancel button): the page stays responsive."""
         if not n:
             raise PreventUpdate
-        return uncertainty.next_trials(result, get_library(), n=int(how_many or 5),
-                                       n_samples=n_samples, min_flash_point=min_fp,
-                                       max_boiling_point=max_bp,
-                                       no_carcinogens=bool(no_carc), exclude=exclude,
-                                       pool="common" if common else "liquids")
+        set_progress((None, "sampling the plausible spheres and choosing (no step count)…"))
+        return uncertainty.next_trials(
+            result, get_library(), n=int(how_many or 5), n_samples=n_samples,
+            min_flash_point=min_fp, max_boiling_point=max_bp, no_carcinogens=bool(no_carc),
+            exclude=exclude, pool=pool or "working",
+            progress=jobs.Reporter(set_progress, "suggestions chosen", 0, 80),
+            recheck_progress=jobs.Reporter(set_progress, "refits to rank the results to "
+                                                         "re-check", 80, 100))
 
     @app.callback(Output("next-trials-list", "children"), Output("recheck-list", "children"),
                   Output("next-trials-message", "children"), Output("add-all-next", "style"),

@@ -77,7 +77,7 @@ def create_app(path=None, initial: dict | None = None):
     dash.Dash
     """
     import dash
-    from . import guard
+    from . import guard, jobs
     from .callbacks import register_callbacks
     from .layout import build_layout
 
@@ -86,7 +86,8 @@ def create_app(path=None, initial: dict | None = None):
         initial = initial_state(path, library)
     assets = Path(__file__).with_name("assets")
     app = dash.Dash(__name__, title="solsphere", assets_folder=str(assets),
-                    serve_locally=True, update_title=None, on_error=guard.on_callback_error)
+                    serve_locally=True, update_title=None, on_error=guard.on_callback_error,
+                    background_callback_manager=jobs.manager())
     app.server.config["MAX_CONTENT_LENGTH"] = MAX_REQUEST_BYTES
     app.layout = build_layout(initial, library, has_demo=_demo_installed())
     register_callbacks(app, _library)

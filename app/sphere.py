@@ -1,15 +1,32 @@
-"""'Sphere' panel: the fit's numbers, misfits and warnings, the 3D map and the three
-2D projections. Always visible beside the other screens."""
+"""'Sphere' panel: the fit's numbers, misfits and warnings; the 3D map with the RED
+ladder beside it (every tested solvent on a RED axis, by outcome, the boundary at RED 1,
+misfits ringed); one 2D plane at a time, chosen by the user. Always visible beside the
+other screens."""
 
 from __future__ import annotations
 
 from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import ids, logic, uncertainty
+from solsphere.report.figures import PLANE_CHOICES, plane_label
+
+from . import ids, jobs, logic, uncertainty
 
 GRAPH_CONFIG = {"displaylogo": False, "responsive": True,
                 "modeBarButtonsToRemove": ["sendDataToCloud"]}
+
+
+SHOW, HIDE = {}, {"display": "none"}
+
+
+def progress_box(prefix: str):
+    """A progress bar with its text and a cancel button (ids ``{prefix}-progress``,
+    ``{prefix}-progress-text``, ``{prefix}-cancel``), shown while a job runs."""
+    return html.Div(id=f"{prefix}-progress-box", className="progress-box", style=HIDE,
+                    children=[html.Progress(id=f"{prefix}-progress", value="0", max="100"),
+                              html.Span(id=f"{prefix}-progress-text", className="muted small"),
+                              html.Button("Cancel", id=f"{prefix}-cancel",
+                                          className="btn btn-quiet btn-small")])
 
 
 def panel(partial: str):
@@ -43,11 +60,24 @@ def panel(partial: str):
                           options=[{"label": "their centres on the map", "value": "on"}]),
             html.Span(id="boot-running", className="running"),
         ]),
+        progress_box("boot"),
         html.Div(id="boot-status", className="boot-status"),
-        dcc.Graph(id="map3d", config=GRAPH_CONFIG, className="map3d",
-                  figure=logic.empty_figure("Waiting for results…")),
-        dcc.Graph(id="planes", config=GRAPH_CONFIG, className="planes",
-                  figure=logic.empty_figure("", height=300)),
+        html.Div(className="map-row", children=[
+            dcc.Graph(id="map3d", config=GRAPH_CONFIG, className="map3d",
+                      figure=logic.empty_figure("Waiting for results…")),
+            dcc.Graph(id="ladder", config=GRAPH_CONFIG, className="ladder",
+                      figure=logic.empty_figure("", height=logic.MAP_HEIGHT)),
+        ]),
+        html.Div(className="plane-bar", children=[
+            html.Span("Plane", className="ctl-label"),
+            dcc.RadioItems(id="plane-choice", value="dP-dH", inline=True, className="radio",
+                           options=[{"label": plane_label(v), "value": k}
+                                    for k, v in PLANE_CHOICES.items()]),
+            html.Span("one 2D view of Hansen space at a time; the outline is the sphere's "
+                      "cut through its centre", className="muted small"),
+        ]),
+        dcc.Graph(id="plane", config=GRAPH_CONFIG, className="plane",
+                  figure=logic.empty_figure("", height=logic.PLANE_HEIGHT)),
     ])
 
 
@@ -86,6 +116,9 @@ def summary_children(result, saved_fit, boot=None):
         else:
             out.append(html.P("No misfits: every counted result agrees with the sphere.",
                               className="muted"))
+    if s.get("resolved"):
+        out.append(html.P(["Names resolved: ", "; ".join(s["resolved"])], id="resolved-names",
+                          className="muted small"))
     if s["warnings"]:
         out.append(html.Ul([html.Li(w) for w in s["warnings"]], className="warnings"))
     return out
@@ -103,28 +136,47 @@ def register(app, get_library):
 
     @app.callback(Output(ids.BOOT, "data"), Input("boot-button", "n_clicks"),
                   State(ids.FIT, "data"), State("boot-n", "value"), State("boot-method", "value"),
-                  prevent_initial_call=True,
+                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
                   running=[(Output("boot-button", "disabled"), True, False),
                            (Output("boot-running", "children"),
-                            "Computing the plausible spheres… (a few seconds)", "")])
-    def run_bootstrap(n, result, n_resamples, method):
-        """Its own callback, run only on the button: the refit on every edit stays fast."""
+                            "Computing the plausible spheres…", ""),
+                           (Output("boot-progress-box", "style"), SHOW, HIDE)],
+                  progress=[Output("boot-progress", "value"), Output("boot-progress-text",
+                                                                     "children")],
+                  progress_default=["0", ""],
+                  cancel=[Input("boot-cancel", "n_clicks")])
+    def run_bootstrap(set_progress, n, result, n_resamples, method):
+        """A background job, run only on the button: the refit on every edit stays fast,
+        and the page stays responsive meanwhile (progress bar, cancel button)."""
         if not n or not (result or {}).get("fit"):
             raise PreventUpdate
-        return uncertainty.run_bootstrap(result, n_resamples, method or "classic")
+        method = method or "classic"
+        if method == "posterior":  # the sampler reports no steps: an indefinite bar
+            set_progress((None, "sampling the posterior (no step count)…"))
+        return uncertainty.run_bootstrap(result, n_resamples, method,
+                                         progress=jobs.Reporter(set_progress,
+                                                                "resampled spheres"))
 
-    @app.callback(Output("map3d", "figure"), Output("planes", "figure"),
+    @app.callback(Output("map3d", "figure"),
                   Input(ids.FIT, "data"), Input("show-untried", "value"),
                   Input(ids.PICKED, "data"), Input(ids.BLEND, "data"),
                   Input(ids.BOOT, "data"), Input("show-cloud", "value"))
     def draw(result, untried, picked, blend, boot, show_cloud):
-        # one callback for both figures: measured faster than two (they would compete
-        # for the server's CPU and double the round trips)
         if result is None:
             raise PreventUpdate
         cloud = uncertainty.cloud(boot, result.get("fit")) if show_cloud else None
-        return logic.figures_for(result, get_library(), show_untried=bool(untried),
-                                 picked=picked, blends=blend, cloud=cloud)
+        return logic.map_figure(result, get_library(), show_untried=bool(untried),
+                                picked=picked, blends=blend, cloud=cloud)
+
+    @app.callback(Output("ladder", "figure"), Output("plane", "figure"),
+                  Input(ids.FIT, "data"), Input(ids.BLEND, "data"),
+                  Input("plane-choice", "value"))
+    def draw_2d(result, blend, choice):
+        # its own callback: choosing a plane never redraws the 3D map
+        if result is None:
+            raise PreventUpdate
+        return (logic.ladder_figure(result),
+                logic.plane_figure(result, choice or "dP-dH", blend))
 
 
 def boot_status(result, boot):

@@ -3,21 +3,33 @@ the solvent on the map."""
 
 from __future__ import annotations
 
-import warnings
-
 from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
 
 from . import ids, logic, uncertainty
+from .grids import clicked_row, column, grid
 from .share import caution_line
 
-COLUMNS = [("name", "solvent"), ("red_text", "RED"), ("dD_text", "δD"), ("dP_text", "δP"),
-           ("dH_text", "δH"), ("bp_text", "bp °C"), ("fp_text", "flash pt °C"),
-           ("twa_text", "TWA ppm"), ("spread_text", "spread"), ("flags_text", "flags")]
-
-
+#: The shortlist's columns: the hazard facts (flash point, exposure limit, flags) are
+#: columns of their own, visible without a click.
+COLUMNS = [column("name", "solvent", width=150, pinned=True, wrap=True),
+           column("red_n", "RED", "number", width=90,
+                  tip="distance to the centre / R0; below 1 is predicted inside"),
+           column("fp_n", "flash pt °C", "number", tip="flash point (estimates are marked in "
+                                                       "the flags)"),
+           column("twa_n", "TWA ppm", "number", tip="8-hour exposure limit (— = not in "
+                                                    "the data)"),
+           column("flags_text", "flags", width=250, wrap=True,
+                  tip="carcinogen and reproductive-toxicity listings, flammability, "
+                      "estimated values"),
+           column("bp_n", "bp °C", "number", width=80),
+           column("dD_n", "δD", "number", width=70), column("dP_n", "δP", "number", width=70),
+           column("dH_n", "δH", "number", width=70),
+           column("spread_n", "spread", "number", width=85,
+                  tip="how far the compilations disagree on this solvent's coordinates")]
 #: The p_good column, shown once a bootstrap of the same results is stored.
-P_COLUMN = ("p_text", "p_good")
+P_COLUMN = column("p_n", "p_good", "number", tip="share of the resampled spheres that "
+                                                 "contain the solvent")
 
 
 def columns_with_p(with_p: bool) -> list[dict]:
@@ -25,50 +37,28 @@ def columns_with_p(with_p: bool) -> list[dict]:
     cols = list(COLUMNS)
     if with_p:
         cols.insert(2, P_COLUMN)
-    return [{"id": c, "name": n} for c, n in cols]
+    return cols
 
 
-def table(table_id: str, columns, page_size: int = 15):
-    """A read-only, clickable results table."""
-    from dash import dash_table
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", DeprecationWarning)
-        return dash_table.DataTable(
-            id=table_id, data=[], columns=[{"id": c, "name": n} for c, n in columns],
-            editable=False, page_action="native", page_size=page_size, cell_selectable=True,
-            style_table={"overflowX": "auto"},
-            style_cell={"fontFamily": "inherit", "fontSize": "13px", "padding": "3px 6px",
-                        "textAlign": "left", "whiteSpace": "normal", "height": "auto",
-                        "cursor": "pointer"},
-            style_header={"backgroundColor": "#eef2f0", "fontWeight": "600"},
-            style_cell_conditional=[{"if": {"column_id": "flags_text"}, "minWidth": "300px"},
-                                    {"if": {"column_id": "label"}, "minWidth": "220px"},
-                                    {"if": {"column_id": "window_text"}, "minWidth": "120px"},
-                                    {"if": {"column_id": "drying_text"}, "minWidth": "110px"},
-                                    {"if": {"column_id": "twa_text"}, "minWidth": "70px"},
-                                    {"if": {"column_id": "fp_text"}, "minWidth": "80px"},
-                                    {"if": {"column_id": "name"}, "minWidth": "150px"}],
-            style_data_conditional=[{"if": {"state": "active"},
-                                     "backgroundColor": "#fdf3cf", "border": "1px solid #e6ab02"}],
-        )
-
-
-def common_checkbox(prefix: str, on: bool = False):
-    """'common solvents only' (id ``{prefix}-common``): the curated list of solvents in
-    common use instead of every library liquid (reagents included)."""
-    return dcc.Checklist(id=f"{prefix}-common", value=["on"] if on else [], inline=True,
-                         className="radio",
-                         options=[{"label": "working solvents only (no reagents)",
-                                   "value": "on"}])
+def pool_selector(prefix: str, value: str = "working"):
+    """The pool of every recommendation screen (id ``{prefix}-pool``): the curated
+    working solvents (default) or every library liquid, reagents included; the choice
+    goes to :func:`solsphere.workflows.candidate_pool`, the one pool rule."""
+    return html.Span(className="pool-choice", children=[
+        html.Span("Pool", className="ctl-label"),
+        dcc.RadioItems(id=f"{prefix}-pool", value=value, inline=True, className="radio",
+                       options=[{"label": "working solvents", "value": "working"},
+                                {"label": "all library liquids (reagents too)",
+                                 "value": "all"}])])
 
 
 def filters(prefix: str, with_liquids: bool = True, common: bool | None = None):
     """The safety filters shared by 'Try next', 'Next trials' and 'Replace'.
 
-    ``common``: show the 'common solvents only' checkbox, ticked (True) or not (False);
-    None leaves it out.
+    ``common``: show the pool selector (working solvents when True, every library
+    liquid when False); None leaves it out.
     """
-    parts = [] if common is None else [common_checkbox(prefix, on=common)]
+    parts = [] if common is None else [pool_selector(prefix, "working" if common else "all")]
     if with_liquids:
         parts.append(dcc.Checklist(id=f"{prefix}-liquids", value=["on"], inline=True,
                                    className="radio",
@@ -103,8 +93,9 @@ def panel():
         filters("next", common=True),
         caution_line("next-caution"),
         html.Div(id="next-message", className="message"),
-        table("shortlist", COLUMNS),
+        grid("shortlist", COLUMNS, csv_name="try-next.csv"),
         html.Div(id="next-detail", className="detail"),
+        dcc.Store(id="next-key"),
         html.Button("Clear picked solvents from the map", id="clear-picked",
                     className="btn btn-quiet"),
     ])
@@ -113,43 +104,50 @@ def panel():
 def register(app, get_library):
     """Callbacks: the shortlist and the click-to-map."""
 
-    @app.callback(Output("shortlist", "data"), Output("next-message", "children"),
+    @app.callback(Output("shortlist", "rowData"), Output("next-key", "data"),
+                  Output("next-message", "children"),
                   Output("next-caution", "children"),
                   Output("next-detail", "children", allow_duplicate=True),
-                  Output("shortlist", "active_cell"), Output("shortlist", "columns"),
+                  Output("shortlist", "columnDefs"),
                   Output("next-p-note", "children"),
-                  Input(ids.FIT, "data"), Input(ids.TABS, "value"),
+                  Input(ids.FIT, "data"), Input(ids.SHOWN["next"], "data"),
                   Input("next-liquids", "value"), Input("next-min-fp", "value"),
                   Input("next-max-bp", "value"), Input("next-no-carc", "value"),
                   Input("next-exclude", "value"), Input("next-top", "value"),
-                  Input(ids.BOOT, "data"), Input("next-common", "value"),
+                  Input(ids.BOOT, "data"), Input("next-pool", "value"),
+                  State("next-key", "data"), State(ids.TABS, "value"),
                   prevent_initial_call="initial_duplicate")
-    def update(result, tab, liquids, min_fp, max_bp, no_carc, exclude, top, boot, common):
+    def update(result, _shown, liquids, min_fp, max_bp, no_carc, exclude, top, boot, pool, seen,
+               tab):
         if result is None or tab != "next":
             raise PreventUpdate  # computed only while the screen is shown
+        key = logic.inputs_key(result, liquids, min_fp, max_bp, no_carc, exclude, top, boot,
+                               pool)
+        if key == seen:
+            raise PreventUpdate  # shown again with the same inputs: keep what it shows
         b = uncertainty.bootstrap_of(boot, result.get("fit"))
         out = logic.shortlist(result, get_library(), liquids_only=bool(liquids),
                               min_flash_point=min_fp, max_boiling_point=max_bp,
                               no_carcinogens=bool(no_carc), exclude=exclude,
-                              top=int(top or 30), bootstrap=b, common_only=bool(common))
+                              top=int(top or 30), bootstrap=b, pool=pool or "working")
         with_p = b is not None
         note = (p_note(boot) if with_p else
                 "Press 'How sure?' beside the map for a p_good column (the share of "
                 "resampled spheres that contain each solvent).")
-        return (out["rows"], out["message"], out["caution"], None, None,
+        return (out["rows"], key, out["message"], out["caution"], None,
                 columns_with_p(with_p), note)
 
     @app.callback(Output(ids.PICKED, "data"), Output("next-detail", "children"),
-                  Input("shortlist", "active_cell"), Input("clear-picked", "n_clicks"),
-                  State("shortlist", "derived_viewport_data"), State(ids.PICKED, "data"),
+                  Input("shortlist", "cellClicked"), Input("clear-picked", "n_clicks"),
+                  State("shortlist", "rowData"), State(ids.PICKED, "data"),
                   prevent_initial_call=True)
     def pick(cell, _clear, rows, picked):
         from dash import ctx
         if ctx.triggered_id == "clear-picked":
             return [], None
-        if not cell or not rows or cell["row"] >= len(rows):
+        r = clicked_row(cell, rows)
+        if r is None:
             raise PreventUpdate
-        r = rows[cell["row"]]
         item = {k: r[k] for k in ("name", "dD", "dP", "dH", "red", "for_fit")}
         kept = [p for p in (picked or []) if p["name"] != item["name"]]
         return (kept + [item])[-5:], detail(r)

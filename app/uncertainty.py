@@ -67,9 +67,12 @@ def current(store: dict | None, fit: dict | None) -> dict | None:
 # ----------------------------------------------------------------------------- bootstrap
 
 def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: str = "classic",
-                  seed: int = SEED) -> dict:
+                  seed: int = SEED, progress=None) -> dict:
     """Bootstrap the stored fit (:func:`solsphere.confidence.bootstrap`, stratified,
     seeded) for the browser store.
+
+    ``progress(done, total)`` is called as the resamples are refitted (the posterior
+    reports no steps).
 
     Returns
     -------
@@ -95,7 +98,8 @@ def run_bootstrap(result: dict | None, n_resamples=DEFAULT_RESAMPLES, method: st
                                  names=names)  # its own physically wide prior
         else:
             b = confidence.bootstrap(X, outcomes, n, seed=seed, method=method,
-                                     partial=partial, names=names, bounds=fit.get("bounds"))
+                                     partial=partial, names=names, bounds=fit.get("bounds"),
+                                     progress=progress)
     except (FitError, ValueError) as exc:
         return {"key": trials_key(fit), "error": f"No intervals: {exc}"}
     d = b.to_dict(samples=True)
@@ -179,11 +183,13 @@ def samples_text(d: dict) -> str:
 
 def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMPLES,
                 min_flash_point=None, max_boiling_point=None, no_carcinogens: bool = False,
-                exclude: str | None = None, seed: int = SEED, pool: str = "common") -> dict:
+                exclude: str | None = None, seed: int = SEED, pool: str = "working",
+                progress=None, recheck_progress=None) -> dict:
     """Suggestions (``solsphere next``) and the results to re-check (influence).
 
-    ``pool``: "common" (the curated common solvents, as ``solsphere next``) or
-    "liquids" (every library liquid).
+    ``pool``: "working" (the curated working solvents, as ``solsphere next``) or
+    "all" (every library liquid). ``progress`` and ``recheck_progress``
+    (``callable(done, total)``) follow the two stages.
 
     Returns
     -------
@@ -192,8 +198,6 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
         strings), ``recheck`` (the most influential trials), ``message``, ``warnings``,
         ``caution`` (the suggestions' own caution), ``elapsed``.
     """
-
-
     fit = (result or {}).get("fit")
     if not fit:
         return {"key": None, "suggestions": [], "recheck": [], "warnings": [],
@@ -209,9 +213,9 @@ def next_trials(result: dict | None, library, n: int = 5, n_samples=DEFAULT_SAMP
                                  exclude_carcinogens=bool(no_carcinogens), pool=pool)
         ns = max(MIN_SAMPLES, min(MAX_SAMPLES, int(number_field(n_samples) or DEFAULT_SAMPLES)))
         sug = nexttrial.suggest_next(X, outcomes, pool, int(n), n_samples=ns, seed=seed,
-                                     partial=partial, names=names)
+                                     partial=partial, names=names, progress=progress)
         infl = confidence.influence(X, outcomes, partial=partial, names=names,
-                                    bounds=fit.get("bounds"))
+                                    bounds=fit.get("bounds"), progress=recheck_progress)
     except (SolsphereError, ValueError) as exc:
         return {"key": key, "suggestions": [], "recheck": [], "warnings": [],
                 "message": str(exc), "caution": nexttrial.CAUTION}

@@ -27,7 +27,8 @@ from solsphere.models.twosphere import fit_two_spheres
 from solsphere.uncertainty.bootstrap import bootstrap, influence
 from solsphere.uncertainty.nexttrials import suggest_next
 from solsphere.uncertainty.posterior import sample_posterior
-from solsphere.workflows import candidate_pool, design_blends, find_replacements, fit_project
+from solsphere.workflows import (candidate_pool, design_blends, find_replacements, fit_project,
+                                 resolved_names as shared_resolved_names)
 
 
 def reading(args) -> dict:
@@ -119,14 +120,7 @@ def _posterior(args, project, fit, n: int):
 def resolved_names(project) -> list[str]:
     """"PM acetate → 1-methoxy-2-propyl acetate" for each library solvent typed otherwise
     than the library's name."""
-    out = []
-    for t in project.trials:
-        if (t.source.startswith("library")
-                and " ".join(t.text.split()).casefold() != t.name.casefold()):
-            line = f"{t.text.strip()} → {t.name}"
-            if line not in out:
-                out.append(line)
-    return out
+    return shared_resolved_names(project.trials)  # the one rule, shared with the app
 
 
 def demo_path() -> str:

@@ -49,10 +49,14 @@ from solsphere.limits import check as check_limit, check_temperature
 
 __all__ = ["fit_project", "candidate_pool", "at_temperature", "parse_fraction_limits",
            "design_blends", "BlendDesign", "add_safety_and_drying", "blend_notes",
-           "find_replacements", "RANK_CHOICES", "RERANK_POOL", "CAUTION"]
+           "find_replacements", "RANK_CHOICES", "DEFAULT_RANK", "RERANK_POOL", "CAUTION",
+           "resolved_names"]
 
 #: Orders a blend list can take.
 RANK_CHOICES = ("hazard", "cost", "drying", "evaporation", "red")
+#: The blend order every front end starts with (the CLI's --rank-by default, the app's
+#: Blends screen): feasible, robust, then least hazardous.
+DEFAULT_RANK = "hazard"
 #: With ranking by cost or drying, the blends nearest the centre that are looked at (the
 #: inside ones among them are re-ranked): bounded work whatever the pool.
 RERANK_POOL = 500
@@ -95,6 +99,25 @@ def fit_project(project, partial: str | None = None, library=None, seed: int = 0
             project.trials).result_
     partial = partial or project.settings.get("partial") or "good"
     return SphereModel(partial=partial, seed=seed).fit(project.trials).result_
+
+
+def resolved_names(trials) -> list[str]:
+    """``"PM acetate → 1-methoxy-2-propyl acetate"`` for each library solvent typed
+    otherwise than the library's name (once each, in table order): what the CLI's fit
+    report and the app both show.
+
+    Parameters
+    ----------
+    trials : Trials
+    """
+    out = []
+    for t in trials:
+        if (t.source.startswith("library")
+                and " ".join(t.text.split()).casefold() != t.name.casefold()):
+            line = f"{t.text.strip()} → {t.name}"
+            if line not in out:
+                out.append(line)
+    return out
 
 
 # ----------------------------------------------------------------------------- pool
@@ -388,7 +411,7 @@ class BlendDesign(Result):
 
 
 def design_blends(fit, library, *, components: int = 2, top: int = 20,
-                  rank_by: str = "hazard", drying: bool = False, max_fraction=None,
+                  rank_by: str = DEFAULT_RANK, drying: bool = False, max_fraction=None,
                   min_fraction=None, with_single: bool = False, diverse: bool = True,
                   **pool_options) -> BlendDesign:
     """The one blend workflow: pool, screen (pairs or triples), safety and drying, order.

@@ -172,7 +172,7 @@ def test_project_file_round_trip_gives_the_same_fit(demo, lib):
     assert doc["format"] == "solsphere-project" and doc["settings"]["partial"] == "bad"
     st = logic.open_upload(data_url(text.encode(), "application/json"), "p.json", lib)
     assert st["kind"] == "project" and st["partial"] == "bad"
-    assert st["rows"] == logic.clean_rows(rows)
+    assert logic.clean_rows(st["rows"]) == logic.clean_rows(rows)  # (plus each row's line)
     res = logic.compute_fit(st["rows"], st["partial"], lib)
     assert logic.fit_matches(st["saved_fit"], res["fit"]) is True
     assert logic.fit_matches(st["saved_fit"], logic.compute_fit(rows, "good", lib)["fit"]) is False
@@ -220,6 +220,7 @@ def test_blend_designer_matches_screen_blends(demo_result, lib):
     from solsphere.workflows import candidate_pool
     fit = demo_result["fit"]
     out = blendlogic.blend_designer(demo_result, lib, no_carcinogens=True, max_boiling_point=150,
+                                    rank_by="red",
                                top=5)
     pool, _ = candidate_pool(lib, max_boiling_point=150.0, exclude_carcinogens=True)
     ref = screen_blends(pool, (fit["dD"], fit["dP"], fit["dH"]), fit["R0"], top=5).to_dict()
@@ -250,20 +251,24 @@ def test_blend_designer_ticked_and_shelf_pools(demo_result, lib):
 
 def test_figures_draw_the_stored_fit(demo_result, lib):
     blend = blendlogic.blend_designer(demo_result, lib, top=1)["blends"]
-    fig3, fig2 = logic.figures_for(demo_result, lib, show_untried=True,
+    fig3, ladder, plane = logic.figures_for(demo_result, lib, show_untried=True,
                                    picked=[{"name": "anisole", "dD": 17.8, "dP": 4.1,
                                             "dH": 6.7}], blends=blend)
     names = [t.name for t in fig3.data]
     assert {"sphere", "untried", "dissolves", "does not", "blend segments", "picked"} <= set(names)
+    assert {"dissolves", "does not", "RED 1 (boundary)"} <= {t.name for t in ladder.data}
+    assert "blends" in {t.name for t in plane.data} and plane.layout.title.text == "δP–δH"
+    _, _, other = logic.figures_for(demo_result, lib, plane="dD-dH")
+    assert other.layout.title.text == "δD–δH"
     seg = next(t for t in fig3.data if t.name == "blend segments")
     assert list(seg.x[:2]) == [blend[0]["component_points"][0][0], blend[0]["component_points"][1][0]]
-    fig3, _ = logic.figures_for(demo_result, lib, show_untried=False)
+    fig3, *_ = logic.figures_for(demo_result, lib, show_untried=False)
     assert "untried" not in [t.name for t in fig3.data]
     # after a refit the old blend's best mix no longer applies: it is not drawn
     stale = [dict(blend[0], for_fit=[0.0, 0.0, 0.0, 1.0])]
-    fig3, _ = logic.figures_for(demo_result, lib, blends=stale)
+    fig3, *_ = logic.figures_for(demo_result, lib, blends=stale)
     assert "blend segments" not in [t.name for t in fig3.data]
-    empty3, _ = logic.figures_for({"fit": None, "fit_error": "No results"}, lib)
+    empty3, *_ = logic.figures_for({"fit": None, "fit_error": "No results"}, lib)
     assert "No results" in empty3.layout.annotations[0].text
 
 
@@ -325,7 +330,7 @@ def test_three_component_designer_is_the_triple_screen_of_the_shortlist(demo_res
     from solsphere.design.triples import screen_triples, triple_shortlist
     fit = demo_result["fit"]
     centre = (fit["dD"], fit["dP"], fit["dH"])
-    out = blendlogic.blend_designer(demo_result, lib, components=3, top=5)
+    out = blendlogic.blend_designer(demo_result, lib, components=3, top=5, rank_by="red")
     pool, _ = candidate_pool(lib)
     short = triple_shortlist(pool, centre, fit["R0"])
     ref = screen_triples(short, centre, fit["R0"], top=5).to_dict()["blends"]
@@ -336,7 +341,7 @@ def test_three_component_designer_is_the_triple_screen_of_the_shortlist(demo_res
         assert b["label"].count("%") == 3 and "triangle" in b["window_text"]
         assert b["drying_text"]  # a verdict for every row ("no data" when data are missing)
     # the map draws the triangle: three edges, each followed by a gap
-    fig3, _ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(out["blends"][0])])
+    fig3, *_ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(out["blends"][0])])
     seg = next(t for t in fig3.data if t.name == "blend segments")
     assert len(seg.x) == 9 and list(seg.x[2::3]) == [None] * 3
 
@@ -426,7 +431,7 @@ def test_drying_column_and_path_are_the_library_drying(demo_result, lib):
                                    "max_fraction_evaporated": 1.0}) == "stays inside to dryness"
     # the clicked blend's drying path is drawn on the map
     b = next(b for b in out["blends"] if b.get("drying_points"))
-    fig3, _ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(b)])
+    fig3, *_ = logic.figures_for(demo_result, lib, blends=[blendlogic.map_entry(b)])
     path = [t for t in fig3.data if (t.name or "").startswith("drying path")]
     assert len(path) == 1 and len(path[0].x) == len(b["drying_points"])
 
@@ -603,3 +608,67 @@ def test_share_limits_for_names_with_commas(demo_result, lib):
     for b in out["blends"]:
         share = dict(zip(b["solvents"], b["volume_fractions"]))
         assert share.get("1,2-dichlorobenzene", 0.0) <= 0.1 + 1e-9
+
+
+def test_blend_order_default_is_the_cli_default(demo_result, lib):
+    """The Blends screen starts in the workflows' order, the same as `solsphere blend`
+    (once the app's default was RED while the CLI's was hazard)."""
+    import inspect
+    from solsphere import cli
+    from solsphere.workflows import DEFAULT_RANK, design_blends
+    from solsphere.app import blends
+    assert inspect.signature(blendlogic.blend_designer).parameters["rank_by"].default == DEFAULT_RANK
+    assert inspect.signature(design_blends).parameters["rank_by"].default == DEFAULT_RANK
+    parser = cli.build_parser() if hasattr(cli, "build_parser") else None
+    if parser is not None:
+        args = parser.parse_args(["blend", "x.csv"])
+        assert args.rank_by == DEFAULT_RANK
+    assert next(iter(blendlogic.RANK_CHOICES)) == DEFAULT_RANK
+    radio = blends.panel(lib).children[1].children[3]
+    assert radio.id == "blend-rank" and radio.value == DEFAULT_RANK
+    out = blendlogic.blend_designer(demo_result, lib, top=5)
+    assert "least hazardous" in out["message"] and "working solvents" in out["message"]
+    pool = {s.name for s in lib.working()}
+    assert all(n in pool for b in out["blends"] for n in b["solvents"])
+
+
+def test_pool_selector_and_allow_worse_reach_the_workflows(demo_result, lib):
+    working = blendlogic.substitutes(demo_result, lib, "NMP", top=10)
+    everything = blendlogic.substitutes(demo_result, lib, "NMP", top=10, pool="all")
+    assert "working solvents" in working["message"] and "all library" in everything["message"]
+    pool = {s.name for s in lib.working()}
+    assert all(s["name"] in pool for s in working["singles"])
+    assert any(s["name"] not in pool for s in everything["singles"])
+    # never worse than NMP by default; 'allow worse' lifts the rule
+    assert all("worse" not in (s["vs_carc"], s["vs_repro"], s["vs_tox"], s["vs_flam"])
+               for s in working["singles"])
+    loose = blendlogic.substitutes(demo_result, lib, "NMP", top=40, pool="all", allow_worse=True)
+    assert any("worse" in (s["vs_carc"], s["vs_repro"], s["vs_flam"]) for s in loose["singles"])
+    assert "allow worse" in loose["message"]
+    # the name as resolved, as the CLI shows it
+    pm = blendlogic.substitutes(demo_result, lib, "PM acetate", top=3)
+    assert "PM acetate → 1-methoxy-2-propyl acetate" in pm["message"]
+    short_all = logic.shortlist(demo_result, lib, top=50, pool="all")["rows"]
+    assert any(r["name"] not in pool for r in short_all)
+    assert all(r["name"] in pool for r in logic.shortlist(demo_result, lib, top=50)["rows"])
+
+
+def test_warnings_name_the_same_file_line_as_the_cli(lib):
+    """A file with comment lines: the app once said 'line 6' where `solsphere fit` said
+    'line 10' (the app numbered table rows); rows now keep their file line."""
+    from solsphere.io.project import load_any
+    from solsphere.workflows import fit_project
+    from importlib.resources import files
+    path = files("solsphere.data.demo").joinpath("varnish_binder.csv")
+    project = load_any(str(path), library=lib)
+    cli_warnings = fit_project(project, library=lib).warnings
+    st = logic.demo_state(lib)
+    app_warnings = logic.compute_fit(st["rows"], "good", lib)["fit"]["warnings"]
+    assert [w for w in cli_warnings if "line" in w] == [w for w in app_warnings if "line" in w]
+    assert any("(line 10)" in w for w in app_warnings)  # cyclohexanone, after 3 comments
+    # a row added in the app has no file line and keeps its table row number
+    rows = [dict(r) for r in st["rows"]] + [logic.blank_row()]
+    rows[-1].update(solvent="PnB", outcome="dissolves")
+    res = logic.compute_fit(rows, "good", lib)
+    assert "PnB → 1-butoxy-2-propanol" in res["resolved"]
+    assert "Table now: 36 trials counted" in logic.table_status(res, "x.csv")

@@ -246,14 +246,15 @@ def _find(component, cid):
     return None
 
 
-def test_checkbox_defaults_per_screen(lib):
+def test_pool_selector_defaults_per_screen(lib):
+    # every recommendation screen has the pool selector, working solvents by default
     from solsphere.app import blends, nexttrials, replace, trynext
-    assert _find(nexttrials.panel(), "nt-common").value == ["on"]
-    assert _find(trynext.panel(), "next-common").value == ["on"]
-    assert _find(blends.panel(lib), "blend-common").value == ["on"]
-    # only where it is wired: not on the Replace screen, nor by default
-    assert _find(replace.panel(), "replace-common") is None
-    assert _find(trynext.filters("x"), "x-common") is None
+    assert _find(nexttrials.panel(), "nt-pool").value == "working"
+    assert _find(trynext.panel(), "next-pool").value == "working"
+    assert _find(blends.panel(lib), "blend-pool").value == "working"
+    assert _find(replace.panel(), "replace-pool").value == "working"
+    # only where it is wired: not by default
+    assert _find(trynext.filters("x"), "x-pool") is None
 
 
 def test_shortlist_honours_the_checkbox(demo_result, lib):

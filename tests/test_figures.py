@@ -244,3 +244,53 @@ def test_share_html_is_standalone_and_escaped(fig3, fig2):
     assert [t.get("name") for t in f3["data"]] == [t.name for t in fig3.data]
     # nothing in the embedded JSON can close the script element
     assert "</" not in m.group(1)
+
+
+# ----------------------------------------------------------------------------- RED ladder, one plane
+
+def test_red_ladder_places_every_trial_at_its_red_by_outcome():
+    fig = figures.red_ladder(FIT)
+    good, bad, part = one(fig, "dissolves"), one(fig, "does not"), one(fig, "partly")
+    assert sorted(good.y) == [0.85, 1.12] and sorted(bad.y) == [1.5, 2.7, 7.6]
+    assert list(part.y) == [0.9]
+    assert good.marker.color == GOOD and bad.marker.color == BAD and part.marker.color == PARTIAL
+    assert good.marker.symbol == "circle" and bad.marker.symbol == "x"
+    # one column per outcome: dissolves left of partly left of does not
+    assert max(good.x) < min(part.x) <= max(part.x) < min(bad.x)
+    line = one(fig, "RED 1 (boundary)")
+    assert list(line.y) == [1, 1]
+    assert fig.layout.yaxis.range[1] > 7.6  # nothing cut off
+    # hover: name, coordinates, RED and outcome
+    k = list(good.y).index(1.12)
+    assert "acetone" in good.hovertext[k] and "RED 1.12" in good.hovertext[k]
+    assert "δD 15.5" in good.hovertext[k] and "dissolves" in good.hovertext[k]
+
+
+def test_red_ladder_rings_exactly_the_misfits():
+    ring = one(figures.red_ladder(FIT), "misfits")
+    assert list(ring.y) == [1.12] and ring.marker.symbol == "circle-open"
+    clean = dict(FIT, table=[dict(r, agrees=True) for r in FIT["table"]])
+    assert traces(figures.red_ladder(clean), "misfits") == []
+
+
+def test_red_ladder_spreads_points_of_equal_red():
+    tied = dict(FIT, table=[row(f"s{i}", (17, 6, 6), "good", 0.5) for i in range(4)])
+    xs = list(one(figures.red_ladder(tied), "dissolves").x)
+    assert len(set(xs)) == 4 and all(abs(x) < 0.5 for x in xs)
+
+
+@pytest.mark.parametrize("choice,ix,iy", [("dP-dH", 1, 2), ("dD-dP", 0, 1), ("dD-dH", 0, 2)])
+def test_one_plane_draws_the_chosen_axes(choice, ix, iy):
+    fig = figures.plane(FIT, choice, blends=BLENDS)
+    good = one(fig, "dissolves")
+    pts = [r for r in FIT["table"] if r["outcome"] == "good"]
+    assert list(good.x) == [(r["dD"], r["dP"], r["dH"])[ix] for r in pts]
+    assert list(good.y) == [(r["dD"], r["dP"], r["dH"])[iy] for r in pts]
+    # the misfit (acetone) carries a ring, the others none
+    assert list(good.marker.line.width) == [0, 2]
+    outline = one(fig, "sphere")
+    semi = [FIT["R0"] / 2, FIT["R0"], FIT["R0"]]
+    assert max(outline.x) - min(outline.x) == pytest.approx(2 * semi[ix], rel=1e-3)
+    assert fig.layout.yaxis.scaleratio == (0.5 if ix == 0 else 1.0)
+    assert figures.plane_label(figures.PLANE_CHOICES[choice]) in fig.layout.title.text
+    assert traces(fig, "blends")

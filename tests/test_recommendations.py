@@ -437,3 +437,14 @@ def test_doctests_of_the_new_modules():
     for mod in (ordering, recommend, substitution, hazards, pools, table):
         failures, _ = doctest.testmod(mod)
         assert failures == 0, mod.__name__
+
+
+def test_pairs_the_phase_test_flags_come_after_pairs_that_mix():
+    """The one-phase step of the order is decided by the same test as the "may not mix"
+    caution (UNIFAC where groups exist): in the demo, DBE + Cyrene (a gap at 3-59 vol %
+    DBE that the drying blend would cross) ranked 2nd while flagged."""
+    d = run_json(["blend", str(DEMO), "--top", "20"])
+    split = [any("may not mix" in f for f in b["flags"]) for b in d["blends"]]
+    assert split == sorted(split)  # every flagged pair after every unflagged one
+    for b, s in zip(d["blends"], split):
+        assert b["criteria"]["one_phase"] is (not s), b["solvents"]

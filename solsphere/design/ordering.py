@@ -6,7 +6,8 @@ nothing. Blends and replacements are therefore ordered by this documented sequen
 step breaks the ties of the one before):
 
 1. **Feasibility**: inside the sphere (RED ≤ 1), one liquid phase (no "may not mix"
-   caution: :func:`solsphere.design.pairs.miscibility_warning`), every constraint met
+   caution: :func:`solsphere.design.pairs.miscibility_warning`, decided for every pair
+   that would be listed by :func:`checked_pick`), every constraint met
    (the pool's filters are applied before; a blend whose estimated flash point is below a
    requested minimum fails here). Feasible first; pairs that may not mix come after all
    pairs that mix.
@@ -33,11 +34,12 @@ from typing import Callable, Sequence
 import numpy as np
 
 from solsphere import hansen as hsp
+from solsphere.design.pairs import miscibility_warning
 from solsphere.library.hazards import hazard_score
 from solsphere.library.table import Solvent
 
 __all__ = ["PRIORITIES", "ROBUSTNESS_STEP", "MAX_USES", "ORDER_TEXT", "robustness_bin",
-           "pair_arrays", "order_pairs", "diverse", "sort_key", "order_rows"]
+           "pair_arrays", "order_pairs", "diverse", "checked_pick", "sort_key", "order_rows"]
 
 #: The user's priorities (step 3), the first is the default.
 PRIORITIES = ("hazard", "cost", "drying", "evaporation")
@@ -48,6 +50,9 @@ MAX_USES = 2
 #: One line for reports.
 ORDER_TEXT = ("Order: feasible (inside, one phase, constraints met) → robustness "
               "(p_good, or window width / margin 1−RED, in steps of 0.1) → {priority} → RED.")
+
+#: Most rounds of :func:`checked_pick` (each checks the listed pairs not checked yet).
+MAX_CHECK_ROUNDS = 25
 
 _WATER_CAS = "7732-18-5"
 _R = 8.314462618
@@ -130,6 +135,34 @@ def order_pairs(res: dict, arrays: dict, priority: str = "hazard",
         pv = arrays["hazard"][idx]
     order = np.lexsort((red[idx], pv, -rbin, ~one, ~inside))
     return idx[order]
+
+
+def checked_pick(pool: Sequence[Solvent], res: dict, one_phase: np.ndarray,
+                 order_of: Callable[[], np.ndarray], n: int,
+                 max_uses: int | None = MAX_USES) -> list[int]:
+    """The ``n`` pairs to list, with the one-phase step decided by the full phase test.
+
+    The one-phase step is first the vectorised Flory–Huggins estimate over every pair
+    (:func:`pair_arrays`); each pair that would be listed is then tested over its whole
+    composition range by :func:`solsphere.design.pairs.miscibility_warning` (UNIFAC
+    where groups exist: the test behind the "may not mix" caution), ``one_phase`` is
+    updated in place, and ``order_of()`` (the caller's order over the updated arrays) is
+    taken again, until every listed pair has been tested. So a pair the caution flags
+    (one that may split as the blend dries) never ranks above pairs that mix.
+    """
+    names = [s.name for s in pool]
+    checked: set[int] = set()
+    pick: list[int] = []
+    for _ in range(MAX_CHECK_ROUNDS):
+        pick = diverse(order_of(), lambda k: (names[res["i"][k]], names[res["j"][k]]), n,
+                       max_uses)
+        todo = [k for k in pick if k not in checked]
+        if not todo:
+            break
+        for k in todo:
+            checked.add(k)
+            one_phase[k] = miscibility_warning(pool[res["i"][k]], pool[res["j"][k]]) is None
+    return pick
 
 
 def diverse(order: Sequence[int], members: Callable[[int], Sequence[str]], n: int,

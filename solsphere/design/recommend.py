@@ -15,7 +15,7 @@ from typing import Any, Sequence
 import numpy as np
 
 from solsphere import hansen as hsp
-from solsphere.design.ordering import (MAX_USES, ORDER_TEXT, diverse, order_pairs,
+from solsphere.design.ordering import (MAX_USES, ORDER_TEXT, checked_pick, order_pairs,
                                        pair_arrays, robustness_bin)
 from solsphere.design.pairs import BlendScreen, make_blend, pair_screen
 from solsphere.design.ranking import CAUTION
@@ -140,10 +140,10 @@ def rank_pair_blends(pool: Sequence[Solvent], centre, R0: float, top: int = 10,
     if p_good_of is not None and len(res["i"]):
         x = pts[res["i"]] * res["phi"][:, None] + pts[res["j"]] * (1 - res["phi"][:, None])
         p_good = np.asarray(p_good_of(x), dtype=float)
-    order = order_pairs(res, arrays, priority, p_good=p_good, only_blends=only_blends)
-    names = [s.name for s in pool]
-    pick = diverse(order, lambda k: (names[res["i"][k]], names[res["j"][k]]), top,
-                   MAX_USES if diverse_top else None)
+    pick = checked_pick(pool, res, arrays["one_phase"],
+                        lambda: order_pairs(res, arrays, priority, p_good=p_good,
+                                            only_blends=only_blends),
+                        top, MAX_USES if diverse_top else None)
     red_alone = hsp.ra(pts, c) / R0 if n else np.empty(0)
     blends, crit = [], []
     for k in pick:

@@ -38,7 +38,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from solsphere import hansen as hsp
-from solsphere.design.ordering import MAX_USES, diverse, pair_arrays, robustness_bin
+from solsphere.design.ordering import MAX_USES, checked_pick, pair_arrays, robustness_bin
 from solsphere.design.pairs import make_blend, pair_screen
 from solsphere.design.ranking import CAUTION
 from solsphere.formatting import format_table, plain
@@ -276,10 +276,10 @@ def _pairs(pool, pts, tp, n_pairs, material, mat, priority, diverse_pairs):
           -np.nan_to_num(arrays["evaporation"][idx], nan=-np.inf) if priority == "evaporation"
           else arrays["hazard"][idx])
     band = np.floor(ra_t[idx] / RA_STEP + 1e-9)
-    idx = idx[np.lexsort((ra_t[idx], pv, band, ~arrays["one_phase"][idx]))]
-    names = [s.name for s in pool]
-    pick = diverse(idx, lambda k: (names[out["i"][k]], names[out["j"][k]]), n_pairs,
-                   MAX_USES if diverse_pairs else None)
+    pick = checked_pick(pool, out, arrays["one_phase"],
+                        lambda: idx[np.lexsort((ra_t[idx], pv, band,
+                                                ~arrays["one_phase"][idx]))],
+                        n_pairs, MAX_USES if diverse_pairs else None)
     blends, crit = [], []
     for k in pick:
         a, b = pool[out["i"][k]], pool[out["j"][k]]

@@ -1,5 +1,6 @@
-"""Plotly figures: the 3D map of Hansen space and its three 2D projections, and the
-standalone share file.
+"""Plotly figures: the 3D map of Hansen space, the RED ladder (every tested solvent on a
+RED axis), one 2D plane at a time (and the older three projections), and the standalone
+share file.
 
 Look (our own, see DEVELOPERS.md, "Conventions"): ColorBrewer Dark2 colours; dissolves = teal filled
 circle, does not = burnt-orange x, partly = slate diamond, untried library solvents =
@@ -292,6 +293,186 @@ def projections(fit: dict, blends: list[dict] | None = None, height: int = 340):
                          scaleratio=0.5 if a == "dD" else 1.0)
     fig.update_layout(height=height, margin={"l": 40, "r": 10, "t": 40, "b": 40},
                       legend={"orientation": "h", "y": -0.25}, uirevision="proj")
+    return fig
+
+
+PLANE_CHOICES = {"dP-dH": ("dP", "dH"), "dD-dP": ("dD", "dP"), "dD-dH": ("dD", "dH")}
+
+
+def plane_label(axes) -> str:
+    """'δP–δH' for ``("dP", "dH")``.
+
+    >>> plane_label(("dD", "dH"))
+    'δD–δH'
+    """
+    a, b = axes
+    return f"{AXIS[a][:2]}–{AXIS[b][:2]}"
+
+
+def plane(fit, axes=("dP", "dH"), blends: list[dict] | None = None, height: int = 360):
+    """One 2D plane of Hansen space with the sphere's outline and the tested solvents.
+
+    Parameters
+    ----------
+    fit : dict or fit result
+        A fit result (or its ``to_dict()``) with dD, dP, dH, R0 and the per-trial ``table``.
+    axes : pair of {"dD", "dP", "dH"}, default=("dP", "dH")
+        The horizontal and vertical axes (also a key of :data:`PLANE_CHOICES`).
+    blends : list of dict or None
+        Blends drawn as segments (triangles) and open circles.
+    height : int, default=360
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Misfits carry a dark ring; on a δD axis the scale is doubled so the outline
+        (δD semi-axis R0/2) looks round.
+    """
+    go = _go()
+    if isinstance(axes, str):
+        axes = PLANE_CHOICES[axes]
+    a, b = axes
+    fit, _, blends = _as_dicts(fit, None, blends)
+    ia, ib = _IDX[a], _IDX[b]
+    c = np.array([fit["dD"], fit["dP"], fit["dH"]])
+    R0 = fit["R0"]
+    t = np.linspace(0, 2 * np.pi, 121)
+    semi = np.array([R0 / 2, R0, R0])
+    lo, hi = _ranges(fit, None)
+    fig = go.Figure()
+    fig.add_trace(go.Scatter(x=c[ia] + semi[ia] * np.cos(t), y=c[ib] + semi[ib] * np.sin(t),
+                             mode="lines", line={"color": SPHERE, "width": 1.5},
+                             fill="toself", fillcolor="rgba(102,102,102,0.10)",
+                             hoverinfo="skip", name="sphere"))
+    for outcome, rows in _trial_groups(fit):
+        st = STYLE[outcome]
+        fig.add_trace(go.Scatter(
+            x=[(r["dD"], r["dP"], r["dH"])[ia] for r in rows],
+            y=[(r["dD"], r["dP"], r["dH"])[ib] for r in rows], mode="markers",
+            name=st["label"], legendgroup=outcome,
+            marker={"color": st["color"], "symbol": st["symbol"], "size": 9,
+                    "line": {"width": [2 if r.get("agrees") is False else 0 for r in rows],
+                             "color": MISFIT_RING}},
+            hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r.get("red"), outcome,
+                              "misfit" if r.get("agrees") is False else None)
+                       for r in rows], hoverinfo="text"))
+    for bl in blends or []:
+        comps = bl.get("component_points") or []
+        if comps:
+            cyc = comps + [comps[0]] if len(comps) > 2 else comps
+            fig.add_trace(go.Scatter(x=[p[ia] for p in cyc], y=[p[ib] for p in cyc],
+                                     mode="lines", line={"color": BLEND, "width": 2},
+                                     hoverinfo="skip", showlegend=False, name="blend segments"))
+        p = (bl["dD"], bl["dP"], bl["dH"])
+        fig.add_trace(go.Scatter(x=[p[ia]], y=[p[ib]], mode="markers", showlegend=False,
+                                 name="blends", hoverinfo="text",
+                                 hovertext=[_hover(blend_label(bl["solvents"],
+                                                               bl["volume_fractions"]),
+                                                   p, bl.get("red"))],
+                                 marker={"symbol": "circle-open", "color": BLEND, "size": 11,
+                                         "line": {"width": 2}}))
+    # the ranges only grow (constrain="range") to keep the scale ratio: nothing is cut
+    fig.update_xaxes(title_text=AXIS[a], range=[lo[ia], hi[ia]], constrain="range",
+                     gridcolor="#eeeeee", zeroline=False)
+    fig.update_yaxes(title_text=AXIS[b], range=[lo[ib], hi[ib]], constrain="range",
+                     scaleanchor="x", scaleratio=0.5 if a == "dD" else 1.0,
+                     gridcolor="#eeeeee", zeroline=False)
+    fig.update_layout(height=height, margin={"l": 50, "r": 10, "t": 30, "b": 40},
+                      title={"text": plane_label((a, b)), "x": 0.5, "font": {"size": 14}},
+                      plot_bgcolor="white", legend={"orientation": "h", "y": -0.2},
+                      uirevision="plane")
+    return fig
+
+
+#: Horizontal place of each outcome's column on the RED ladder.
+LADDER_COLUMNS = {"good": 0, "partial": 1, "bad": 2}
+
+
+def _ladder_offsets(reds) -> list[float]:
+    """Small sideways offsets so points of nearly equal RED do not hide each other:
+    neighbours (in RED order) closer than 0.04 step out left and right in turn."""
+    order = sorted(range(len(reds)), key=lambda i: reds[i])
+    out = [0.0] * len(reds)
+    run = 0
+    for k, i in enumerate(order):
+        close = k > 0 and abs(reds[i] - reds[order[k - 1]]) < 0.04
+        run = run + 1 if close else 0
+        step = (run + 1) // 2 * 0.12
+        out[i] = step if run % 2 else -step
+    return out
+
+
+def red_ladder(fit, height: int = 560):
+    """The RED ladder: every tested solvent as a point on a RED axis, in one column per
+    outcome, with the boundary at RED 1 and misfits ringed.
+
+    How cleanly the results separate shows at a glance: dissolving solvents below the
+    line, the others above it; a ringed point sits on the wrong side.
+
+    Parameters
+    ----------
+    fit : dict or fit result
+        A fit result (or its ``to_dict()``) with the per-trial ``table`` (name, dD, dP,
+        dH, red, outcome, agrees).
+    height : int, default=560
+
+    Returns
+    -------
+    plotly.graph_objects.Figure
+        Hover gives each solvent's name, δD/δP/δH, RED and outcome.
+
+    Examples
+    --------
+    >>> fit = {"dD": 17, "dP": 6, "dH": 6, "R0": 5, "table": [
+    ...     {"name": "toluene", "dD": 18, "dP": 1.4, "dH": 2, "red": 0.85,
+    ...      "outcome": "good", "agrees": True},
+    ...     {"name": "water", "dD": 15.5, "dP": 16, "dH": 42.3, "red": 7.6,
+    ...      "outcome": "bad", "agrees": True}]}
+    >>> [t.name for t in red_ladder(fit).data]
+    ['RED 1 (boundary)', 'dissolves', 'does not']
+    """
+    go = _go()
+    fit, _, _ = _as_dicts(fit)
+    fig = go.Figure()
+    rows_all = [r for r in fit.get("table", []) if r.get("red") is not None]
+    top = max([1.5] + [float(r["red"]) * 1.06 for r in rows_all])
+    fig.add_trace(go.Scatter(x=[-0.5, 2.5], y=[1, 1], mode="lines", name="RED 1 (boundary)",
+                             line={"color": SPHERE, "width": 1.5, "dash": "dash"},
+                             hoverinfo="skip", showlegend=False))
+    ringed = []
+    for outcome, rows in _trial_groups(fit):
+        rows = [r for r in rows if r.get("red") is not None]
+        if not rows:
+            continue
+        st = STYLE[outcome]
+        reds = [float(r["red"]) for r in rows]
+        xs = [LADDER_COLUMNS[outcome] + d for d in _ladder_offsets(reds)]
+        fig.add_trace(go.Scatter(
+            x=xs, y=reds, mode="markers", name=st["label"], legendgroup=outcome,
+            showlegend=False, marker={"color": st["color"], "symbol": st["symbol"], "size": 10},
+            hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r["red"], outcome,
+                              "misfit" if r.get("agrees") is False else None) for r in rows],
+            hoverinfo="text"))
+        ringed += [(x, r) for x, r in zip(xs, rows) if r.get("agrees") is False]
+    if ringed:
+        fig.add_trace(go.Scatter(
+            x=[x for x, _ in ringed], y=[float(r["red"]) for _, r in ringed], mode="markers",
+            name="misfits", showlegend=False,
+            marker={"symbol": "circle-open", "color": MISFIT_RING, "size": 20,
+                    "line": {"width": 2}},
+            hovertext=[_hover(r["name"], (r["dD"], r["dP"], r["dH"]), r["red"],
+                              r.get("outcome"), "misfit") for _, r in ringed],
+            hoverinfo="text"))
+    fig.update_xaxes(range=[-0.5, 2.5], tickvals=list(LADDER_COLUMNS.values()),
+                     ticktext=[STYLE[k]["label"] for k in LADDER_COLUMNS], showgrid=False,
+                     zeroline=False, fixedrange=True)
+    fig.update_yaxes(title_text="RED (distance / R0)", range=[0, top], zeroline=False,
+                     gridcolor="#eeeeee")
+    fig.add_annotation(x=2.45, y=1, text="boundary", showarrow=False, yshift=9,
+                       xanchor="right", font={"size": 11, "color": SPHERE})
+    fig.update_layout(height=height, margin={"l": 55, "r": 8, "t": 30, "b": 40},
+                      title={"text": "RED ladder", "x": 0.5, "font": {"size": 14}},
+                      plot_bgcolor="white", uirevision="ladder")
     return fig
 
 

@@ -14,7 +14,8 @@ import pytest
 pytestmark = pytest.mark.browser
 
 MAP = "#map3d .js-plotly-plot"
-PLANES = "#planes .js-plotly-plot"
+PLANES = "#plane .js-plotly-plot"
+LADDER = "#ladder .js-plotly-plot"
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -81,6 +82,27 @@ def assert_clean_console(page):
     assert page.errors == [], page.errors
 
 
+def grid_cell(grid: str, col: str, row: int | None = None) -> str:
+    """Selector of the AG Grid cells of column ``col`` (of display row ``row``)."""
+    r = "" if row is None else f".ag-row[row-index='{row}'] "
+    return f"#{grid} {r}.ag-cell[col-id='{col}']"
+
+
+def wait_grid(page, grid: str, col: str):
+    page.wait_for_selector(grid_cell(grid, col, 0))
+
+
+def column_texts(page, grid: str, col: str) -> list[str]:
+    """The texts of a grid column in display order (AG Grid orders rows by position,
+    not by their place in the page)."""
+    return page.evaluate(
+        """([g, c]) => Array.from(document.querySelectorAll(`#${g} .ag-row`))
+            .filter(r => r.querySelector(`.ag-cell[col-id='${c}']`))
+            .sort((a, b) => (+a.getAttribute('row-index')) - (+b.getAttribute('row-index')))
+            .map(r => r.querySelector(`.ag-cell[col-id='${c}']`).innerText.trim())""",
+        [grid, col])
+
+
 # ----------------------------------------------------------------------------- tests
 
 def test_demo_loads_and_draws_the_3d_map(page, artefacts):
@@ -134,7 +156,7 @@ def test_edit_to_redraw_time_on_a_40_row_table(page, forty_rows_csv):
         new MutationObserver(() => { m.text = performance.now(); }).observe(
             document.getElementById('fit-summary'), {childList: true, subtree: true, characterData: true});
         document.querySelector('#map3d .js-plotly-plot').on('plotly_afterplot', () => { m.map = performance.now(); });
-        document.querySelector('#planes .js-plotly-plot').on('plotly_afterplot', () => { m.planes = performance.now(); });
+        document.querySelector('#plane .js-plotly-plot').on('plotly_afterplot', () => { m.planes = performance.now(); });
     }""")
 
     def measure(n=6):
@@ -239,9 +261,10 @@ def test_rows_pasted_from_a_spreadsheet_are_added_and_counted(page):
 def test_try_next_shortlist_puts_a_solvent_on_the_map(page, artefacts):
     load_demo(page)
     page.click("text=Try next")
-    page.wait_for_selector("#shortlist td[data-dash-column='name']")
+    wait_grid(page, "shortlist", "name")
     assert "Predictions are guides" in page.inner_text("#next-caution")
-    first = page.locator("#shortlist td[data-dash-column='name']").first
+    assert "working solvents" in page.inner_text("#next-message")
+    first = page.locator(grid_cell("shortlist", "name", 0))
     name = first.inner_text().strip()
     first.click()
     page.wait_for_function(f"() => document.querySelector('{MAP}').data"
@@ -255,7 +278,7 @@ def test_try_next_shortlist_puts_a_solvent_on_the_map(page, artefacts):
     page.press("#next-min-fp", "Enter")
     page.wait_for_function("(b) => document.querySelector('#next-message').innerText !== b",
                            arg=before)
-    fps = [t.strip() for t in page.locator("#shortlist td[data-dash-column='fp_text']").all_inner_texts()]
+    fps = column_texts(page, "shortlist", "fp_n")
     assert fps and all(float(x) >= 60 for x in fps)
     page.screenshot(path=str(artefacts / "4-try-next.png"), full_page=True)
     assert_clean_console(page)
@@ -264,11 +287,12 @@ def test_try_next_shortlist_puts_a_solvent_on_the_map(page, artefacts):
 def test_blend_designer_draws_the_segment(page, artefacts):
     load_demo(page)
     page.click("text=Blends")
-    page.wait_for_selector("#blend-table td[data-dash-column='label']")
+    wait_grid(page, "blend-table", "label")
     assert "Predictions are guides" in page.inner_text("#blend-caution")
-    assert "non-solvents alone" in page.inner_text("#blend-table")
+    assert page.locator("#blend-table .ag-header-cell[col-id='flags_text']").count() == 1
+    assert "least hazardous" in page.inner_text("#blend-message")  # the CLI's default order
     assert "blend segments" not in trace_names(page)
-    page.locator("#blend-table td[data-dash-column='label']").first.click()
+    page.locator(grid_cell("blend-table", "label", 0)).click()
     page.wait_for_function(f"() => document.querySelector('{MAP}').data"
                            ".some(t => t.name === 'blend segments' && t.x.length >= 2)")
     seg = page.evaluate(f"() => document.querySelector('{MAP}').data"
@@ -286,7 +310,7 @@ def test_blend_designer_draws_the_segment(page, artefacts):
         page.locator(".dash-dropdown-content").get_by_text(name, exact=True).click()
     page.keyboard.press("Escape")
     page.wait_for_selector("#blend-message:has-text('3 ticked solvents')")
-    labels = " ".join(page.locator("#blend-table td[data-dash-column='label']").all_inner_texts())
+    labels = " ".join(column_texts(page, "blend-table", "label"))
     assert labels and all(w in ("toluene", "ethanol", "acetone") or "%" in w or w == "+"
                           for w in labels.split())
     assert_clean_console(page)
@@ -367,18 +391,21 @@ def wait_trace(page, name: str, min_points: int = 1):
 def test_three_component_designer_draws_a_triangle(page, artefacts):
     load_demo(page)
     tab(page, "Blends")
-    page.wait_for_selector("#blend-table td[data-dash-column='label']")
+    wait_grid(page, "blend-table", "label")
     before = page.inner_text("#blend-message")
     page.locator("#blend-components label", has_text="3").click()
     page.wait_for_function("(b) => document.querySelector('#blend-message').innerText !== b"
                            " && document.querySelector('#blend-message').innerText.includes("
                            "'three-solvent')", arg=before)
     assert "nearest the sphere centre" in page.inner_text("#blend-notes")  # the cut is said
-    labels = page.locator("#blend-table td[data-dash-column='label']").all_inner_texts()
+    page.wait_for_function("() => { const c = document.querySelector(\"#blend-table "
+                           ".ag-row[row-index='0'] .ag-cell[col-id='label']\"); return c && "
+                           "(c.innerText.match(/%/g) || []).length === 3; }")
+    labels = column_texts(page, "blend-table", "label")
     assert labels and all(t.count("%") == 3 for t in labels)
-    assert "triangle" in page.inner_text("#blend-table")
+    assert any("triangle" in t for t in column_texts(page, "blend-table", "window_text"))
     assert page.locator("#share-limits").is_visible()  # share limits shown for triples
-    page.locator("#blend-table td[data-dash-column='label']").first.click()
+    page.locator(grid_cell("blend-table", "label", 0)).click()
     wait_trace(page, "blend segments", 9)  # three edges, each closed by a gap
     seg = trace(page, "blend segments")
     assert len(seg["x"]) == 9 and seg["x"][2] is None and seg["x"][8] is None
@@ -388,10 +415,10 @@ def test_three_component_designer_draws_a_triangle(page, artefacts):
     main = labels[0].split("% ", 1)[1].split(" + ")[0]
     page.fill("#blend-max-frac", f"{main}=10%")
     page.press("#blend-max-frac", "Enter")
-    page.wait_for_function("(l) => { const c = document.querySelector("
-                           "\"#blend-table td[data-dash-column='label']\");"
+    page.wait_for_function("(l) => { const c = document.querySelector(\"#blend-table "
+                           ".ag-row[row-index='0'] .ag-cell[col-id='label']\");"
                            " return c && c.innerText !== l; }", arg=labels[0])
-    for text in page.locator("#blend-table td[data-dash-column='label']").all_inner_texts():
+    for text in column_texts(page, "blend-table", "label"):
         for part in text.split(" + "):
             pct, name = part.split("% ", 1)
             assert name != main or float(pct) <= 10.5
@@ -403,20 +430,21 @@ def test_three_component_designer_draws_a_triangle(page, artefacts):
 def test_clicking_a_blend_draws_its_drying_path(page, artefacts):
     load_demo(page)
     tab(page, "Blends")
-    page.wait_for_selector("#blend-table td[data-dash-column='label']")
+    wait_grid(page, "blend-table", "label")
     before = page.inner_text("#blend-message")
     page.locator("#blend-rank label", has_text="drying").click()
     page.wait_for_function("(b) => document.querySelector('#blend-message').innerText !== b",
                            arg=before)
     assert "while drying" in page.inner_text("#blend-message")
-    drying = page.locator("#blend-table td[data-dash-column='drying_text']").all_inner_texts()
+    page.wait_for_timeout(300)
+    drying = column_texts(page, "blend-table", "drying_text")
     assert drying and all(("stays inside" in t or "leaves at" in t or t.strip() in
                            ("no data", "starts outside")) for t in drying)
     assert any("stays inside" in t or "leaves at" in t for t in drying)
     assert "Predictions are guides" in page.inner_text("#blend-caution")
     assert trace(page, "drying path") is None
     row = next(i for i, t in enumerate(drying) if "stays inside" in t or "leaves at" in t)
-    page.locator("#blend-table td[data-dash-column='label']").nth(row).click()
+    page.locator(grid_cell("blend-table", "label", row)).click()
     wait_trace(page, "drying path", 10)
     path = trace(page, "drying path")
     assert all(v is not None for v in path["x"])
@@ -431,14 +459,14 @@ def test_clicking_a_blend_draws_its_drying_path(page, artefacts):
     dl.value.save_as(example)
     assert example.read_text(encoding="utf-8").startswith("# EXAMPLE ONLY")
     # a restricted list leaves its solvents out of every blend
-    first = page.locator("#blend-table td[data-dash-column='label']").first.inner_text()
+    first = page.locator(grid_cell("blend-table", "label", 0)).inner_text()
     banned = first.split("% ", 1)[1].split(" + ")[0]
     upload(page, "#restricted-upload", "site-list.csv", f"solvent\n{banned}\n".encode())
     page.wait_for_selector("#restricted-name:has-text('site-list.csv')")
-    page.wait_for_function("(f) => { const c = document.querySelector("
-                           "\"#blend-table td[data-dash-column='label']\");"
+    page.wait_for_function("(f) => { const c = document.querySelector(\"#blend-table "
+                           ".ag-row[row-index='0'] .ag-cell[col-id='label']\");"
                            " return c && c.innerText !== f; }", arg=first)
-    labels = page.locator("#blend-table td[data-dash-column='label']").all_inner_texts()
+    labels = column_texts(page, "blend-table", "label")
     names = {part.split("% ", 1)[1] for t in labels for part in t.split(" + ")}
     assert names and banned not in names
     # cost needs shelf prices: the message says how to give them
@@ -458,14 +486,14 @@ def test_replace_a_solvent_lists_singles_and_pairs(page, artefacts):
     assert page.locator("#solvent-names option[value='MEK']").count() == 1
     page.fill("#replace-name", "toluene")
     page.press("#replace-name", "Enter")
-    page.wait_for_selector("#replace-singles td[data-dash-column='name']")
-    page.wait_for_selector("#replace-pairs td[data-dash-column='label']")
+    wait_grid(page, "replace-singles", "name")
+    wait_grid(page, "replace-pairs", "label")
     msg = page.inner_text("#replace-message")
-    assert "replace toluene" in msg and "for this material" in msg
-    sides = page.locator("#replace-singles td[data-dash-column='side_text']").all_inner_texts()
+    assert "Replacing toluene" in msg and "for this material" in msg
+    sides = column_texts(page, "replace-singles", "side_text")
     assert sides and set(s.strip() for s in sides) <= {"same", "other"}
     assert "Predictions are guides" in page.inner_text("#replace-caution")
-    first = page.locator("#replace-singles td[data-dash-column='name']").first
+    first = page.locator(grid_cell("replace-singles", "name", 0))
     name = first.inner_text().strip()
     first.click()
     page.wait_for_function(f"() => document.querySelector('{MAP}').data"
@@ -473,7 +501,7 @@ def test_replace_a_solvent_lists_singles_and_pairs(page, artefacts):
     text = " ".join(trace(page, "picked")["text"])
     assert name in text and "toluene (to replace)" in text
     assert name in page.inner_text("#replace-detail")
-    page.locator("#replace-pairs td[data-dash-column='label']").first.click()
+    page.locator(grid_cell("replace-pairs", "label", 0)).click()
     wait_trace(page, "blend segments", 2)
     page.wait_for_timeout(400)
     page.screenshot(path=str(artefacts / "10-replace.png"), full_page=True)
@@ -496,8 +524,9 @@ def test_intervals_cloud_and_p_good_then_stale_after_an_edit(page, artefacts):
     page.wait_for_timeout(400)
     page.locator(".sphere-panel").screenshot(path=str(artefacts / "11-intervals-cloud.png"))
     tab(page, "Try next")
-    page.wait_for_selector("#shortlist th:has-text('p_good')")
-    ps = page.locator("#shortlist td[data-dash-column='p_text']").all_inner_texts()
+    page.wait_for_selector("#shortlist .ag-header-cell[col-id='p_n']")
+    wait_grid(page, "shortlist", "p_n")
+    ps = column_texts(page, "shortlist", "p_n")
     assert ps and all(0.0 <= float(p) <= 1.0 for p in ps)
     assert "resampled spheres" in page.inner_text("#next-p-note")
     page.click("#boot-method label:has-text('graded')")  # the cloud can be switched off
@@ -527,7 +556,7 @@ def test_posterior_intervals_and_their_p_good(page, artefacts):
     assert page.inner_text("#r0-interval").startswith("95 % interval")
     wait_trace(page, "resampled centres", 200)
     tab(page, "Try next")
-    page.wait_for_selector("#shortlist th:has-text('p_good')")
+    page.wait_for_selector("#shortlist .ag-header-cell[col-id='p_n']")
     assert "sampled spheres (posterior" in page.inner_text("#next-p-note")
     page.screenshot(path=str(artefacts / "11b-posterior.png"), full_page=True)
     assert_clean_console(page)

@@ -70,7 +70,8 @@ def test_hostile_names_show_as_text_in_the_app_and_the_share_file(page, browser,
                          files=[{"name": EVIL_FILE, "mimeType": "text/csv", "buffer": CSV}])
     page.wait_for_selector("#centre-text:has-text('δD')")
     page.wait_for_selector("#map3d .js-plotly-plot .gl-container canvas")
-    page.wait_for_selector("#planes .js-plotly-plot .main-svg")
+    page.wait_for_selector("#plane .js-plotly-plot .main-svg")
+    page.wait_for_selector("#ladder .js-plotly-plot .main-svg")
 
     # the table shows the name and the note exactly as typed, as text
     cells = page.locator('#results-table td[data-dash-column="solvent"]').all_inner_texts()
@@ -80,10 +81,11 @@ def test_hostile_names_show_as_text_in_the_app_and_the_share_file(page, browser,
     assert EVIL_FILE in page.inner_text("#notice")  # the file name, as text
 
     # the hover label of the 2D projection shows the name as text
-    hover = page.evaluate(HOVER_PLANES % "#planes .js-plotly-plot", "&lt;script&gt;")
-    assert hover is not None, "the trial is missing from the projections"
-    assert EVIL_NAME not in hover["raw"]  # escaped in the data plotly gets
-    assert hover["shown"] is not None and EVIL_NAME in hover["shown"]  # shown as text
+    for graph in ("#plane", "#ladder"):  # the chosen plane and the RED ladder
+        hover = page.evaluate(HOVER_PLANES % f"{graph} .js-plotly-plot", "&lt;script&gt;")
+        assert hover is not None, f"the trial is missing from {graph}"
+        assert EVIL_NAME not in hover["raw"]  # escaped in the data plotly gets
+        assert hover["shown"] is not None and EVIL_NAME in hover["shown"]  # shown as text
     assert_nothing_injected(page)
 
     # the share file, downloaded and opened like a colleague would

@@ -1,0 +1,231 @@
+"""The screens of issue 15 in a real headless Chromium: the map screen (RED ladder with
+its hover, one chosen 2D plane), the recommendation grids (sorting, CSV download), the
+background jobs (progress bar, cancel), the pool selectors and 'allow worse', the banner
+that follows the table, and a new row scrolled into view.
+
+Screenshots go to tests/artefacts/ (gitignored).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import pytest
+
+pytestmark = pytest.mark.browser
+
+MAP = "#map3d .js-plotly-plot"
+LADDER = "#ladder .js-plotly-plot"
+PLANE = "#plane .js-plotly-plot"
+
+
+def load_demo(page):
+    page.click("#demo-button")
+    page.wait_for_selector("#centre-text:has-text('δD')")
+    page.wait_for_selector(f"{MAP} .gl-container canvas")
+    page.wait_for_selector(f"{LADDER} .scatterlayer .trace", state="attached")
+
+
+def tab(page, label: str):
+    page.locator("#tabs .tab", has_text=label).first.click()
+
+
+def column_texts(page, grid: str, col: str) -> list[str]:
+    return page.evaluate(
+        """([g, c]) => Array.from(document.querySelectorAll(`#${g} .ag-row`))
+            .filter(r => r.querySelector(`.ag-cell[col-id='${c}']`))
+            .sort((a, b) => (+a.getAttribute('row-index')) - (+b.getAttribute('row-index')))
+            .map(r => r.querySelector(`.ag-cell[col-id='${c}']`).innerText.trim())""",
+        [grid, col])
+
+
+def hover(page, graph: str, name: str):
+    """Hover the point whose hover text holds ``name``; the shown label's text."""
+    return page.evaluate("""([sel, name]) => {
+        const gd = document.querySelector(sel);
+        for (let k = 0; k < gd.data.length; k++) {
+            const ht = gd.data[k].hovertext || [];
+            for (let j = 0; j < ht.length; j++) {
+                if (String(ht[j]).startsWith('<b>' + name + '</b>')) {
+                    Plotly.Fx.hover(gd, [{curveNumber: k, pointNumber: j}], 'xy');
+                    const layer = gd.querySelector('.hoverlayer');
+                    return {trace: gd.data[k].name, shown: layer ? layer.textContent : null};
+                }
+            }
+        }
+        return null;
+    }""", [graph, name])
+
+
+def full_trace(page, graph: str, name: str):
+    return page.evaluate("""([sel, n]) => { const t = (document.querySelector(sel)._fullData
+        || []).find(t => t.name === n); return t ? {x: Array.from(t.x), y: Array.from(t.y)}
+        : null; }""", [graph, name])
+
+
+def assert_clean_console(page):
+    assert page.errors == [], page.errors
+
+
+def test_red_ladder_hover_misfit_ring_and_the_plane_chooser(page, artefacts):
+    load_demo(page)
+    # every tested solvent on the ladder at its RED, the boundary at 1
+    line = full_trace(page, LADDER, "RED 1 (boundary)")
+    assert line["y"] == [1, 1]
+    good = full_trace(page, LADDER, "dissolves")
+    bad = full_trace(page, LADDER, "does not")
+    assert len(good["y"]) + len(bad["y"]) + len(full_trace(page, LADDER, "partly")["y"]) == 35
+    assert max(good["x"]) < min(bad["x"])  # one column per outcome
+    shown = hover(page, LADDER, "toluene")
+    assert shown and "toluene" in shown["shown"] and "RED" in shown["shown"]
+    assert "δD" in shown["shown"] and "does not" in shown["shown"]
+    # a misfit gets its ring: ethanol marked as dissolving lies outside
+    row = next(i for i, t in enumerate(
+        page.locator('#results-table td[data-dash-column="solvent"]').all_inner_texts())
+        if t.strip() == "ethanol")
+    page.locator('#results-table td[data-dash-column="outcome"]').nth(row).click()
+    page.locator("#results-table .Select-option", has_text="dissolves").first.click()
+    page.wait_for_function(f"() => (document.querySelector('{LADDER}')._fullData || [])"
+                           ".some(t => t.name === 'misfits')")
+    ring = full_trace(page, LADDER, "misfits")
+    assert ring and len(ring["y"]) >= 1
+    assert "misfit" in hover(page, LADDER, "ethanol")["shown"]
+    page.wait_for_timeout(300)
+    page.locator(".map-row").screenshot(path=str(artefacts / "13-map-and-red-ladder.png"))
+    # one plane at a time, chosen by the user; the 3D map is not redrawn for it
+    assert page.evaluate(f"() => document.querySelector('{PLANE}').layout.title.text") == "δP–δH"
+    page.evaluate(f"""() => {{ window.__mapDraws = 0; document.querySelector('{MAP}')
+        .on('plotly_afterplot', () => {{ window.__mapDraws++; }}); }}""")
+    page.locator("#plane-choice label", has_text="δD–δH").click()
+    page.wait_for_function(f"() => document.querySelector('{PLANE}').layout.title.text"
+                           " === 'δD–δH'")
+    assert "δD" in page.evaluate(f"() => document.querySelector('{PLANE}')._fullLayout"
+                                 ".xaxis.title.text")
+    page.wait_for_timeout(500)
+    assert page.evaluate("() => window.__mapDraws") == 0
+    assert "toluene" in (hover(page, PLANE, "toluene") or {}).get("shown", "")
+    page.locator("#plane").screenshot(path=str(artefacts / "14-one-plane.png"))
+    assert_clean_console(page)
+
+
+def test_grid_sorts_and_downloads_what_it_shows(page, artefacts):
+    load_demo(page)
+    tab(page, "Try next")
+    page.wait_for_selector("#shortlist .ag-row[row-index='0'] .ag-cell[col-id='name']")
+    reds = [float(x) for x in column_texts(page, "shortlist", "red_n")]
+    assert reds == sorted(reds)  # as ranked: nearest first
+    # the hazard facts are columns, visible without a click
+    for col in ("fp_n", "twa_n", "flags_text"):
+        assert page.locator(f"#shortlist .ag-header-cell[col-id='{col}']").count() == 1
+    # sort by flash point, highest first (two clicks on the header)
+    header = page.locator("#shortlist .ag-header-cell[col-id='fp_n'] .ag-header-cell-label")
+    header.click()
+    header.click()
+    page.wait_for_timeout(300)
+    fps = [float(x) for x in column_texts(page, "shortlist", "fp_n") if x]
+    assert fps and fps == sorted(fps, reverse=True)
+    with page.expect_download() as dl:
+        page.click("#shortlist-csv")
+    path = artefacts / "try-next.csv"
+    dl.value.save_as(path)
+    rows = list(csv.DictReader(io.StringIO(path.read_text(encoding="utf-8-sig"))))
+    assert rows and {"solvent", "RED", "flash pt °C", "flags"} <= set(rows[0])
+    assert len(rows) == 30  # every row, not just the page shown
+    shown = [float(r["flash pt °C"]) for r in rows if r["flash pt °C"]]
+    assert shown == sorted(shown, reverse=True)  # as sorted on screen
+    page.screenshot(path=str(artefacts / "15-try-next-grid.png"), full_page=True)
+    assert_clean_console(page)
+
+
+def test_bootstrap_runs_in_the_background_with_progress_and_cancel(page):
+    load_demo(page)
+    page.fill("#boot-n", "2000")
+    page.click("#boot-button")
+    page.wait_for_selector("#boot-progress-box", state="visible")
+    page.wait_for_function("() => /\\d+ of 2000 resampled/.test("
+                           "document.querySelector('#boot-progress-text').innerText)",
+                           timeout=60_000)
+    # the page stays responsive: a screen that does not wait for the intervals answers
+    # meanwhile (Try next waits for them: its p_good column comes from them)
+    tab(page, "Blends")
+    page.wait_for_selector("#blend-table .ag-row[row-index='0'] .ag-cell[col-id='label']",
+                           timeout=60_000)
+    assert page.locator("#boot-button").is_disabled()
+    page.click("#boot-cancel")
+    page.wait_for_selector("#boot-progress-box", state="hidden")
+    page.wait_for_function("() => !document.querySelector('#boot-button').disabled")
+    page.wait_for_timeout(1500)
+    assert page.locator("#centre-interval").count() == 0  # cancelled: no intervals
+    # a smaller run finishes, with the bar shown while it runs
+    page.fill("#boot-n", "100")
+    page.click("#boot-button")
+    page.wait_for_selector("#centre-interval", timeout=90_000)
+    assert "100 resamples" in page.inner_text("#boot-about")
+    page.wait_for_selector("#boot-progress-box", state="hidden")
+    assert_clean_console(page)
+
+
+def test_pool_selectors_allow_worse_and_resolved_names(page, artefacts):
+    load_demo(page)
+    tab(page, "Try next")
+    page.wait_for_selector("#next-message:has-text('working solvents')")
+    page.locator("#next-pool label", has_text="all library liquids").click()
+    page.wait_for_selector("#next-message:has-text('library liquids')")
+    tab(page, "Replace a solvent")
+    page.fill("#replace-top", "40")
+    page.press("#replace-top", "Enter")
+    page.fill("#replace-name", "PM acetate")
+    page.press("#replace-name", "Enter")
+    page.wait_for_selector("#replace-message:has-text('PM acetate → 1-methoxy-2-propyl acetate')")
+    assert "working solvents" in page.inner_text("#replace-message")
+    page.fill("#replace-name", "NMP")
+    page.press("#replace-name", "Enter")
+    page.wait_for_selector("#replace-message:has-text('NMP → 1-methyl-2-pyrrolidinone')")
+    page.wait_for_selector("#replace-singles .ag-row[row-index='0']")
+    for col in ("vs_carc", "vs_repro", "vs_tox", "vs_flam"):
+        assert "worse" not in column_texts(page, "replace-singles", col)
+    page.locator("#replace-pool label", has_text="all library liquids").click()
+    page.wait_for_selector("#replace-message:has-text('all library liquids')")
+    page.locator("#replace-allow-worse label").click()
+    page.wait_for_selector("#replace-message:has-text('allow worse')")
+    page.wait_for_timeout(300)
+    with page.expect_download() as dl:  # every row of the grid, not just the page shown
+        page.click("#replace-singles-csv")
+    path = artefacts / "replacements-allow-worse.csv"
+    dl.value.save_as(path)
+    rows = list(csv.DictReader(io.StringIO(path.read_text(encoding="utf-8-sig"))))
+    assert len(rows) == 40
+    assert any("worse" in (r["carcinogen"], r["reprotoxic"], r["corrosive / toxic"],
+                           r["flammability"]) for r in rows)
+    page.screenshot(path=str(artefacts / "16-replace-allow-worse.png"), full_page=True)
+    tab(page, "Blends")
+    page.wait_for_selector("#blend-message:has-text('working solvents')")
+    page.locator("#blend-pool label", has_text="all library liquids").click()
+    page.wait_for_selector("#blend-message:has-text('library liquids')", timeout=60_000)
+    tab(page, "Next trials")
+    assert page.locator("#nt-pool input[value='working']").is_checked()
+    assert_clean_console(page)
+
+
+def test_banner_follows_the_table_and_a_new_row_is_shown(page, artefacts):
+    load_demo(page)
+    page.wait_for_selector("#table-status:has-text('35 trials counted')")
+    # warnings name the same file lines as `solsphere fit` (three comment lines first)
+    assert "cyclohexanone (line 10)" in page.inner_text("#fit-summary")
+    page.fill("#add-solvent", "PnB")
+    page.click("#add-button")
+    page.wait_for_selector("#table-status:has-text('36 trials counted')")
+    assert "PnB → 1-butoxy-2-propanol" in page.inner_text("#resolved-names")
+    # the new row is where the user sees it: inside the table's visible area
+    page.wait_for_function("""() => {
+        const cells = document.querySelectorAll('#results-table td[data-dash-column="solvent"]');
+        const last = cells[cells.length - 1];
+        if (!last || last.innerText.trim() !== 'PnB') { return false; }
+        const r = last.getBoundingClientRect();
+        const box = last.closest('.dt-table-container__row');  // the scrolled body
+        const b = box.getBoundingClientRect();
+        return r.top >= b.top && r.top + 10 <= b.bottom && r.top + 10 <= window.innerHeight;
+    }""")
+    page.screenshot(path=str(artefacts / "17-new-row-shown.png"))
+    assert_clean_console(page)
