@@ -8,7 +8,7 @@ STAMP  := $(VENV)/.installed
 DEMO   := data/demo/varnish_binder.csv
 OUT    := out
 
-.PHONY: run test test-fast bench data browser-deps clean
+.PHONY: run test test-fast test-lowest bench data browser-deps clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -41,6 +41,19 @@ test: $(STAMP) browser-deps
 test-fast: $(STAMP)
 	$(PY) -m pytest -m "not browser and not slow"
 
+# every dependency at the lowest version pyproject.toml allows (constraints/lowest.txt,
+# written by tools/lowest_versions.py), in its own .venv-lowest, then the fast tests:
+# a lower bound that is too low fails here (CI runs it after make test, see .ci/run)
+LOWEST := .venv-lowest
+test-lowest:
+	$(PYTHON) tools/lowest_versions.py --check
+	rm -rf $(LOWEST)
+	$(PYTHON) -m venv $(LOWEST)
+	$(LOWEST)/bin/python -m pip install -q --upgrade pip
+	$(LOWEST)/bin/python -m pip install -q -c constraints/lowest.txt -e '.[test,structure]'
+	$(LOWEST)/bin/python -m pip list --format=freeze > $(LOWEST)/versions.txt
+	$(LOWEST)/bin/python -m pytest -m "not browser and not slow" -p no:cacheprovider
+
 bench: $(STAMP)
 	@fail=0; for f in tests/perf/bench_*.py; do $(PY) $$f || fail=1; done; exit $$fail
 
@@ -50,4 +63,4 @@ data: $(STAMP)
 	$(PY) data/build_structure_model.py
 
 clean:
-	rm -rf $(VENV) $(OUT) build *.egg-info
+	rm -rf $(VENV) $(LOWEST) $(OUT) build *.egg-info

@@ -103,10 +103,12 @@ def _limits_of(args) -> dict:
     return {name: getattr(args, f"limit_{name}", None) for name in limits.OPTIONS}
 
 
-def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)",
+def _add_input(p, what="a bench results file (CSV/TSV, .xlsx, .ods; '-' reads standard "
+                        "input) or a project file (.json)",
                optional: bool = False):
     _add_limits(p)
     p.add_argument("file", metavar="FILE", help=what, nargs="?" if optional else None)
+    _add_reading(p)
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="count 'partly' results as good, bad, or leave them out "
                         "(default: good, or the project's setting)")
@@ -115,6 +117,48 @@ def _add_input(p, what="a bench results file (CSV/TSV) or a project file (.json)
                         "boundary with a fitted width")
     p.add_argument("--seed", type=_count, default=0, help="random seed (default 0)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
+
+
+SCALES = ("auto", "words", "hansen", "lab3", "hansen:G/P")
+
+
+def _scale(text: str) -> str:
+    """--scale: auto, words, hansen, lab3 or hansen:G/P (checked fully when reading)."""
+    t = text.strip().lower()
+    if t in SCALES[:4] or t.startswith("hansen:"):
+        return t
+    raise argparse.ArgumentTypeError(f"expected one of {', '.join(SCALES)}, found {text!r}")
+
+
+def _add_reading(p):
+    """How a results file is read: the workbook's sheet, the outcome scale, a material."""
+    p.add_argument("--sheet", metavar="NAME", default=None,
+                   help="the workbook sheet to read (default: the first)")
+    p.add_argument("--scale", type=_scale, default=None, metavar="SCALE",
+                   help="how numbered outcomes read: 'hansen' = Hansen's 1-6 scale, 1-2 "
+                        "dissolves, 3-4 partly, 5-6 does not (the default when scores "
+                        "4-6 appear); 'hansen:G/P' another cut (up to G dissolves, up to P "
+                        "partly); 'lab3' = 1 dissolves, 2 partly, 3 does not; 'words' = "
+                        "only 1 / 0")
+    p.add_argument("--material", metavar="NAME", default=None,
+                   help="with a 'material' column: the material to use "
+                        "('fit' without it fits them all)")
+
+
+def _add_table_output(p):
+    p.add_argument("-o", "--output", metavar="TABLE", default=None,
+                   help="also write the table to TABLE.csv, TABLE.xlsx or TABLE.json "
+                        "(atomic; never over an input file)")
+
+
+def _jobs(text: str) -> int:
+    return _at_most(256, "processes")(text)
+
+
+def _add_jobs(p):
+    p.add_argument("--jobs", type=_jobs, metavar="N", default=None,
+                   help="worker processes for the fits of many materials and the "
+                        "bootstrap (default: the machine's cores)")
 
 
 def _resamples(text: str) -> int:
@@ -190,9 +234,17 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=_version())
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
-    p = sub.add_parser("fit", help="fit the sphere to bench results", epilog=EPILOG)
-    _add_input(p)
-    p.add_argument("--save", metavar="PROJECT.json", help="save trials, settings and fit (atomic)")
+    p = sub.add_parser("fit", help="fit the sphere to bench results (one per material)",
+                       epilog=EPILOG)
+    _add_input(p, optional=True)  # none with --demo
+    p.add_argument("--demo", action="store_true",
+                   help="fit the packaged demo results (invented data; works wherever "
+                        "solsphere is installed)")
+    _add_table_output(p)
+    _add_jobs(p)
+    p.add_argument("--save", metavar="PROJECT.json",
+                   help="save trials, settings and fit (atomic); with several materials, "
+                        "a folder that gets one project per material")
     _add_bootstrap(p, "report 95 %% intervals of the centre and R0")
     p.add_argument("--posterior", type=_positive_int, metavar="N", default=None,
                    help="sample N plausible spheres (e.g. 2000) from the graded model's "
@@ -211,6 +263,8 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("rank", help="untried solvents sorted by RED", epilog=EPILOG)
     _add_input(p)
     _add_pool(p)
+    _add_table_output(p)
+    _add_jobs(p)
     p.add_argument("--include-tested", action="store_true", help="keep tested solvents in the list")
     _add_bootstrap(p, "give each solvent's probability of dissolving the material (p_good)")
     p.add_argument("--posterior", type=_positive_int, metavar="N", default=None,
@@ -222,6 +276,8 @@ def build_parser() -> argparse.ArgumentParser:
                        epilog=EPILOG)
     _add_input(p, optional=True)  # no file with --smiles
     _add_pool(p)  # a test campaign uses solvents on a shelf, not reagents
+    _add_table_output(p)
+    _add_jobs(p)
     p.add_argument("--n", type=_positive_int, default=None,
                    help="how many to suggest (default 5; 16 with --smiles)")
     p.add_argument("--smiles", metavar="SMILES", default=None,
@@ -245,6 +301,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("blend", help="two-solvent blends that land inside the sphere", epilog=EPILOG)
     _add_input(p)
     _add_pool(p)
+    _add_table_output(p)
     p.add_argument("--with-single", action="store_true",
                    help="also list pairs whose best mix is one solvent alone")
     p.add_argument("--drying", action="store_true",
@@ -272,6 +329,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="results or project file: rank by behaviour towards that material")
     p.add_argument("--partial", choices=("good", "bad", "skip"), default=None,
                    help="with --for-material: how to count 'partly' results")
+    _add_reading(p)  # --sheet, --scale, --material for the --for-material file
     p.add_argument("--pairs", type=_count, default=5, metavar="N", help="pairs to list (default 5)")
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--allow-worse", action="store_true",
@@ -279,6 +337,7 @@ def build_parser() -> argparse.ArgumentParser:
                         "carcinogen class, reprotoxic/regulatory listing or flammability, "
                         "or that are listed themselves")
     _add_pool(p)
+    _add_table_output(p)
     _add_limits(p)
 
     p = sub.add_parser("share", help="write a report page (one self-contained HTML file with "
@@ -384,6 +443,8 @@ def main(argv: list[str] | None = None) -> int:
         if isinstance(exc, FitError) and where and where not in text:
             text = f"{where}: {text}"  # name the file whose results cannot be fitted
         print(f"solsphere: error: {text}", file=sys.stderr)
+        for more in (getattr(exc, "problems", None) or [])[1:]:  # every problem of a file
+            print(f"solsphere: error: {more}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("solsphere: interrupted", file=sys.stderr)

@@ -8,14 +8,18 @@ from __future__ import annotations
 
 import json
 import sys
+from importlib.resources import files
 from pathlib import Path
 
 from solsphere.design.ranking import rank_solvents
 from solsphere.errors import InputError
 from solsphere.formatting import num, split_names
 from solsphere import limits
+from solsphere.batch import fit_materials, recheck_lines, save_materials
 from solsphere.io.files import atomic_write_text, check_output
-from solsphere.io.project import load_any, save
+from solsphere.io.project import Project, is_project_file, load_any, save
+from solsphere.io.tables import table_kind, write_table
+from solsphere.io.trials import pick_material, read_materials
 from solsphere.library.table import load_library
 from solsphere.mixtures.mixture import analyse_mixture
 from solsphere.models.twosphere import fit_two_spheres
@@ -28,10 +32,16 @@ from solsphere.workflows import (candidate_pool, design_blends, find_replacement
                                  resolved_names as shared_resolved_names)
 
 
+def reading(args) -> dict:
+    """The reading options of a results file (--sheet, --scale, --material)."""
+    return dict(sheet=getattr(args, "sheet", None), scale=getattr(args, "scale", None),
+                material=getattr(args, "material", None))
+
+
 def load_session(args, compare: bool = False):
     """Read FILE (results or project) and return (project, fit result, library)."""
     lib = load_library()
-    project = load_any(args.file, library=lib)
+    project = load_any(args.file, library=lib, **reading(args))
     fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
                       method=args.method, compare=compare)
     return project, fit, lib
@@ -48,7 +58,26 @@ def pool_options(args, *, limits: bool = True) -> dict:
                 restricted=args.restricted, pool=args.pool, temperature=args.temperature)
 
 
-def _emit(args, obj, text: str):
+def _table_out(args, result, title: str, inputs=()) -> str:
+    """Write ``result``'s table to -o (if given); the line that says so, or ''."""
+    out = getattr(args, "output", None)
+    if not out:
+        return ""
+    kind = write_table(result, out, inputs=[i for i in inputs if i], title=title)
+    return f"Table written to {out} ({kind.upper()})"
+
+
+def _check_table_target(args, inputs=()) -> None:
+    """Refuse a bad -o before the work (wrong ending, a device, an input file)."""
+    out = getattr(args, "output", None)
+    if out:
+        table_kind(out)
+        check_output(out, inputs=[i for i in inputs if i])
+
+
+def _emit(args, obj, text: str, note: str = ""):
+    if note and not args.json:
+        text += "\n" + note
     if args.json:
         print(json.dumps(obj, ensure_ascii=False, allow_nan=False))
     else:
@@ -79,6 +108,7 @@ def _binary_partial(fit) -> str:
 def _bootstrap(args, project, fit, n: int):
     return bootstrap(project.trials, n_bootstrap=n, seed=args.seed, method=args.method,
                      partial=fit.partial, bounds=fit.bounds,
+                     n_jobs=getattr(args, "jobs", None),
                      progress=_progress(args, "resampling"))
 
 
@@ -89,29 +119,83 @@ def _posterior(args, project, fit, n: int):
                             max_seconds=getattr(args, "posterior_seconds", MAX_SECONDS))
 
 
-def recheck_lines(rows: list[dict], n: int = 5) -> list[str]:
-    """The re-check list: results whose removal moves the sphere most (a result whose
-    removal leaves no sphere to fit says so instead of a number)."""
-    out = []
-    for r in rows[:n]:
-        if r.get("shift") is None:
-            out.append(f"    {r['name']}: {r.get('note') or 'no refit without it'}")
-        else:
-            out.append(f"    {r['name']}: centre moves {num(r['shift'])} MPa½, R0 "
-                       f"{num(r['dR0'], '{:+.1f}')}")
-    return out
-
-
 def resolved_names(project) -> list[str]:
     """"PM acetate → 1-methoxy-2-propyl acetate" for each library solvent typed otherwise
     than the library's name."""
     return shared_resolved_names(project.trials)  # the one rule, shared with the app
 
 
+def demo_path() -> str:
+    """The packaged demo results file (invented data), wherever solsphere is installed."""
+    entry = files("solsphere.data.demo").joinpath("varnish_binder.csv")
+    if not entry.is_file():
+        raise InputError("the packaged demo results are missing from this installation.",
+                         file="<command line>", column="--demo",
+                         hint="reinstall solsphere (pip install --force-reinstall solsphere)")
+    return str(entry)
+
+
 def cmd_fit(args) -> int:
+    if args.demo:
+        if args.file is not None:
+            raise InputError("--demo fits the packaged demo; a FILE was given too.",
+                             file="<command line>", column="--demo",
+                             hint="drop FILE or drop --demo")
+        args.file = demo_path()
+    if args.file is None:
+        raise InputError("fit needs a results or project file.", file="<command line>",
+                         hint="give FILE ('-' for standard input), or --demo")
+    _check_table_target(args, [args.file])
     if args.save:  # said before the fit, and a pipe or device is never opened
         check_output(args.save, inputs=[args.file])
+    if args.file == "-" or not is_project_file(args.file):
+        lib = load_library()
+        opts = reading(args)
+        material = opts.pop("material")
+        groups = read_materials(args.file, lib, **opts)
+        label = groups[0].source
+        if material is not None or len(groups) == 1:
+            if material is not None or groups[0].material is not None:
+                groups = [pick_material(groups, label, material)]
+            project = Project(trials=groups[0])
+            if groups[0].material is not None:
+                project.settings["material"] = groups[0].material
+            return _fit_single(args, project, lib)
+        return _fit_many(args, groups)
     project, fit, lib = load_session(args, compare=not args.no_compare)
+    return _fit_single(args, project, lib, fit)
+
+
+def _fit_many(args, groups) -> int:
+    """Several materials: one sphere each, on --jobs processes."""
+    if args.spheres == 2 or args.compare or args.posterior or args.method != "classic":
+        raise InputError("with several materials, fit makes the classic fit of each (with "
+                         "--bootstrap and the re-check list); --spheres 2, --compare, "
+                         "--posterior and --method graded work on one material.",
+                         file="<command line>", column="--material",
+                         hint="pick one material with --material NAME for those options")
+    res = fit_materials(groups, partial=args.partial, method=args.method, seed=args.seed,
+                        with_influence=not args.no_influence, n_bootstrap=args.bootstrap,
+                        jobs=args.jobs)
+    text = str(res)
+    note = _table_out(args, res, "fits", [args.file])
+    if args.save:
+        paths = save_materials(groups, res, args.save, method=args.method)
+        text += (f"\nSaved {len(paths)} projects (one per material) in {args.save}: "
+                 + ", ".join(p.name for p in paths))
+    _emit(args, res.to_dict(), text, note)
+    if res.failed:
+        print(f"solsphere: error: {args.file}: {len(res.failed)} of {len(res.fits)} materials "
+              f"could not be fitted ({', '.join(res.failed)}); see the report.",
+              file=sys.stderr)
+        return 2
+    return 0
+
+
+def _fit_single(args, project, lib, fit=None) -> int:
+    if fit is None:
+        fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
+                          method=args.method, compare=not args.no_compare)
     obj, text = fit.to_dict(), str(fit)
     if fit.model_comparison is not None and fit.model_comparison.rows:
         best = next(r for r in fit.model_comparison.rows if r["recommended"])
@@ -157,11 +241,15 @@ def cmd_fit(args) -> int:
         save(project, args.save)
         if not args.json:
             text += f"\nProject saved to {args.save}"
-    _emit(args, obj, text)
+    note = _table_out(args, fit, "trials", [args.file])
+    if project.settings.get("material"):
+        obj["material"] = project.settings["material"]
+    _emit(args, obj, text, note)
     return 0
 
 
 def cmd_rank(args) -> int:
+    _check_table_target(args, [args.file, args.candidates])
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(lib, **pool_options(args))
     tested = list(project.trials.names) + [t.cas for t in project.trials if t.cas]
@@ -171,7 +259,8 @@ def cmd_rank(args) -> int:
     ranking = rank_solvents(pool, (fit.dD, fit.dP, fit.dH), fit.R0, top=args.top, tested=tested,
                             include_tested=args.include_tested, filters=filters,
                             temperature_C=_temperature(args), bootstrap=boot)
-    _emit(args, ranking.to_dict(), str(ranking) + "\n" + _pool_line(filters))
+    note = _table_out(args, ranking, "ranking", [args.file, args.candidates])
+    _emit(args, ranking.to_dict(), str(ranking) + "\n" + _pool_line(filters), note)
     return 0
 
 
@@ -182,6 +271,7 @@ def cmd_next(args) -> int:
         raise InputError("next needs a results or project file, or --smiles for a first "
                          "plan from a structure.", file="<command line>",
                          hint="give FILE, or --smiles 'SMILES' when there are no results yet")
+    _check_table_target(args, [args.file, args.candidates])
     project, fit, lib = load_session(args)
     pool, filters = candidate_pool(lib, **pool_options(args))
     boot = _bootstrap(args, project, fit, args.bootstrap) if args.bootstrap else None
@@ -189,7 +279,8 @@ def cmd_next(args) -> int:
                         n_samples=args.samples, seed=args.seed,
                         partial=_binary_partial(fit), progress=_progress(args, "resampling"))
     obj = dict(sugg.to_dict(), filters=filters)
-    _emit(args, obj, str(sugg) + "\n" + _pool_line(filters))
+    note = _table_out(args, sugg, "next trials", [args.file, args.candidates])
+    _emit(args, obj, str(sugg) + "\n" + _pool_line(filters), note)
     return 0
 
 
@@ -267,13 +358,15 @@ def _temperature(args) -> float:
 def cmd_blend(args) -> int:
     if args.rank_by == "drying" and not args.drying:  # say so before the long screen
         raise InputError("ranking by drying needs the drying simulation.", setting="drying")
+    _check_table_target(args, [args.file, args.candidates])
     project, fit, lib = load_session(args)
     design = design_blends(fit, lib, components=args.components, top=args.top,
                            rank_by=args.rank_by, drying=args.drying,
                            max_fraction=args.max_fraction, min_fraction=args.min_fraction,
                            with_single=args.with_single,
                            diverse=not args.all_combinations, **pool_options(args))
-    _emit(args, design.to_dict(), str(design) + "\n" + _pool_line(design.screen.filters))
+    note = _table_out(args, design, "blends", [args.file, args.candidates])
+    _emit(args, design.to_dict(), str(design) + "\n" + _pool_line(design.screen.filters), note)
     return 0
 
 
@@ -297,17 +390,19 @@ def cmd_mixture(args) -> int:
 
 
 def cmd_replace(args) -> int:
+    _check_table_target(args, [args.for_material, args.candidates])
     lib = load_library()
     fit = None
     if args.for_material:
-        fit = fit_project(load_any(args.for_material, library=lib), partial=args.partial,
-                          library=lib)
+        fit = fit_project(load_any(args.for_material, library=lib, **reading(args)),
+                          partial=args.partial, library=lib)
     result = find_replacements(lib, args.name, fit=fit, top=args.top, n_pairs=args.pairs,
                                allow_worse=args.allow_worse, **pool_options(args))
     text = str(result) + "\n" + _pool_line(result.filters)
     if args.name.strip().casefold() != result.target.name.casefold():
         text = f"Replacing {lib.resolved(args.name)}\n" + text
-    _emit(args, dict(result.to_dict(), resolved=lib.resolved(args.name)), text)
+    note = _table_out(args, result, "replacements", [args.for_material, args.candidates])
+    _emit(args, dict(result.to_dict(), resolved=lib.resolved(args.name)), text, note)
     return 0
 
 

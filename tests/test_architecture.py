@@ -22,7 +22,7 @@ LAYERS = (
     ("solsphere.models",),
     ("solsphere.mixtures",),
     ("solsphere.uncertainty", "solsphere.design", "solsphere.estimate"),
-    ("solsphere.workflows",),
+    ("solsphere.workflows", "solsphere.batch"),
     ("solsphere.report",),
     ("solsphere.cli", "solsphere.commands", "solsphere.app", "solsphere.__init__",
      "solsphere.__main__"),

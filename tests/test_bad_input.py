@@ -77,7 +77,13 @@ def check_refused(rc: int, out: str, err: str, *, file: str | None, line=None, c
     assert rc == 2, f"expected exit code 2, got {rc}: {err or out}"
     assert "Traceback" not in err and "Traceback" not in out
     msg_lines = [ln for ln in err.splitlines() if ln.strip()]
-    assert len(msg_lines) == 1, f"expected one message line, got: {err!r}"
+    # one line per problem: the first, then the others of the same file (at most 20),
+    # each a complete message of its own
+    assert 1 <= len(msg_lines) <= 20, f"expected one line per problem, got: {err!r}"
+    assert all(ln.startswith("solsphere: error:") for ln in msg_lines), err
+    if len(msg_lines) > 1:
+        assert "more problem" in msg_lines[0], msg_lines[0]
+        assert all(file is None or file in ln for ln in msg_lines), err
     msg = msg_lines[0]
     assert msg.startswith("solsphere: error:"), msg
     if file is not None:
@@ -204,8 +210,9 @@ BENCH_REFUSED = [
     ("pdf", "r.csv", b"%PDF-1.7\n" + JUNK[:500], None, None, ["pdf"]),
     ("nul-bytes", "r.csv", b"solvent,outcome\ntoluene,good\nwa\x00ter,bad\n", 3, None,
      ["nul"]),
-    ("latin1-not-utf8", "r.csv", "solvent,outcome,note\ntoluene,good,trouble\nwater,bad,trübe\n"
-     .encode("latin-1"), 3, 13, ["not valid utf-8", "utf-8"]),
+    # 0x81 is neither UTF-8 nor defined in the Windows code page 1252 (the fallback)
+    ("not-utf8-nor-cp1252", "r.csv", b"solvent,outcome,note\ntoluene,good,trouble\n"
+     b"water,bad,tr\x81be\n", 3, 13, ["not valid utf-8", "utf-8"]),
     ("too-big", "r.csv", b"solvent,outcome\n" + b"toluene,good\n" * 400_000, None, None,
      ["limit"]),
     ("all-dissolve", "r.csv", lines("toluene,good", "acetone,good"), None, None,
@@ -514,7 +521,7 @@ CLI_REFUSED = [
     ("unknown-subcommand", ["fitt", "{bench}"], "<command line>", None, ["invalid choice"]),
     ("unknown-option", ["fit", "{bench}", "--frobnicate"], "<command line>", None,
      ["unrecognized arguments"]),
-    ("missing-file-argument", ["fit"], "<command line>", None, ["required"]),
+    ("missing-file-argument", ["fit"], "<command line>", None, ["needs a results"]),
     ("share-without-output", ["share", "{bench}"], "<command line>", None, ["-o"]),
     ("exclude-unknown-name", ["rank", "{bench}", "--exclude", "toluene,tolunee"],
      "<command line>", "--exclude", ["did you mean"]),
@@ -537,7 +544,7 @@ CLI_REFUSED = [
      ["--pairs"]),
     ("port-zero", ["app", "--port", "0"], "<command line>", None, ["--port"]),
     ("port-too-big", ["app", "--port", "70000"], "<command line>", None, ["--port", "65535"]),
-    ("dash-as-file", ["fit", "-"], "-", None, ["not found"]),
+    ("dash-as-file", ["fit", "-"], "<stdin>", None, ["standard input"]),
     ("seed-negative", ["fit", "{bench}", "--seed", "-1"], "<command line>", None,
      ["--seed", "≥ 0"]),
     ("seed-not-a-number", ["fit", "{bench}", "--seed", "abc"], "<command line>", None,
@@ -664,7 +671,7 @@ UPLOAD_REFUSED = [
     ("newer-project", None, "proj.json", None, None, ["newer solsphere"]),
     ("truncated-project", None, "proj.json", None, None, ["cut short"]),
     ("project-not-json", data_url(b"{not json"), "proj.json", 1, 2, ["not valid json"]),
-    ("latin1", data_url("solvent,outcome\nwater,trübe\n".encode("latin-1")), "alt.csv", 2, 9,
+    ("not-cp1252", data_url(b"solvent,outcome\nwater,tr\x81be\n"), "alt.csv", 2, 9,
      ["utf-8"]),
     ("traversal-name-bad-content", data_url(b"solvent,outcome\n"), "../../../etc/passwd", 2,
      None, ["no trial rows"]),

@@ -110,7 +110,9 @@ def test_best_radius_vectorised_matches_rows():
     good = rng.random(12) < 0.5
     R0, D = best_radius(r, good)
     for i in (0, 17, 49):
-        assert (R0[i], D[i]) == best_radius(r[i], good)
+        # equal to rounding: numpy's batched reductions may differ in the last bit
+        # (numpy 1.26, the lowest allowed version, does)
+        assert (R0[i], D[i]) == pytest.approx(best_radius(r[i], good), rel=1e-12, abs=1e-12)
 
 
 def test_fit_recovers_invented_sphere_from_clean_data():

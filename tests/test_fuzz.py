@@ -223,7 +223,9 @@ def clean_tables(draw):
     rows = []
     for nm in names:
         own = nm.startswith(("my", "lab")) or draw(st.integers(0, 4)) == 0
-        coords = [draw(st.floats(0, 45, allow_nan=False)) for _ in range(3)] if own else None
+        # δD from 12: a file whose every own δD is lower is refused as (cal/cm³)½ values
+        coords = ([draw(st.floats(12, 45, allow_nan=False))]
+                  + [draw(st.floats(0, 45, allow_nan=False)) for _ in range(2)]) if own else None
         rows.append((nm, draw(st.sampled_from(WORDS)), coords,
                      draw(st.sampled_from(["", "clear", "slow, 2 h", "trübe ½"]))))
     return rows, draw(st.sampled_from(SEPARATORS)), draw(st.sampled_from(NEWLINES)), \

@@ -154,6 +154,49 @@ def decode(data: bytes, file: str | None = None) -> str:
     return normalise_newlines(text)
 
 
+#: The code page tried when a file is not valid UTF-8 (Windows' Western European code
+#: page, what Excel's plain "CSV" writes on most European and American machines).
+FALLBACK_ENCODING = "cp1252"
+
+
+def decode_noted(data: bytes, file: str | None = None) -> tuple[str, str | None]:
+    """Like :func:`decode`, with a fallback to the Windows code page and a note saying so.
+
+    Bytes that are not valid UTF-8 (and carry no UTF-16/32 byte order mark) are decoded
+    as :data:`FALLBACK_ENCODING` when every byte is defined there; the note (None when
+    no fallback was needed) names the encoding used, for the reader's warnings.
+
+    Returns
+    -------
+    text : str
+    note : str or None
+
+    Raises
+    ------
+    InputError
+        As :func:`decode`, when the fallback does not apply either.
+
+    Examples
+    --------
+    >>> decode_noted("solvent,note\\nwater,25 °C\\n".encode("cp1252"))[1]
+    'not valid UTF-8; read as Windows code page 1252 (cp1252)'
+    >>> decode_noted(b"solvent,note\\n")
+    ('solvent,note\\n', None)
+    """
+    try:
+        return decode(data, file=file), None
+    except InputError as exc:
+        if not str(exc.message).startswith("byte 0x"):  # only the "not valid UTF-8" case
+            raise
+        try:
+            text = data.decode(FALLBACK_ENCODING)
+        except UnicodeDecodeError:
+            raise exc from None
+    text = decode(text.encode("utf-8"), file=file)  # the same binary checks and newlines
+    return text, (f"not valid UTF-8; read as Windows code page 1252 "
+                  f"({FALLBACK_ENCODING})")
+
+
 def _size(n: int) -> str:
     """Readable size: '5 MB', '12.3 kB', '7 bytes'."""
     if n >= 1_000_000:
@@ -183,6 +226,18 @@ def read_text(path, *, limit: int = MAX_BYTES) -> str:
     InputError
         Missing path, a folder, a pipe, device or socket (never read: it could wait
         forever), unreadable, larger than ``limit``, binary, or not decodable.
+    """
+    return decode(read_bytes(path, limit=limit), file=_label(path))
+
+
+def read_bytes(path, *, limit: int = MAX_BYTES) -> bytes:
+    """The bytes of a regular file, with the checks of :func:`read_text` (no decoding).
+
+    Raises
+    ------
+    InputError
+        Missing path, a folder, a pipe, device or socket, unreadable, larger than
+        ``limit``.
     """
     label = _label(path)
     p = Path(path)
@@ -222,7 +277,7 @@ def read_text(path, *, limit: int = MAX_BYTES) -> str:
     if len(data) > limit:
         raise InputError(f"more than {_size(limit)} of data (the size limit).",
                          file=label, hint="check that this is the right file")
-    return decode(data, file=label)
+    return data
 
 
 _KINDS = ((stat.S_ISFIFO, "a named pipe (FIFO)"), (stat.S_ISCHR, "a device"),
@@ -291,6 +346,27 @@ def _write_bytes(fh, data: bytes) -> None:
 def atomic_write_text(path, text: str, *, encoding: str = "utf-8") -> Path:
     """Write ``text`` to ``path`` so that a crash never leaves a half-written file.
 
+    The encoded text goes through :func:`atomic_write_bytes` (see there).
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        Target file.
+    text : str
+        Content; written as is (no newline translation).
+    encoding : str, default="utf-8"
+
+    Returns
+    -------
+    path : pathlib.Path
+        The file written.
+    """
+    return atomic_write_bytes(path, text.encode(encoding))
+
+
+def atomic_write_bytes(path, data: bytes) -> Path:
+    """Write ``data`` to ``path`` so that a crash never leaves a half-written file.
+
     The text goes to a temporary file in the target's folder, is flushed and
     ``fsync``-ed, and then renamed over the target with :func:`os.replace` (atomic on
     POSIX and Windows). If anything fails, the temporary file is removed and the old
@@ -301,9 +377,8 @@ def atomic_write_text(path, text: str, *, encoding: str = "utf-8") -> Path:
     ----------
     path : str or os.PathLike
         Target file.
-    text : str
-        Content; written as is (no newline translation).
-    encoding : str, default="utf-8"
+    data : bytes
+        Content.
 
     Returns
     -------
@@ -326,7 +401,6 @@ def atomic_write_text(path, text: str, *, encoding: str = "utf-8") -> Path:
     if not folder.is_dir():
         raise InputError(f"the folder {str(folder)!r} does not exist.", file=label,
                          hint="create the folder first or choose another place")
-    data = text.encode(encoding)
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=folder)
     except OSError as exc:

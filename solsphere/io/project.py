@@ -336,16 +336,22 @@ def is_project_file(path) -> bool:
     return text.lstrip().startswith("{")
 
 
-def load_any(path, library=None) -> Project:
+def load_any(path, library=None, *, sheet: str | None = None, scale=None,
+             material: str | None = None) -> Project:
     """A :class:`Project` from a project file or a bench results file.
 
-    A results file (CSV/TSV) becomes a project with no settings and no fit
-    (``path`` None, so saving it needs a new name).
+    A results file (CSV/TSV, a workbook, or ``"-"`` for standard input) becomes a
+    project with no settings and no fit (``path`` None, so saving it needs a new name);
+    ``sheet``, ``scale`` and ``material`` say how to read it
+    (:func:`solsphere.io.trials.read_trials`; a project file has them settled already).
 
     Raises
     ------
     InputError
     """
-    if is_project_file(path):
+    if str(path) != "-" and is_project_file(path):
         return load(path, library=library)
-    return Project(trials=bench.read(path, library=library))
+    trials = bench.read_trials(path, library=library, sheet=sheet, scale=scale,
+                               material=material)
+    settings = {"material": trials.material} if trials.material is not None else {}
+    return Project(trials=trials, settings=settings)

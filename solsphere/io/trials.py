@@ -46,6 +46,7 @@ import difflib
 import io
 import math
 import re
+import sys
 import weakref
 from dataclasses import dataclass, field
 from typing import Any, Iterable, Iterator, Protocol
@@ -54,14 +55,17 @@ import numpy as np
 
 from solsphere import hansen as hsp
 from solsphere.errors import InputError, UnknownSolventError
-from solsphere.io.files import MAX_FIELD, read_text as _read_file_text
+from solsphere.io.files import MAX_BYTES, MAX_FIELD, decode_noted, read_bytes
+from solsphere.io.scales import Scale, detect_scale, parse_scale
+from solsphere.io.workbooks import is_workbook, read_sheet
 from solsphere.library.table import load_library
 from solsphere.limits import check as check_limit, clip, current as current_limits
 
 __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "validate_rows",
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
            "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates",
-           "parse_blend_spec"]
+           "parse_blend_spec", "read_materials", "pick_material", "read_bytes_table", "CAL_TO_MPA",
+           "MAX_PROBLEMS"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
@@ -77,9 +81,9 @@ MAX_COORDINATE = 60.0
 #: Accepted outcome words (compared after lower-casing and collapsing spaces).
 OUTCOME_WORDS = {
     "good": ("good", "1", "yes", "y", "true", "soluble", "dissolves", "dissolved",
-             "dissolve", "+"),
+             "dissolve", "+", "✓", "✔", "☑", "✅"),
     "bad": ("bad", "0", "no", "n", "false", "insoluble", "does not", "does not dissolve",
-            "doesn't", "doesn't dissolve", "not soluble", "-"),
+            "doesn't", "doesn't dissolve", "not soluble", "-", "✗", "✘", "☒", "❌"),
     "partial": ("partial", "partly", "partially", "swells", "swollen", "0.5"),
 }
 _WORD_TO_OUTCOME = {w: k for k, words in OUTCOME_WORDS.items() for w in words}
@@ -87,13 +91,32 @@ COORDINATES = ("dD", "dP", "dH")
 _OVERRIDE = "+own override"
 _HEADER_ALIASES = {
     "solvent": "solvent", "solvents": "solvent",
+    "solventname": "solvent", "liquid": "solvent",
     "outcome": "outcome", "outcomes": "outcome",
+    # what labs write over the outcome column
+    "result": "outcome", "results": "outcome", "observation": "outcome",
+    "observations": "outcome", "solubility": "outcome", "dissolved": "outcome",
+    "dissolves": "outcome", "soluble": "outcome", "score": "outcome",
+    # dD, δD, delta D, d_D, delta_d ("δ" and "delta" are read as "d" first)
     "dd": "dD", "dp": "dP", "dh": "dH",
+    "hspd": "dD", "hspp": "dP", "hsph": "dH",
     "note": "note", "notes": "note", "comment": "note", "comments": "note",
+    "remark": "note", "remarks": "note",
+    "material": "material", "materials": "material",
 }
 _HEADER_EXAMPLE = "solvent,outcome,dD,dP,dH,note"
-# 1 (cal/cm³)½ = 2.0455 MPa½ (Hansen handbook, 2007, ch. 1; from memory).
-_CAL_TO_MPA = 2.0455
+#: MPa½ per (cal/cm³)½: 1 cal = 4.184 J (the thermochemical calorie, NIST Special
+#: Publication 811, 2008, appendix B.8) and 1 J/cm³ = 1 MPa, so (cal/cm³)½ =
+#: √4.184 MPa½ = 2.0455 MPa½; the same factor in Hansen, *Hansen Solubility Parameters:
+#: A User's Handbook*, 2nd ed., CRC Press 2007, ch. 1 (from memory).
+CAL_TO_MPA = 2.0455
+_CAL_TO_MPA = CAL_TO_MPA
+#: δD below this [MPa½] for every own solvent of a file reads as (cal/cm³)½ values: no
+#: common liquid is that low (the lowest in the packaged library, fluorocarbons and
+#: siloxanes, are 10.6–12.0).
+IMPLAUSIBLE_DD = 12.0
+#: Problems of one file reported at once.
+MAX_PROBLEMS = 20
 
 
 class LibraryLike(Protocol):
@@ -200,6 +223,7 @@ class Trials:
     trials: list = field(default_factory=list)
     source: str = "<table>"
     warnings: list = field(default_factory=list)
+    material: str | None = None
 
     def __len__(self) -> int:
         return len(self.trials)
@@ -364,8 +388,14 @@ class Trials:
 # ---------------------------------------------------------------------- public readers
 
 
-def read(path, library: LibraryLike | None = None) -> Trials:
-    """Read a bench results file (CSV, TSV or semicolon-separated).
+def read(path, library: LibraryLike | None = None, *, sheet: str | None = None,
+         scale: str | Scale | None = None, material: str | None = None) -> Trials:
+    """Read a bench results file: CSV, TSV or semicolon-separated text, or a workbook.
+
+    Text may be UTF-8 (with or without BOM), UTF-16 with a BOM, or, failing UTF-8, the
+    Windows code page 1252 (a warning says so). ``.xlsx`` and ``.ods`` workbooks are
+    read from their first sheet or the one named (:mod:`solsphere.io.workbooks`).
+    ``"-"`` reads standard input (text or a workbook).
 
     Parameters
     ----------
@@ -373,6 +403,14 @@ def read(path, library: LibraryLike | None = None) -> Trials:
         The file; error messages name it as given.
     library : Library or None, default=None
         Resolves solvent names. None means :func:`solsphere.library.load_library`.
+    sheet : str or None, default=None
+        A workbook's sheet (None: the first).
+    scale : str, Scale or None, default=None
+        How numbered outcomes read (:mod:`solsphere.io.scales`); None decides from
+        the file.
+    material : str or None, default=None
+        With a ``material`` column: the material to read (needed when there are
+        several; see :func:`read_materials` for all of them).
 
     Returns
     -------
@@ -381,56 +419,215 @@ def read(path, library: LibraryLike | None = None) -> Trials:
     Raises
     ------
     InputError
-        The first problem in the file (see the module's error convention).
+        The first problem in the file (see the module's error convention); its
+        ``problems`` attribute lists up to :data:`MAX_PROBLEMS` of them in line order.
     """
     label = str(path)
-    return read_text(_read_file_text(path), source=label, library=library)
+    if label == "-":
+        return read_bytes_table(_stdin_bytes(), "<stdin>", library, name="-", sheet=sheet,
+                                scale=scale, material=material)
+    return read_bytes_table(read_bytes(path), label, library, sheet=sheet, scale=scale,
+                            material=material)
 
 
-def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None) -> Trials:
-    """Read bench results from the text of a results file.
+def _stdin_bytes(limit: int = MAX_BYTES) -> bytes:
+    """Standard input, bounded by ``limit``; a terminal is refused (it would wait)."""
+    hint = "pipe a file in (solsphere fit - < results.csv) or give its name instead of '-'"
+    stream = sys.stdin
+    try:
+        if stream is None or stream.isatty():
+            raise InputError("'-' reads the results from standard input, but nothing is "
+                             "piped in.", file="<stdin>", hint=hint)
+        data = getattr(stream, "buffer", stream).read(limit + 1)
+    except (OSError, ValueError) as exc:  # closed, or captured (a test runner)
+        raise InputError(f"cannot read standard input ({clip(str(exc), 80, quote=False)}).",
+                         file="<stdin>", hint=hint) from None
+    if isinstance(data, str):
+        data = data.encode("utf-8")
+    if len(data) > limit:
+        raise InputError(f"more than {limit:,} bytes on standard input (the size limit).",
+                         file="<stdin>", hint="give the file's name instead")
+    return data
 
-    ``text`` is the whole file (any line endings; a leading BOM is ignored); ``source``
-    names it in messages; ``library`` and the result are as for :func:`read`, and so is
-    the error raised for the first problem.
+
+def read_bytes_table(data: bytes, source: str, library: LibraryLike | None = None, *,
+                     name: str | None = None, sheet: str | None = None,
+                     scale: str | Scale | None = None,
+                     material: str | None = None) -> Trials:
+    """Bench results from the bytes of a file (text or workbook); see :func:`read`.
+
+    ``source`` names it in messages; ``name`` (default ``source``) is the file name
+    whose ending says whether it is a workbook.
     """
+    groups = _read_groups(data, source, library, name=name, sheet=sheet, scale=scale)
+    return pick_material(groups, source, material)
+
+
+def read_materials(source, library: LibraryLike | None = None, *, sheet: str | None = None,
+                   scale: str | Scale | None = None) -> list[Trials]:
+    """Every material of a results file with a ``material`` column, in order of first row.
+
+    A file without the column gives one :class:`Trials` whose ``material`` is None.
+    Duplicates and conflicting outcomes are checked within each material. Parameters
+    as :func:`read`; ``source`` may also be a DataFrame or a list of dicts.
+
+    Examples
+    --------
+    >>> ms = read_materials([{"material": "resin A", "solvent": "toluene", "outcome": "good"},
+    ...                      {"material": "resin B", "solvent": "toluene", "outcome": "bad"}])
+    >>> [(m.material, m.outcomes) for m in ms]
+    [('resin A', ['good']), ('resin B', ['bad'])]
+    """
+    text = _table_text(source)
+    if text is not None:
+        return _text_groups(text[1], text[0], library, scale=scale)
+    label = str(source)
+    if label == "-":
+        return _read_groups(_stdin_bytes(), "<stdin>", library, name="-", sheet=sheet,
+                            scale=scale)
+    return _read_groups(read_bytes(source), label, library, sheet=sheet, scale=scale)
+
+
+def pick_material(groups: list, source: str, material: str | None) -> Trials:
+    """The one material of ``groups`` (from :func:`read_materials`) asked for, or the
+    only one; InputError (``setting="material"``) naming the materials otherwise."""
+    names = [g.material for g in groups if g.material is not None]
+    shown = ", ".join(repr(n) for n in names[:8]) + (" …" if len(names) > 8 else "")
+    if material is not None:
+        if not names:
+            raise InputError(f"a material ({clip(material)}) was asked for, but the file has "
+                             f"no 'material' column.", file=source, setting="material",
+                             hint="leave out the material, or add a material column")
+        want = " ".join(str(material).split()).casefold()
+        for g in groups:
+            if g.material is not None and g.material.casefold() == want:
+                return g
+        raise InputError(f"no material {clip(material)} in the file; it has {shown}.",
+                         file=source, setting="material",
+                         hint="give one of these names (quoted in the shell)")
+    if len(groups) > 1:
+        raise InputError(f"the file holds {len(groups)} materials ({shown}); this needs one.",
+                         file=source, setting="material",
+                         hint="choose one with the material setting (--material NAME); "
+                              "'solsphere fit' fits them all")
+    return groups[0]
+
+
+def _read_groups(data: bytes, source: str, library, *, name: str | None = None,
+                 sheet: str | None = None, scale=None) -> list[Trials]:
+    if is_workbook(name if name is not None else source, data[:4]):
+        table = read_sheet(data, source, sheet)
+        label = table.label
+        header_line, header = table.rows[0]
+        warnings: list[str] = []
+        factors: dict[str, float] = {}
+        columns = _read_header(["" if v is None else _text(v) for v in header], label,
+                               header_line, warnings, factors)
+        records = [(line, {key: cells[i] for i, key in enumerate(columns)
+                           if key and i < len(cells)})
+                   for line, cells in table.rows[1:]]
+        return _build(records, True, warnings, header_line, label, library, scale, factors)
+    if sheet is not None:
+        raise InputError(f"a sheet ({clip(sheet)}) was asked for, but this is a text table, "
+                         f"not a workbook.", file=source, setting="sheet",
+                         hint="leave out the sheet, or give the .xlsx / .ods file")
+    text, note = decode_noted(data, file=source)
+    return _text_groups(text, source, library, scale=scale,
+                        notes=[f"{source}: {note}"] if note else [])
+
+
+def _text_groups(text: str, source: str, library, *, scale=None, notes=()) -> list[Trials]:
     text = text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")
-    records, decimal_comma, header_warnings, header_line = _parse_table(text, source)
+    factors: dict[str, float] = {}
+    records, decimal_comma, header_warnings, header_line = _parse_table(text, source, factors)
+    return _build(records, decimal_comma, list(notes) + header_warnings, header_line, source,
+                  library, scale, factors)
+
+
+def _build(records: list, decimal_comma: bool, header_warnings: list, header_line: int,
+           source: str, library, scale, factors: dict) -> list[Trials]:
+    """Records of one table → one Trials per material, or the problems found."""
     if not records:
         raise InputError("the header is there but no trial rows follow it.", file=source,
                          line=header_line + 1,
                          hint="add one row per solvent tested, e.g. 'toluene,good'")
     check_limit("rows", len(records), "the results", file=source)
-    ctx = ReadContext(file=source, library=_get_library(library), decimal_comma=decimal_comma,
-                   unit="line", warnings=list(header_warnings))
-    trials, errors = _collect(records, ctx)
+    lib = _get_library(library)
+    sc = parse_scale(scale) if isinstance(scale, str) else scale
+    notes = list(header_warnings)
+    if sc is None:
+        good = [(ln, c) for ln, c in records if isinstance(c, dict)]
+        sc, note = detect_scale([c.get("outcome") for _, c in good], [ln for ln, _ in good],
+                                source)
+        if note:
+            notes.append(f"{source}: {note}")
+    errors: list[InputError] = []
+    groups: dict[str, tuple[str, list]] = {}
+    has_material = any(isinstance(c, dict) and "material" in c for _, c in records)
+    for line, cells in records:
+        if isinstance(cells, InputError) or not has_material:
+            groups.setdefault("", ("", []))[1].append((line, cells))
+            continue
+        if all(_empty(v) for v in cells.values()):
+            continue
+        m = " ".join(_text(cells.get("material")).split())
+        if not m:
+            errors.append(InputError("the material cell is empty.", file=source, line=line,
+                                     column="material",
+                                     hint="write the material this row was tested on"))
+            continue
+        groups.setdefault(m.casefold(), (m, []))[1].append((line, cells))
+    out = []
+    for m, recs in groups.values():
+        ctx = ReadContext(file=source, library=lib, decimal_comma=decimal_comma, unit="line",
+                          warnings=list(notes), factors=factors, scale=sc)
+        trials, errs = _collect(recs, ctx)
+        errors.extend(errs)
+        out.append(Trials(trials=trials, source=source, warnings=ctx.warnings,
+                          material=m if has_material else None))
+    if not errors:
+        errors.extend(_unit_problems(out, source, factors))
     if errors:
+        errors.sort(key=lambda e: (e.line or 0))
         raise _first(errors)
-    return Trials(trials=trials, source=source, warnings=ctx.warnings)
+    if has_material and not out:
+        raise InputError("no trial rows (every row is blank).", file=source,
+                         line=header_line + 1, hint="add one row per solvent tested")
+    return out
 
 
-def read_trials(source, library: LibraryLike | None = None) -> Trials:
-    """Bench results from a file path or a table (a pandas DataFrame or a list of dicts).
+def _unit_problems(groups: list, source: str, factors: dict) -> list[InputError]:
+    """δD values no liquid has in MPa½ (every own δD below :data:`IMPLAUSIBLE_DD`)."""
+    if factors.get("dD", 1.0) != 1.0:
+        return []
+    own = [t for g in groups for t in g if t.own_coordinates]
+    if len(own) < 2 or any(t.dD >= IMPLAUSIBLE_DD for t in own):
+        return []
+    top = max(t.dD for t in own)
+    return [InputError(f"every δD given ({len(own)} values, the largest {top:g}) is below "
+                       f"{IMPLAUSIBLE_DD:g} MPa½, lower than any common liquid: these look "
+                       f"like values in (cal/cm³)½.", file=source, line=own[0].line,
+                       column="dD",
+                       hint=f"if they are in (cal/cm³)½, write the unit in the headers "
+                            f"(e.g. 'dD (cal/cm3)^0.5') and they are converted (× "
+                            f"{CAL_TO_MPA}); otherwise check the values and the column")]
 
-    A table is read exactly like a file with the same columns (``solvent``, ``outcome``,
-    optional ``dD``, ``dP``, ``dH``, ``note``; the header words a file may use), so its
-    problems get the same messages, with the row's line as in the CSV it stands for
-    (the header is line 1).
 
-    Parameters
-    ----------
-    source : str, os.PathLike, pandas.DataFrame or list of dict
-    library : Library or None, default=None
+def read_text(text: str, source: str = "<text>", library: LibraryLike | None = None, *,
+              scale: str | Scale | None = None, material: str | None = None) -> Trials:
+    """Read bench results from the text of a results file.
 
-    Examples
-    --------
-    >>> t = read_trials([{"solvent": "toluene", "outcome": "dissolves"},
-    ...                  {"solvent": "water", "outcome": "does not"}])
-    >>> t.names, t.outcomes
-    (['toluene', 'water'], ['good', 'bad'])
+    ``text`` is the whole file (any line endings; a leading BOM is ignored); ``source``
+    names it in messages; ``library``, ``scale``, ``material`` and the result are as for
+    :func:`read`, and so is the error raised for the first problem.
     """
+    return pick_material(_text_groups(text, source, library, scale=scale), source, material)
+
+
+def _table_text(source) -> tuple[str, str] | None:
+    """(label, CSV text) of a DataFrame or a list of dicts; None for a path."""
     if hasattr(source, "to_csv") and hasattr(source, "columns"):  # a DataFrame
-        return read_text(source.to_csv(index=False), source="<DataFrame>", library=library)
+        return "<DataFrame>", source.to_csv(index=False)
     if isinstance(source, (list, tuple)):
         cols = list(dict.fromkeys(k for row in source for k in row))
         buf = io.StringIO()
@@ -438,8 +635,41 @@ def read_trials(source, library: LibraryLike | None = None) -> Trials:
         w.writeheader()
         w.writerows({k: ("" if row.get(k) is None else row.get(k)) for k in cols}
                     for row in source)
-        return read_text(buf.getvalue(), source="<rows>", library=library)
-    return read(source, library=library)
+        return "<rows>", buf.getvalue()
+    return None
+
+
+def read_trials(source, library: LibraryLike | None = None, *, sheet: str | None = None,
+                scale: str | Scale | None = None, material: str | None = None) -> Trials:
+    """Bench results from a file path or a table (a pandas DataFrame or a list of dicts).
+
+    A table is read exactly like a file with the same columns (``solvent``, ``outcome``,
+    optional ``dD``, ``dP``, ``dH``, ``note``, ``material``; the header words a file may
+    use), so its problems get the same messages, with the row's line as in the CSV it
+    stands for (the header is line 1). A path may be a text table, a workbook or ``"-"``
+    (standard input); see :func:`read` for ``sheet``, ``scale`` and ``material``.
+
+    Parameters
+    ----------
+    source : str, os.PathLike, pandas.DataFrame or list of dict
+    library : Library or None, default=None
+    sheet, scale, material : optional
+
+    Examples
+    --------
+    >>> t = read_trials([{"solvent": "toluene", "outcome": "dissolves"},
+    ...                  {"solvent": "water", "outcome": "does not"}])
+    >>> t.names, t.outcomes
+    (['toluene', 'water'], ['good', 'bad'])
+    >>> read_trials([{"solvent": "toluene", "result": 1}, {"solvent": "water", "result": 6},
+    ...              {"solvent": "acetone", "result": 4}]).outcomes
+    ['good', 'bad', 'partial']
+    """
+    text = _table_text(source)
+    if text is not None:
+        return read_text(text[1], source=text[0], library=library, scale=scale,
+                         material=material)
+    return read(source, library=library, sheet=sheet, scale=scale, material=material)
 
 
 def validate_rows(rows: Iterable[dict], library: LibraryLike | None = None,
@@ -543,6 +773,22 @@ class ReadContext:
     unit: str  # "line" (files) or "row" (the app's table)
     warnings: list = field(default_factory=list)
     suggested: dict = field(default_factory=dict)
+    factors: dict = field(default_factory=dict)  # column -> unit factor to MPa½
+    scale: Any = None  # a numbered outcome scale (solsphere.io.scales.Scale) or None
+
+    def read_outcome(self, raw) -> str | None:
+        """The outcome of a cell: a score on the scale, else the words of parse_outcome."""
+        sc = self.scale
+        if sc is not None and sc.name != "words":
+            got = sc.read(raw)
+            if got is not None:
+                return got
+            try:
+                float(str(raw).strip().replace(",", "."))
+            except ValueError:
+                return parse_outcome(raw)
+            return None  # a number off the scale
+        return parse_outcome(raw)
 
     def suggestions(self, text: str) -> list[str]:
         """Close library names for an unknown ``text``: searched for the first
@@ -602,8 +848,11 @@ def _is_number(v) -> bool:
 
 
 def _first(errors: list[InputError]) -> InputError:
-    """The first error, telling how many more there are."""
+    """The first error, telling how many more there are; ``problems`` holds the first
+    :data:`MAX_PROBLEMS` (for front ends that show them all) and ``n_problems`` the count."""
     e = errors[0]
+    e.problems = list(errors[:MAX_PROBLEMS])
+    e.n_problems = len(errors)
     more = len(errors) - 1
     if more:
         e.message = f"{e.message.rstrip()} ({more} more problem{'s' if more > 1 else ''} " \
@@ -648,8 +897,9 @@ def parse_number(raw, decimal_comma: bool) -> float:
     return float(s)
 
 
-def parse_coordinate(raw, name: str, decimal_comma: bool) -> float:
-    v = parse_number(raw, decimal_comma)
+def parse_coordinate(raw, name: str, decimal_comma: bool, factor: float = 1.0) -> float:
+    """A coordinate [MPa½] from a cell, times ``factor`` (a unit conversion)."""
+    v = parse_number(raw, decimal_comma) * factor
     if not math.isfinite(v):
         raise CellProblem(f"{name} {clip(raw)} is not a finite number.", "write a number in MPa½")
     if v < 0:
@@ -750,7 +1000,13 @@ def sniff_delimiter(header: str, file: str, line: int) -> str:
     return best
 
 
-def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list[str | None]:
+def _read_header(cells: list[str], file: str, line: int, warnings: list,
+                 factors: dict | None = None) -> list[str | None]:
+    """Canonical column names of a header row; ``factors`` receives the unit factor of
+    each coordinate column in (cal/cm³)½ (converted to MPa½ at :data:`CAL_TO_MPA`)."""
+    factors = {} if factors is None else factors
+    cal: list[tuple[str, str]] = []
+    plain: list[str] = []
     canon: list[str | None] = []
     seen: dict[str, str] = {}
     unknown: list[str] = []
@@ -767,22 +1023,33 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list
         if key in COORDINATES and unit:
             u = unit.replace(" ", "")
             if "cal" in u:
-                raise InputError(f"column {clip(name)} is in (cal/cm³)½; solsphere works in "
-                                 f"MPa½.", file=file, line=line, column=name,
-                                 hint=f"multiply the values by {_CAL_TO_MPA} and rename the "
-                                      f"column {key}")
-            if not ("mpa" in u or "j/cm" in u or "j cm" in u):
+                cal.append((key, name))
+            elif not ("mpa" in u or "j/cm" in u or "j cm" in u):
                 warnings.append(f"{file}, line {line}: unit {clip(unit)} of column {clip(name)} not "
                                 f"recognised; its values are read as MPa½")
+        if key in COORDINATES and not (unit and "cal" in unit.replace(" ", "")):
+            plain.append(name)
         if key in seen:
             raise InputError(f"columns {clip(seen[key])} and {clip(name)} are both read as {clip(key)}.",
                              file=file, line=line, column=name,
                              hint="rename or delete one of them")
         seen[key] = name
         canon.append(key)
+    if cal and plain:
+        raise InputError(f"column {clip(cal[0][1])} is in (cal/cm³)½ but "
+                         f"{', '.join(clip(n) for n in plain)} "
+                         f"{'is' if len(plain) == 1 else 'are'} not; all coordinates of a file "
+                         f"must be in one unit.", file=file, line=line, column=cal[0][1],
+                         hint=f"write the unit in every coordinate header (e.g. 'dP "
+                              f"(cal/cm3)^0.5'), and the values are converted at "
+                              f"{CAL_TO_MPA} MPa½ per (cal/cm³)½; or convert them yourself")
+    for key, name in cal:
+        factors[key] = CAL_TO_MPA
+        warnings.append(f"{file}, line {line}: column {clip(name)} is in (cal/cm³)½; its "
+                        f"values were converted to MPa½ (× {CAL_TO_MPA})")
     missing = [k for k in ("solvent", "outcome") if k not in seen]
     known = {"solvent": "solvent", "outcome": "outcome", "note": "note",
-             "dd": "dD", "dp": "dP", "dh": "dH"}
+             "dd": "dD", "dp": "dP", "dh": "dH", "material": "material"}
     for name in unknown:
         close = difflib.get_close_matches(_simplify(name), ["solvent", "outcome"], n=1,
                                           cutoff=0.7)
@@ -793,7 +1060,7 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list
         near = difflib.get_close_matches(_simplify(name), list(known), n=1, cutoff=0.7)
         guess = f" (did you mean {known[near[0]]!r}?)" if near else ""
         warnings.append(f"{file}, line {line}: column {clip(name)} ignored{guess}; solsphere "
-                        f"reads {', '.join(COLUMNS)}")
+                        f"reads {', '.join(COLUMNS)}, material")
     if missing:
         found = ", ".join(clip(c.strip(), 30) for c in cells[:8] if c.strip()) or "nothing"
         if len(cells) > 8:
@@ -808,7 +1075,7 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list) -> list
     return canon
 
 
-def _parse_table(text: str, file: str):
+def _parse_table(text: str, file: str, factors: dict | None = None):
     """Split a results file into (line, cells-by-column) records.
 
     Returns (records, decimal_comma, warnings, header_line); a record may be
@@ -847,7 +1114,7 @@ def _parse_table(text: str, file: str):
         header = next(reader)
     except csv.Error as exc:
         raise csv_problem(exc, header_line) from None
-    columns = _read_header(header, file, header_line, warnings)
+    columns = _read_header(header, file, header_line, warnings, factors)
     records: list = []
     while True:
         start = reader.line_num
@@ -950,16 +1217,18 @@ def _parse_row(cells: dict, line: int, ctx: ReadContext, stored=None):
         bad("the outcome is empty.", "outcome", "write good, bad or partial (or dissolves, "
                                                 "does not, partly)")
     else:
-        outcome = parse_outcome(raw_outcome)
+        outcome = ctx.read_outcome(raw_outcome)
         if outcome is None:
-            bad(f"{clip(_text(raw_outcome))} is not an outcome solsphere knows.", "outcome",
-                f"write one of: {_outcome_hint()}")
+            on = f" on {ctx.scale.describe()}" if ctx.scale is not None else ""
+            bad(f"{clip(_text(raw_outcome))} is not an outcome solsphere knows{on}.",
+                "outcome", f"write one of: {_outcome_hint()}")
     coords: dict[str, float] = {}
     given = [c for c in COORDINATES if not _empty(cells.get(c))]
     coord_problem = False
     for c in given:
         try:
-            coords[c] = parse_coordinate(cells[c], c, ctx.decimal_comma)
+            coords[c] = parse_coordinate(cells[c], c, ctx.decimal_comma,
+                                         ctx.factors.get(c, 1.0))
         except CellProblem as p:
             bad(f"{c}: {p.message}" if not p.message.startswith(c) else p.message, c, p.hint)
             coord_problem = True
