@@ -85,6 +85,23 @@ class Listing:
                 "compiled_from_memory": True}
 
 
+def _data_rows(text: str, columns: tuple, source: str):
+    """(line, stripped cells) of each non-empty row of a curated CSV whose ``#`` lines are
+    comments, after checking the header; ValueError naming the line otherwise."""
+    lines = text.splitlines()
+    numbered = [(i, ln) for i, ln in enumerate(lines, 1) if not ln.lstrip().startswith("#")]
+    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in numbered)))
+    header = next(reader, [])
+    if tuple(c.strip() for c in header) != columns:
+        raise ValueError(f"{source}: header must be {','.join(columns)}")
+    for (line, _), row in zip(numbered[1:], reader):
+        if not any(c.strip() for c in row):
+            continue
+        if len(row) != len(columns):
+            raise ValueError(f"{source}, line {line}: expected {len(columns)} cells")
+        yield line, [c.strip() for c in row]
+
+
 def read_listings(text: str, source: str = "hazard_listings.csv") -> dict[str, Listing]:
     """Parse the listing file (``#`` lines are comments) into {CAS: Listing}.
 
@@ -100,19 +117,9 @@ def read_listings(text: str, source: str = "hazard_listings.csv") -> dict[str, L
     >>> d["872-50-4"].text()
     'Repr. 1B (EU; restricted)'
     """
-    lines = text.splitlines()
-    numbered = [(i, ln) for i, ln in enumerate(lines, 1) if not ln.lstrip().startswith("#")]
-    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in numbered)))
-    header = next(reader, [])
-    if tuple(c.strip() for c in header) != _COLUMNS:
-        raise ValueError(f"{source}: header must be {','.join(_COLUMNS)}")
     out: dict[str, Listing] = {}
-    for (line, _), row in zip(numbered[1:], reader):
-        if not any(c.strip() for c in row):
-            continue
-        if len(row) != len(_COLUMNS):
-            raise ValueError(f"{source}, line {line}: expected {len(_COLUMNS)} cells")
-        cas, name, repr_, carc, restricted, jur, src = (c.strip() for c in row)
+    for line, row in _data_rows(text, _COLUMNS, source):
+        cas, name, repr_, carc, restricted, jur, src = row
         if repr_ not in ("", *_EU_REPR) or carc not in ("", *_EU_CARC):
             raise ValueError(f"{source}, line {line}: categories must be 1A, 1B, 2 or empty")
         if restricted not in ("", "yes"):
@@ -184,19 +191,9 @@ def read_health(text: str, source: str = "health_hazards.csv") -> dict[str, Heal
     >>> d["64-19-7"].text(), d["64-19-7"].level()
     ('Skin Corr. 1A (EU)', 1)
     """
-    lines = text.splitlines()
-    numbered = [(i, ln) for i, ln in enumerate(lines, 1) if not ln.lstrip().startswith("#")]
-    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in numbered)))
-    header = next(reader, [])
-    if tuple(c.strip() for c in header) != _HEALTH_COLUMNS:
-        raise ValueError(f"{source}: header must be {','.join(_HEALTH_COLUMNS)}")
     out: dict[str, HealthEntry] = {}
-    for (line, _), row in zip(numbered[1:], reader):
-        if not any(c.strip() for c in row):
-            continue
-        if len(row) != len(_HEALTH_COLUMNS):
-            raise ValueError(f"{source}, line {line}: expected {len(_HEALTH_COLUMNS)} cells")
-        cas, name, skin, acute, eye, jur, src = (c.strip() for c in row)
+    for line, row in _data_rows(text, _HEALTH_COLUMNS, source):
+        cas, name, skin, acute, eye, jur, src = row
         if skin not in ("", "1", "1A", "1B", "1C") or acute not in ("", "1", "2", "3") \
                 or eye not in ("", "1"):
             raise ValueError(f"{source}, line {line}: skin must be 1, 1A, 1B, 1C or empty; "
