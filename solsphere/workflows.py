@@ -710,7 +710,9 @@ def blend_notes(blends: list[dict], drying: bool) -> str:
             if d is None:
                 parts.append("drying: no vapour-pressure data")
             elif d.get("leaves_at") is None:
-                parts.append(f"drying: stays inside to dryness ({d.get('last_component')} left last)")
+                last = d.get("last_component")
+                parts.append("drying: stays inside to dryness ("
+                             + (f"{last} left last)" if last else "the residue is a mixture)"))
             else:
                 parts.append(f"drying: leaves the sphere at {100 * d['leaves_at']:.0f}% evaporated")
         if parts:
