@@ -229,24 +229,6 @@ def test_projections_without_blends_or_partials():
 
 # ------------------------------------------------------------------------ share page
 
-def test_share_html_is_standalone_and_escaped(fig3, fig2):
-    page = figures.share_html(fig3, fig2, "report with <tag> & more",
-                              title="A <i>title</i>", caution="be careful <now>",
-                              extra_sections=[("Head <h>", "body </pre><script>x()</script>")])
-    assert page.startswith("<!DOCTYPE html>")
-    assert not re.search(r"<script[^>]*\bsrc\s*=", page, re.IGNORECASE)
-    assert "report with &lt;tag&gt; &amp; more" in page
-    assert "<title>A &lt;i&gt;title&lt;/i&gt;</title>" in page
-    assert "be careful &lt;now&gt;" in page and "Head &lt;h&gt;" in page
-    assert "<script>x()" not in page
-    m = re.search(r"var f3 = (\{.*?\});\n", page, re.DOTALL)
-    f3 = json.loads(m.group(1))
-    assert [t.get("name") for t in f3["data"]] == [t.name for t in fig3.data]
-    # nothing in the embedded JSON can close the script element
-    assert "</" not in m.group(1)
-
-
-# ----------------------------------------------------------------------------- RED ladder, one plane
 
 def test_red_ladder_places_every_trial_at_its_red_by_outcome():
     fig = figures.red_ladder(FIT)

@@ -225,15 +225,6 @@ def test_figure_hover_text_is_escaped(evil_bench):
     assert html.escape(EVIL_NAME) in joined
 
 
-def test_share_html_escapes_every_text_argument():
-    import plotly.graph_objects as go
-    from solsphere.report.figures import share_html
-    page = share_html(go.Figure(), go.Figure(), report=EVIL_NAME, title=EVIL_TITLE,
-                      extra_sections=[(EVIL_NOTE, EVIL_NAME)], caution=EVIL_NOTE)
-    for raw in (EVIL_NAME, EVIL_NOTE, EVIL_TITLE):
-        assert raw not in page
-
-
 def test_the_app_has_no_raw_html_components():
     """Dash renders strings as text (React escapes them) unless told otherwise; the app
     never tells it otherwise."""

@@ -18,7 +18,6 @@ import html
 
 import numpy as np
 
-from solsphere import __version__
 from solsphere.formatting import blend_label
 
 STYLE = {
@@ -474,52 +473,3 @@ def red_ladder(fit, height: int = 560):
                       title={"text": "RED ladder", "x": 0.5, "font": {"size": 14}},
                       plot_bgcolor="white", uirevision="ladder")
     return fig
-
-
-SHARE_TEMPLATE = """<!DOCTYPE html>
-<html lang="en"><head><meta charset="utf-8">
-<title>{title}</title>
-<style>
-body {{ font-family: system-ui, sans-serif; margin: 1.5em auto; max-width: 1200px; color: #222; }}
-pre {{ background: #f6f6f4; padding: 1em; overflow-x: auto; font-size: 13px; }}
-.caution {{ border-left: 4px solid #e6ab02; padding: .5em 1em; background: #fffbea; }}
-</style>
-<script type="text/javascript">{plotlyjs}</script>
-</head><body>
-<h1>{title}</h1>
-<p class="caution">{caution}</p>
-<div id="map3d"></div>
-<div id="planes"></div>
-<h2>Fit report</h2>
-<pre>{report}</pre>
-{extra}
-<p class="caution">{caution}</p>
-<p><small>Made with solsphere {version}. Hansen parameters from published compilations (see the
-solvent library's README). Invented demo data are labelled as such.</small></p>
-<script type="text/javascript">
-var f3 = {fig3d};
-var f2 = {fig2d};
-Plotly.newPlot("map3d", f3.data, f3.layout, {{responsive: true, displaylogo: false}});
-Plotly.newPlot("planes", f2.data, f2.layout, {{responsive: true, displaylogo: false}});
-</script>
-</body></html>
-"""
-
-
-def _json_for_script(obj_json: str) -> str:
-    """Make JSON safe to embed inside <script> (no closing tag, no HTML comment)."""
-    return (obj_json.replace("<", "\\u003c").replace(">", "\\u003e")
-            .replace("&", "\\u0026").replace("\u2028", "\\u2028").replace("\u2029", "\\u2029"))
-
-
-def share_html(fig3d, fig2d, report: str, title: str = "Hansen solubility sphere",
-               extra_sections: list[tuple[str, str]] | None = None, caution: str = "") -> str:
-    """One self-contained HTML page (plotly.js inlined, no network) with both figures and
-    the plain-text report. All user text is HTML-escaped."""
-    from plotly.offline import get_plotlyjs  # deferred: plotly is heavy to import
-    extra = "".join(f"<h2>{html.escape(h)}</h2>\n<pre>{html.escape(body)}</pre>\n"
-                    for h, body in (extra_sections or []))
-    return SHARE_TEMPLATE.format(
-        title=html.escape(title), plotlyjs=get_plotlyjs(), caution=html.escape(caution),
-        report=html.escape(report), extra=extra, version=__version__,
-        fig3d=_json_for_script(fig3d.to_json()), fig2d=_json_for_script(fig2d.to_json()))
