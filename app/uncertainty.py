@@ -19,7 +19,7 @@ from solsphere.errors import FitError, SolsphereError
 from solsphere.formatting import num
 from solsphere.uncertainty import bootstrap as confidence
 from solsphere.uncertainty import nexttrials as nexttrial
-from solsphere.uncertainty.bootstrap import CLASSIC_CAVEAT, Bootstrap
+from solsphere.uncertainty.bootstrap import Bootstrap
 from solsphere.uncertainty.posterior import Posterior, sample_posterior
 from solsphere.workflows import candidate_pool
 
@@ -145,8 +145,9 @@ def interval_texts(store: dict | None, fit: dict | None) -> dict | None:
            "R0": f"{pct} {what}: {span('R0')}",
            "about": (f"From {d['n_bootstrap']} resamples of the results ({d['fit_method']} "
                      f"fit, seed {d['seed']}, {store.get('elapsed', 0):.1f} s); "
-                     + (CLASSIC_CAVEAT if d["fit_method"] == "classic" else
-                        "percentile intervals.") if d["fit_method"] != "posterior" else
+                     + ("stability ranges, not confidence intervals (see the note below)."
+                        if d["fit_method"] == "classic" else "percentile intervals.")
+                     if d["fit_method"] != "posterior" else
                      f"From {d['n_samples']} spheres sampled in proportion to how well they "
                      f"explain the results (posterior of the graded model, seed {d['seed']}, "
                      f"{store.get('elapsed', 0):.1f} s); credible intervals."),

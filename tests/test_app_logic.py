@@ -515,6 +515,7 @@ def test_bootstrap_in_the_app_is_the_library_bootstrap_of_the_trials(demo, demo_
     assert iv["centre"].startswith("95 % stability range: δD") and f"{lo:.1f}–{hi:.1f}" in iv["centre"]
     assert iv["R0"].startswith("95 % stability range") and "40 resamples" in iv["about"]
     assert "not confidence intervals" in iv["about"]
+    assert any("not confidence intervals" in w for w in iv["warnings"])  # the measured caveat
     assert any("resamples" in w for w in iv["warnings"])  # fewer than advised: said so
     assert len(uncertainty.cloud(boot, fit)) == 40
     b = uncertainty.bootstrap_of(boot, fit)
