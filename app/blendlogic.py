@@ -268,7 +268,8 @@ def substitutes(result: dict | None, library, name: str | None, for_material: bo
 
     ``pool`` "working" (default) or "all"; ``allow_worse`` lifts the rule that a
     replacement is never worse than the solvent replaced on carcinogen class,
-    reproductive-toxicity listing and flammability category.
+    reproductive-toxicity listing, skin corrosion / acute toxicity and flammability
+    category.
 
     Returns
     -------
@@ -327,8 +328,8 @@ def substitutes(result: dict | None, library, name: str | None, for_material: bo
         if for_material:
             how += " (no sphere yet, so not for the material)"
     rule = ("worse ones allowed (you ticked 'allow worse')" if allow_worse else
-            "none worse than it on carcinogen class, reproductive-toxicity listing or "
-            "flammability")
+            "none worse than it on carcinogen class, reproductive-toxicity listing, "
+            "corrosivity / acute toxicity or flammability")
     msg = (f"Replacing {resolved}: {len(singles)} solvents and {len(pairs)} pairs "
            f"(δD {t['dD']:.1f}, δP {t['dP']:.1f}, δH {t['dH']:.1f}), {how}; {rule}; from "
            f"{d['n_candidates']} candidates ({'all library liquids' if library_pool(pool, common_only) == 'all' else 'working solvents'}).")

@@ -334,8 +334,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true", help="print one JSON object")
     p.add_argument("--allow-worse", action="store_true",
                    help="also offer candidates that are worse than the solvent replaced on "
-                        "carcinogen class, reprotoxic/regulatory listing or flammability, "
-                        "or that are listed themselves")
+                        "carcinogen class, reprotoxic/regulatory listing, corrosivity / "
+                        "acute toxicity or flammability, or that are listed themselves")
     _add_pool(p)
     _add_table_output(p)
     _add_limits(p)

@@ -7,6 +7,7 @@ code; errors propagate to :func:`solsphere.cli.main`, which prints them on one l
 from __future__ import annotations
 
 import json
+import os
 import sys
 from importlib.resources import files
 from pathlib import Path
@@ -146,7 +147,9 @@ def cmd_fit(args) -> int:
         raise InputError("fit needs a results or project file.", file="<command line>",
                          hint="give FILE ('-' for standard input), or --demo")
     _check_table_target(args, [args.file])
-    if args.save:  # said before the fit, and a pipe or device is never opened
+    if args.save and os.path.isdir(args.save):  # a folder: only for several materials
+        pass  # save_materials checks it; one material refuses it below
+    elif args.save:  # said before the fit, and a pipe or device is never opened
         check_output(args.save, inputs=[args.file])
     if args.file == "-" or not is_project_file(args.file):
         lib = load_library()
@@ -193,6 +196,8 @@ def _fit_many(args, groups) -> int:
 
 
 def _fit_single(args, project, lib, fit=None) -> int:
+    if args.save:  # one project: a file, never a folder, a pipe or a device
+        check_output(args.save, inputs=[args.file])
     if fit is None:
         fit = fit_project(project, partial=args.partial, library=lib, seed=args.seed,
                           method=args.method, compare=not args.no_compare)

@@ -702,6 +702,9 @@ def blend_notes(blends: list[dict], drying: bool) -> str:
             if fpe.get("minimum_flash_point"):
                 parts.append("BELOW its lowest-flashing component (minimum-flash-point "
                              "behaviour)")
+        elif fpe.get("conservative") is not None:
+            parts.append(f"flash point: no blend estimate; lowest component "
+                         f"{fpe['conservative']:.0f} °C")
         if b.get("phases") == 2:
             parts.append("SEPARATES into two liquid phases at this ratio"
                          + (f" ({b['phase_method']})" if b.get("phase_method") else ""))

@@ -458,3 +458,13 @@ def test_replacements_with_estimated_coordinates_are_marked():
                           or "lactate" in ln or "oxolane" in ln or "diacetate" in ln
                           for ln in marked)
     assert "* δD, δP, δH estimated from structure, not measured" in out
+
+
+def test_corrosivity_outside_the_working_pool_is_not_assessed(lib):
+    # the health file covers working solvents only: morpholine (a corrosive amine, from
+    # memory) is not in it, so its corrosivity is unknown, never "none"
+    m = lib.lookup("morpholine")
+    assert corrosive_toxic_level(m) is None
+    assert any("not assessed" in f for f in hazard_facts(m))
+    ok, why = never_worse(m, lib.lookup("acetic acid"))
+    assert not ok and "corrosive_toxic" in why

@@ -165,6 +165,20 @@ def test_fit_many_saves_a_folder_of_projects(tmp_path, two_materials):
     # a file where the folder should be is refused
     rc, _, err = run_cli(["fit", two_materials, "--save", two_materials])
     assert rc == 2
+    # run again into the same (now existing) folder: the projects are replaced
+    rc, _, err = run_cli(["fit", two_materials, "--save", folder, "--no-influence"])
+    assert rc == 0, err
+    assert sorted(p.name for p in folder.iterdir()) == ["resin-A.json", "resin-B.json"]
+    # one material never goes into a folder
+    rc, _, err = run_cli(["fit", two_materials, "--material", "resin B", "--save", folder])
+    assert rc == 2 and len(err.strip().splitlines()) == 1
+
+
+def test_csv_tables_keep_text_that_looks_like_a_formula_as_text(tmp_path):
+    out = tmp_path / "t.csv"
+    write_table([{"name": "=HYPERLINK(1)", "note": "-10", "x": -3.5}], out)
+    rows = list(csv.reader(io.StringIO(out.read_text(encoding="utf-8-sig"))))
+    assert rows[1] == ["'=HYPERLINK(1)", "-10", "-3.5"]
 
 
 def test_rank_blend_next_need_a_material_when_there_are_several(two_materials):

@@ -162,6 +162,9 @@ def checked_pick(pool: Sequence[Solvent], res: dict, one_phase: np.ndarray,
         for k in todo:
             checked.add(k)
             one_phase[k] = miscibility_warning(pool[res["i"][k]], pool[res["j"][k]]) is None
+    else:  # the rounds ran out: list by the arrays as last updated
+        pick = diverse(order_of(), lambda k: (names[res["i"][k]], names[res["j"][k]]), n,
+                       max_uses)
     return pick
 
 

@@ -78,14 +78,18 @@ def _csv_bytes(columns, rows) -> bytes:
     w = csv.writer(buf, lineterminator="\r\n")
     w.writerow(columns)
     for row in rows:
-        w.writerow(["" if v is None else (repr(v) if isinstance(v, float) else v) for v in row])
+        w.writerow(["" if v is None else (repr(v) if isinstance(v, float) else _safe_text(v))
+                    for v in row])
     return ("\ufeff" + buf.getvalue()).encode("utf-8")
 
 
 def _safe_text(v):
     """Text a spreadsheet would run as a formula is stored as text (a leading quote)."""
     if isinstance(v, str) and v[:1] in ("=", "+", "-", "@") and len(v) > 1:
-        return "'" + v
+        try:
+            float(v)  # a number written as text ("-10") stays a number
+        except ValueError:
+            return "'" + v
     return v
 
 

@@ -19,8 +19,10 @@ is worse:
 - ``corrosive_toxic``: 0 none listed, 1 corrosive to skin (EU Skin Corr. 1, 1A-1C) or
   toxic on short exposure (Acute Tox. 3), 2 fatal (Acute Tox. 1-2); from the health file
   (``solsphere/data/health_hazards.csv``, also compiled from memory, working solvents
-  only). Serious eye damage (Eye Dam. 1) is shown as a fact but not ranked: goggles
-  handle it, and counting it would refuse γ-butyrolactone as a replacement for NMP.
+  only; a solvent outside the working pool that the file does not list is None, not
+  assessed, and counts as unknown like a missing flash point). Serious eye damage
+  (Eye Dam. 1) is shown as a fact but not ranked: goggles handle it, and counting it
+  would refuse γ-butyrolactone as a replacement for NMP.
 - ``flammability``: the GHS flammable-liquid category from flash and boiling point
   (UN GHS Rev. 9, 2021, ch. 2.6, thresholds in :mod:`solsphere.library.table`): 0 not
   classified (no flash point, or above 93 °C), 1 category 4, 2 category 3, 3 category 2,
@@ -29,13 +31,12 @@ is worse:
 
 from __future__ import annotations
 
-import csv
-import io
 import re
 from dataclasses import dataclass
 from functools import lru_cache
 
-from solsphere.library.data import data_dir
+from solsphere.library.data import comment_rows, data_dir
+from solsphere.library.pools import working_cas
 from solsphere.library.table import (GHS_BOILING_CATEGORY_1_C, GHS_FLASH_CATEGORY_2_C,
                                      GHS_FLASH_CATEGORY_3_C, GHS_FLASH_CATEGORY_4_C,
                                      Solvent, hazard_flags)
@@ -88,13 +89,11 @@ class Listing:
 def _data_rows(text: str, columns: tuple, source: str):
     """(line, stripped cells) of each non-empty row of a curated CSV whose ``#`` lines are
     comments, after checking the header; ValueError naming the line otherwise."""
-    lines = text.splitlines()
-    numbered = [(i, ln) for i, ln in enumerate(lines, 1) if not ln.lstrip().startswith("#")]
-    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in numbered)))
-    header = next(reader, [])
+    rows = comment_rows(text)
+    _, header = next(rows, (0, []))
     if tuple(c.strip() for c in header) != columns:
         raise ValueError(f"{source}: header must be {','.join(columns)}")
-    for (line, _), row in zip(numbered[1:], reader):
+    for line, row in rows:
         if not any(c.strip() for c in row):
             continue
         if len(row) != len(columns):
@@ -219,10 +218,14 @@ def health_of(solvent: Solvent) -> HealthEntry | None:
     return load_health().get(solvent.cas) if solvent.cas else None
 
 
-def corrosive_toxic_level(solvent: Solvent) -> int:
-    """0 none listed, 1 corrosive to skin or toxic (Acute Tox. 3), 2 fatal (Acute Tox. 1-2)."""
+def corrosive_toxic_level(solvent: Solvent) -> int | None:
+    """0 none listed, 1 corrosive to skin or toxic (Acute Tox. 3), 2 fatal (Acute Tox. 1-2);
+    None (not assessed) for a solvent outside the working pool that the health file does
+    not list: the file covers working solvents only, so there its absence says nothing."""
     entry = health_of(solvent)
-    return 0 if entry is None else entry.level()
+    if entry is not None:
+        return entry.level()
+    return 0 if solvent.cas and solvent.cas in working_cas() else None
 
 
 def hazard_facts(solvent: Solvent) -> list[str]:
@@ -247,6 +250,9 @@ def hazard_facts(solvent: Solvent) -> list[str]:
     if entry is not None:
         word = "corrosive or toxic" if entry.level() else "serious eye damage"
         facts.append(f"{word}: {entry.text()}")
+    elif corrosive_toxic_level(solvent) is None:
+        facts.append("skin corrosion / acute toxicity not assessed (not a working solvent): "
+                     "read its safety data sheet")
     return facts + hazard_flags(solvent)
 
 
@@ -372,8 +378,9 @@ def never_worse(candidate: Solvent, target: Solvent) -> tuple[bool, str]:
 def hazard_score(solvent: Solvent) -> float:
     """One number for ordering by hazard (higher is worse; our own weights, no source):
     3 × (carcinogen + reprotoxic + corrosive_toxic) + flammability (an unknown flash point
-    counts as 4)."""
+    counts as 4, an unassessed corrosive_toxic as 2)."""
     lv = _levels(solvent)
-    fl = lv["flammability"]
-    return (3.0 * (lv["carcinogen"] + lv["reprotoxic"] + lv["corrosive_toxic"])
+    fl, ct = lv["flammability"], lv["corrosive_toxic"]
+    return (3.0 * (lv["carcinogen"] + lv["reprotoxic"] + (_WORST["corrosive_toxic"] if ct is None
+                                                          else ct))
             + (4.0 if fl is None else fl))

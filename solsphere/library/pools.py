@@ -28,7 +28,7 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 from typing import Any, Iterable
 
-from solsphere.library.data import data_dir
+from solsphere.library.data import comment_rows, data_dir
 
 __all__ = ["WorkingSolvent", "CommonSolvent", "FAMILIES", "POOLS", "POOL_SYNONYMS",
            "pool_name", "read_working", "read_common", "load_working", "load_common",
@@ -83,15 +83,6 @@ class WorkingSolvent:
 CommonSolvent = WorkingSolvent  # the former name
 
 
-def _rows(text: str):
-    """(line number, row) pairs of a CSV whose ``#`` lines are comments."""
-    lines = text.splitlines()
-    numbered = [(i, ln) for i, ln in enumerate(lines, start=1) if not ln.lstrip().startswith("#")]
-    reader = csv.reader(io.StringIO("\n".join(ln for _, ln in numbered)))
-    for (number, _), row in zip(numbered, reader):
-        yield number, row
-
-
 def read_working(text: str, source: str = "working_solvents.csv") -> tuple[WorkingSolvent, ...]:
     """Parse the working list.
 
@@ -113,7 +104,7 @@ def read_working(text: str, source: str = "working_solvents.csv") -> tuple[Worki
     >>> read_working("# comment\\ncas,name,family\\n67-64-1,acetone,ketone\\n")
     (WorkingSolvent(cas='67-64-1', name='acetone', family='ketone'),)
     """
-    rows = iter(_rows(text))
+    rows = iter(comment_rows(text))
     number, header = next(rows, (1, []))
     if tuple(c.strip() for c in header) != _COLUMNS:
         raise ValueError(f"{source}, line {number}: header must be {','.join(_COLUMNS)}; "

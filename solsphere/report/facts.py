@@ -10,7 +10,7 @@ absence from a list is not evidence of safety.
 from __future__ import annotations
 
 from solsphere.formatting import short
-from solsphere.library.hazards import ghs_category, health_of, listing_of
+from solsphere.library.hazards import corrosive_toxic_level, ghs_category, health_of, listing_of
 from solsphere.library.table import Solvent, hazard_flags
 
 __all__ = ["NO_DATA", "flash_text", "exposure_text", "jurisdiction_of", "carcinogen_text",
@@ -104,7 +104,9 @@ def health_text(solvent: Solvent) -> str:
     'Skin Corr. 1A (EU)'
     """
     entry = health_of(solvent)
-    return "none listed" if entry is None else entry.text()
+    if entry is not None:
+        return entry.text()
+    return "none listed" if corrosive_toxic_level(solvent) == 0 else "not assessed"
 
 
 def listings_text(solvent: Solvent) -> str:

@@ -256,8 +256,9 @@ def _per_component(names, by_name, library, cell) -> list[str] | str:
 
 def _flash_blend(b: dict) -> str:
     fpe = b.get("flash_point_estimate") or {}
-    if fpe.get("estimate") is None:
-        return facts.NO_DATA
+    if fpe.get("estimate") is None:  # no blend estimate: the lowest component still counts
+        low = fpe.get("conservative")
+        return facts.NO_DATA if low is None else f"no estimate; lowest component {low:.0f} °C"
     text = f"≈ {fpe['estimate']:.0f} °C (estimate)"
     if fpe.get("minimum_flash_point"):
         text += "; BELOW its lowest-flashing component"
