@@ -139,14 +139,25 @@ class Client:
     def update(self, dep: dict, values: dict, changed: str) -> dict:
         """Run callback ``dep`` with ``values`` ({"id.property": value}) for its inputs
         and states; the ``response`` part of the answer."""
-        body = update_body(dep, values, changed)
-        req = urllib.request.Request(self.base + "_dash-update-component",
-                                     data=json.dumps(body).encode(),
-                                     headers={"Content-Type": "application/json"})
-        with self.opener.open(req, timeout=self.timeout) as r:
-            if r.status != 200:
-                raise RuntimeError(f"HTTP {r.status}")
-            return json.loads(r.read())["response"]
+        body = json.dumps(update_body(dep, values, changed)).encode()
+        query = ""
+        deadline = time.monotonic() + self.timeout
+        while True:
+            req = urllib.request.Request(self.base + "_dash-update-component" + query,
+                                         data=body,
+                                         headers={"Content-Type": "application/json"})
+            with self.opener.open(req, timeout=self.timeout) as r:
+                if r.status not in (200, 202):
+                    raise RuntimeError(f"HTTP {r.status}")
+                answer = json.loads(r.read() or b"{}")
+            if "response" in answer:
+                return answer["response"]
+            # a background callback: poll its job as the browser does, until it answers
+            if "cacheKey" in answer:
+                query = f"?cacheKey={answer['cacheKey']}&job={answer.get('job', '')}"
+            if time.monotonic() > deadline:
+                raise RuntimeError("no answer from the background job in time")
+            time.sleep(0.2)
 
     def fit(self, rows) -> dict:
         """The fit callback's stored result for these table rows ('partly' as good)."""
