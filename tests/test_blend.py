@@ -325,11 +325,11 @@ def test_to_dict_contract_and_json():
 
 
 def testcomponent_flags_are_the_librarys_with_names():
-    from solsphere.library.table import hazard_flags
+    from solsphere.library.hazards import hazard_facts
     hot = _solv("hot", A, flash_point=-18.0)
     safe = _solv("safe", B, flash_point=95.0, twa_ppm=100.0)
     flags = blend_mod.component_flags([hot, safe])
-    assert flags == [f"hot: {t}" for t in hazard_flags(hot)] + [f"safe: {t}" for t in hazard_flags(safe)]
+    assert flags == [f"hot: {t}" for t in hazard_facts(hot)] + [f"safe: {t}" for t in hazard_facts(safe)]
     assert any("highly flammable" in t for t in flags)
 
 

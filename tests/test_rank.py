@@ -13,6 +13,7 @@ import math
 
 import pytest
 
+from solsphere.library.hazards import hazard_facts
 from solsphere.library.table import Solvent, hazard_flags
 from solsphere.design.ranking import CAUTION, Ranking, format_table, rank_solvents
 
@@ -73,10 +74,13 @@ def test_include_tested_marks_them():
                      "epsilon": False, "zeta": False}
 
 
-def test_flags_are_the_hazard_flags():
+def test_flags_are_the_hazard_facts():
     r = rank_solvents(POOL, CENTRE, R0)
     for x in r.solvents:
-        assert x.flags == hazard_flags(x.solvent)
+        assert x.flags == hazard_facts(x.solvent)
+        # invented solvents are outside the working pool: corrosivity not assessed, said
+        assert x.flags[0].startswith("skin corrosion / acute toxicity not assessed")
+        assert x.flags[1:] == hazard_flags(x.solvent)
     by = {x.solvent.name: x.flags for x in r.solvents}
     assert any("flash point 4 °C" in f for f in by["alpha"])
     assert any("carcinogen" in f for f in by["delta"]) and any("5 ppm" in f for f in by["delta"])
