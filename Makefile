@@ -52,7 +52,7 @@ test-lowest:
 	$(LOWEST)/bin/python -m pip install -q --upgrade pip
 	$(LOWEST)/bin/python -m pip install -q -c constraints/lowest.txt -e '.[test,structure]'
 	$(LOWEST)/bin/python -m pip list --format=freeze > $(LOWEST)/versions.txt
-	$(LOWEST)/bin/python -m pytest -m "not browser and not slow" -p no:cacheprovider
+	$(LOWEST)/bin/python -m pytest -m "not browser and not slow" -p no:cacheprovider --timeout 300
 
 bench: $(STAMP)
 	@fail=0; for f in tests/perf/bench_*.py; do $(PY) $$f || fail=1; done; exit $$fail
