@@ -26,6 +26,16 @@ import urllib.error
 import urllib.request
 from pathlib import Path
 
+#: Debian's Chromium, driven headless by the browser tests and the latency bench.
+CHROMIUM = os.environ.get("SOLSPHERE_CHROMIUM", "/usr/bin/chromium")
+#: Flags that keep every request of the browser on loopback.
+FLAGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         "--disable-quic", "--disable-extensions", "--disable-default-apps", "--no-first-run",
+         "--no-default-browser-check",
+         "--host-resolver-rules=MAP * ~NOTFOUND, EXCLUDE localhost, EXCLUDE 127.0.0.1",
+         "--proxy-server=http://127.0.0.1:9", "--proxy-bypass-list=localhost;127.0.0.1"]
+
 import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]

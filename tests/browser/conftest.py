@@ -15,15 +15,9 @@ from pathlib import Path
 
 import pytest
 
-CHROMIUM = os.environ.get("SOLSPHERE_CHROMIUM", "/usr/bin/chromium")
+from appharness import CHROMIUM, FLAGS
+
 ARTEFACTS = Path(__file__).resolve().parents[1] / "artefacts"
-#: Flags that keep every request of the browser on loopback (BROWSER-TESTING.md).
-FLAGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
-         "--disable-background-networking", "--disable-component-update", "--disable-sync",
-         "--disable-quic", "--disable-extensions", "--disable-default-apps", "--no-first-run",
-         "--no-default-browser-check",
-         "--host-resolver-rules=MAP * ~NOTFOUND, EXCLUDE localhost, EXCLUDE 127.0.0.1",
-         "--proxy-server=http://127.0.0.1:9", "--proxy-bypass-list=localhost;127.0.0.1"]
 #: Console messages that are the software renderer talking, not the app failing.
 BENIGN = ("GL Driver Message", "willReadFrequently", "GPU stall")
 

@@ -39,15 +39,10 @@ from importlib.resources import files
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-CHROMIUM = os.environ.get("SOLSPHERE_CHROMIUM", "/usr/bin/chromium")
-#: Chromium flags that keep every request on loopback (as tests/browser/conftest.py).
-FLAGS = ["--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
-         "--disable-background-networking", "--disable-component-update", "--disable-sync",
-         "--disable-quic", "--disable-extensions", "--disable-default-apps", "--no-first-run",
-         "--no-default-browser-check",
-         "--host-resolver-rules=MAP * ~NOTFOUND, EXCLUDE localhost, EXCLUDE 127.0.0.1",
-         "--proxy-server=http://127.0.0.1:9", "--proxy-bypass-list=localhost;127.0.0.1"]
+from appharness import CHROMIUM, FLAGS  # noqa: E402
+
 TARGETS = {"first_load_ms": 2000.0, "tab_ms": 300.0, "refit_ms": 500.0}
 WAIT_MS = 60_000
 
