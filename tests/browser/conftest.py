@@ -9,7 +9,6 @@ uncaught page errors; tests assert there are none.
 from __future__ import annotations
 
 import logging
-import os
 import threading
 from pathlib import Path
 
