@@ -33,7 +33,7 @@ from dash import html, set_props
 from werkzeug.exceptions import HTTPException
 from werkzeug.serving import WSGIRequestHandler
 
-from solsphere.errors import numeric_notes
+from solsphere.errors import InputError, SolsphereError, numeric_notes
 from solsphere.limits import clip
 
 from . import ids
@@ -84,9 +84,13 @@ def content_security_policy(script_hashes=()) -> str:
 def callback_error_message(exc: BaseException) -> str:
     """The one line the page shows when a callback fails.
 
+    >>> callback_error_message(InputError("too busy; try again.", setting="max_jobs"))
+    'too busy; try again.'
     >>> callback_error_message(TypeError("bad rows"))
     "This request could not be used (TypeError: 'bad rows'); nothing was changed. Reload the page if it keeps happening."
     """
+    if isinstance(exc, SolsphereError):  # a refusal of ours says what to do itself
+        return clip(str(exc), 300, quote=False)
     return (f"This request could not be used ({type(exc).__name__}: "
             f"{clip(str(exc), 120)}); nothing was changed. Reload the page if it keeps "
             f"happening.")

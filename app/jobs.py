@@ -7,6 +7,13 @@ result in a ``diskcache`` folder on disk. The folder is made once, when the app 
 created, before ``solsphere app --workers N`` forks its worker processes (gunicorn's
 ``preload_app``): every worker of the machine sees the same jobs, so a progress poll or
 a cancel answered by another worker than the one that started the job still finds it.
+
+Jobs are processes, so their number is bounded: at most :func:`default_max_jobs` (one
+per core) run at once on the machine, counted across the workers in the same folder; a
+request for one more gets a one-line message in the page (try again in a moment), and a
+lab server's operator raises the bound with ``solsphere app --max-jobs N``. Without the
+bound, a page (or a script) asking for jobs over and over would start a process for
+each, and the machine would stall.
 """
 
 from __future__ import annotations
@@ -17,6 +24,8 @@ import shutil
 import tempfile
 import time
 
+from solsphere.errors import InputError
+
 #: Seconds a finished job's result is kept for its page to fetch.
 EXPIRE_S = 600
 #: How often the page asks for progress [ms] (Dash's default is 1000).
@@ -25,27 +34,82 @@ POLL_MS = 300
 PROGRESS_EVERY_S = 0.15
 
 
-def manager(folder: str | None = None):
+#: Cache key of the running jobs' process ids (shared by the workers).
+RUNNING_KEY = "solsphere-running-jobs"
+#: Longest time a job's process may take to start [s] (its slot is held meanwhile).
+STARTING_S = 30.0
+
+
+def default_max_jobs() -> int:
+    """Background jobs allowed at once by default: one per core (at least 2)."""
+    return max(2, os.cpu_count() or 1)
+
+
+def busy_message(limit: int) -> str:
+    """The line a refused job shows.
+
+    >>> busy_message(2)
+    'The server is already running 2 long computations, its limit; try again in a moment (a lab server raises the limit with solsphere app --max-jobs N).'
+    """
+    return (f"The server is already running {limit} long computations, its limit; try "
+            f"again in a moment (a lab server raises the limit with solsphere app "
+            f"--max-jobs N).")
+
+
+def manager(folder: str | None = None, max_jobs: int | None = None):
     """A ``dash.DiskcacheManager`` on ``folder`` (default: a new private temporary
-    folder, removed when the process that made it exits).
+    folder, removed when the process that made it exits) that runs at most
+    ``max_jobs`` jobs at once (default :func:`default_max_jobs`).
 
     Returns
     -------
     dash.DiskcacheManager
     """
     import diskcache  # deferred: only the app needs it
+    import psutil  # deferred: a dependency of Dash's job manager
     from dash import DiskcacheManager
 
-    if folder is None:
-        folder = tempfile.mkdtemp(prefix="solsphere-jobs-")
-        owner = os.getpid()
+    limit = default_max_jobs() if max_jobs is None else int(max_jobs)
+    if limit < 1:
+        raise InputError(f"--max-jobs must be at least 1, found {limit}.",
+                         file="<command line>", hint="e.g. --max-jobs 2")
 
-        def remove():  # only the process that made it (forked workers exit too)
-            if os.getpid() == owner:
-                shutil.rmtree(folder, ignore_errors=True)
+    def alive(entry) -> bool:
+        """A job still running: [pid, start time]; a slot taken a moment ago whose
+        process is still starting has pid None."""
+        pid, started = entry
+        if pid is None:
+            return time.time() - started < STARTING_S
+        try:
+            return psutil.Process(pid).status() != psutil.STATUS_ZOMBIE
+        except psutil.Error:
+            return False
 
-        atexit.register(remove)
-    return DiskcacheManager(diskcache.Cache(folder), expire=EXPIRE_S)
+    class BoundedManager(DiskcacheManager):
+        """Dash's manager, refusing a job while ``limit`` are running."""
+
+        max_jobs = limit
+
+        def call_job_fn(self, key, job_fn, args, context):
+            slot = [None, time.time()]
+            with self.handle.transact():  # one worker at a time counts and takes a slot
+                running = [e for e in self.handle.get(RUNNING_KEY, []) if alive(e)]
+                if len(running) >= limit:
+                    self.handle.set(RUNNING_KEY, running)
+                    raise InputError(busy_message(limit), setting="max_jobs")
+                self.handle.set(RUNNING_KEY, running + [slot])
+            pid = None
+            try:
+                pid = super().call_job_fn(key, job_fn, args, context)
+                return pid
+            finally:  # the slot becomes the process (or is freed if it did not start)
+                with self.handle.transact():
+                    running = [e for e in self.handle.get(RUNNING_KEY, []) if e != slot]
+                    if pid:
+                        running.append([pid, slot[1]])
+                    self.handle.set(RUNNING_KEY, [e for e in running if alive(e)])
+
+    return BoundedManager(diskcache.Cache(folder), expire=EXPIRE_S)
 
 
 class Reporter:

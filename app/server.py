@@ -62,7 +62,7 @@ def initial_state(path=None, library=None) -> dict | None:
     return logic.project_state(project, Path(path).name)
 
 
-def create_app(path=None, initial: dict | None = None):
+def create_app(path=None, initial: dict | None = None, max_jobs: int | None = None):
     """A new Dash app, optionally opened on a project or results file.
 
     Parameters
@@ -71,6 +71,8 @@ def create_app(path=None, initial: dict | None = None):
         File to open (see :func:`initial_state`).
     initial : dict or None
         An already computed initial state (overrides ``path``).
+    max_jobs : int or None
+        Background jobs allowed at once (default: :func:`jobs.default_max_jobs`).
 
     Returns
     -------
@@ -87,7 +89,7 @@ def create_app(path=None, initial: dict | None = None):
     assets = Path(__file__).with_name("assets")
     app = dash.Dash(__name__, title="solsphere", assets_folder=str(assets),
                     serve_locally=True, update_title=None, on_error=guard.on_callback_error,
-                    background_callback_manager=jobs.manager())
+                    background_callback_manager=jobs.manager(max_jobs=max_jobs))
     app.server.config["MAX_CONTENT_LENGTH"] = MAX_REQUEST_BYTES
     app.layout = build_layout(initial, library, has_demo=_demo_installed())
     register_callbacks(app, _library)
@@ -121,7 +123,8 @@ def network_warning(host: str, port: int) -> str | None:
             f"Use --host 127.0.0.1 to keep it on this computer.")
 
 
-def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1) -> None:
+def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1,
+          max_jobs: int | None = None) -> None:
     """Serve the app until interrupted.
 
     Parameters
@@ -136,6 +139,9 @@ def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1
         processes on the same port (gunicorn, Unix only; the app is loaded once, before
         the fork), so several users at once use several cores. Without gunicorn this
         says so and serves with one process.
+    max_jobs : int or None
+        Long computations (bootstrap, posterior, next trials, blend screens) running at
+        once on the machine, all workers together (default: one per core, at least 2).
 
     Raises
     ------
@@ -152,7 +158,7 @@ def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1
             print(f"solsphere: note: --workers {workers} needs {missing}; serving with one "
                   f"process instead.", file=sys.stderr)
             workers = 1
-    app = create_app(path)
+    app = create_app(path, max_jobs=max_jobs)
     warning = network_warning(host, port)
     if warning:
         print(warning, file=sys.stderr)

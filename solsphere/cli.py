@@ -69,6 +69,8 @@ def _at_most(maximum: int, what: str):
 _port = _at_most(65535, "(a port number)")
 #: --workers: about one per core is enough.
 _workers = _at_most(64, "worker processes")
+#: --max-jobs: each job is a process.
+_jobs = _at_most(256, "background jobs")
 
 
 def _number(text: str) -> float:
@@ -380,6 +382,10 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--workers", type=_workers, default=1, metavar="N",
                    help="worker processes (default 1); for a shared lab server use about "
                         "one per core, e.g. 2 (needs gunicorn, Unix only)")
+    p.add_argument("--max-jobs", type=_jobs, default=None, metavar="N",
+                   help="long computations (bootstrap, posterior, next trials, blend "
+                        "screens) running at once, all users together (default: one per "
+                        "core, at least 2); one more is refused with a message to try again")
     _add_limits(p)
     return parser
 

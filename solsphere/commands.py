@@ -471,7 +471,8 @@ def _check_share_target(path: str) -> None:
 def cmd_app(args) -> int:
     from solsphere.app.server import serve  # deferred: dash and the app are heavy to import
 
-    serve(args.file, host=args.host, port=args.port, workers=args.workers)
+    serve(args.file, host=args.host, port=args.port, workers=args.workers,
+          max_jobs=args.max_jobs)
     return 0
 
 

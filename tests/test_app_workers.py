@@ -297,3 +297,40 @@ def test_callbacks_leave_module_state_alone(lib, projects):
             if [x["id"] for x in d["inputs"]][:1] == ["fit-store"]:
                 call(d, {"fit-store.data": res}, "fit-store.data")
     assert _module_state() == before
+
+
+def _sleeper(*_args):
+    import time
+    time.sleep(30)
+
+
+def test_background_jobs_are_bounded_across_workers(tmp_path):
+    # two managers on one folder stand for two workers of one server
+    from solsphere.app import jobs
+    from solsphere.errors import InputError
+
+    a = jobs.manager(str(tmp_path), max_jobs=2)
+    b = jobs.manager(str(tmp_path), max_jobs=2)
+    started = []
+    try:
+        started.append(a.call_job_fn("k1", _sleeper, (), {}))
+        started.append(b.call_job_fn("k2", _sleeper, (), {}))
+        with pytest.raises(InputError) as exc:
+            a.call_job_fn("k3", _sleeper, (), {})
+        assert str(exc.value) == jobs.busy_message(2)
+        assert "--max-jobs" in str(exc.value)
+        a.terminate_job(started.pop(0))  # one ends: a slot is free again, for either
+        started.append(b.call_job_fn("k4", _sleeper, (), {}))
+        assert len(set(started)) == 2
+    finally:
+        for pid in started:
+            a.terminate_job(pid)
+
+
+def test_max_jobs_option_reaches_the_app_and_refuses_nonsense():
+    from solsphere.app.server import create_app
+    app = create_app(None, initial={}, max_jobs=3)
+    managers = [v for v in vars(app).values() if hasattr(v, "call_job_fn")]
+    assert [m.max_jobs for m in managers] == [3]
+    code, out, err = run_cli(["app", "--max-jobs", "0"])
+    assert code == 2 and "--max-jobs" in err and "Traceback" not in err
