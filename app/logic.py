@@ -690,15 +690,6 @@ def map_figure(result: dict | None, library, show_untried: bool = True,
                          cloud=cloud if cloud else None)
 
 
-def planes_figure(result: dict | None, blends: list | None = None):
-    """The three 2D projections of the stored fit (``solsphere.figures.projections``)."""
-    fit = (result or {}).get("fit")
-    if not fit:
-        return empty_figure("", height=300)
-    blends, _ = _current(fit, blends)
-    return figures.projections(fit, blends=blends or None, height=300)
-
-
 def inputs_key(*values) -> str:
     """A short fingerprint of a screen's inputs: a screen shown again with the same
     inputs keeps what it shows instead of computing it again (fast tab switches).

@@ -70,10 +70,18 @@ def payloads(client: Client, small_fit: dict) -> list[tuple[str, dict, dict, str
     fit_dep = client.dep
     open_dep = client.dependency("results-table.data", "open-payload")
     boot_dep = client.dependency("boot-store.data")
-    blend_dep = client.dependency("blend-table.data")
-    blend_base = {"fit-store.data": small_fit, "tabs.value": "blends", "blend-pool.value":
-                  "library", "blend-components.value": 2, "blend-rank.value": "red",
-                  "blend-top.value": 15, "blend-common.value": []}
+    # the blend screen is a background job fed by a quick check in the request; an
+    # attacker skips the check and sends the job its arguments directly
+    blend_dep = client.dependency("blend-table.rowData", "blend-request")
+    base_args = {"pool": "all", "shelf": None, "ticked": [], "min_fp": None, "max_bp": None,
+                 "min_bp": None, "min_twa": None, "no_carc": [], "exclude": None,
+                 "restricted": None, "components": 2, "max_frac": None, "min_frac": None,
+                 "temperature": None, "rank_by": "red", "top": 15}
+
+    def blend(**args):
+        return {"blend-request.data": {"key": "attack", "args": dict(base_args, **args)},
+                "fit-store.data": small_fit}
+
     header = "solvent,outcome,dd" + " " * 700 + "x\nacetone,good,\ntoluene,bad,\nhexane,bad,\n"
     names = [{"solvent": f"madeup{i}qz", "outcome": "dissolves"} for i in range(1000)]
     own = [{"solvent": f"own{i}", "outcome": "dissolves" if i % 3 else "does not",
@@ -86,9 +94,7 @@ def payloads(client: Client, small_fit: dict) -> list[tuple[str, dict, dict, str
          {"open-payload.data": {"contents": data_url(header), "filename": "h.csv"}},
          "open-payload.data"),
         ("fraction-field-spaces", blend_dep,
-         dict(blend_base, **{"blend-components.value": 3,
-                             "blend-max-frac.value": "a" + " " * 2500 + "x"}),
-         "blend-max-frac.value"),
+         blend(components=3, max_frac="a" + " " * 2500 + "x"), "blend-request.data"),
         ("1000-unknown-names", fit_dep,
          {"results-table.data": names, "partial-choice.value": "good"}, "results-table.data"),
         ("10000-own-rows", fit_dep,
@@ -96,18 +102,16 @@ def payloads(client: Client, small_fit: dict) -> list[tuple[str, dict, dict, str
         ("bootstrap-1000rows-x2000", boot_dep,
          {"boot-button.n_clicks": 1, "fit-store.data": fit_table(), "boot-n.value": 2000,
           "boot-method.value": "classic"}, "boot-button.n_clicks"),
-        ("blend-top-20000", blend_dep, dict(blend_base, **{"blend-top.value": 20_000}),
-         "blend-top.value"),
+        ("blend-top-20000", blend_dep, blend(top=20_000), "blend-request.data"),
         ("shelf-10000", blend_dep,
-         dict(blend_base, **{"blend-pool.value": "shelf", "shelf-payload.data":
-                             {"contents": data_url(shelf), "filename": "shelf.csv"}}),
-         "shelf-payload.data"),
+         blend(pool="shelf", shelf={"contents": data_url(shelf), "filename": "shelf.csv"}),
+         "blend-request.data"),
         ("blend-part-400-digits", fit_dep,
          {"results-table.data": [{"solvent": "toluene " + "9" * 400 + " + ethanol 1",
                                   "outcome": "dissolves"}], "partial-choice.value": "good"},
          "results-table.data"),
-        ("temperature-1e308", blend_dep, dict(blend_base, **{"blend-temperature.value": 1e308}),
-         "blend-temperature.value"),
+        ("temperature-1e308", blend_dep, blend(temperature=1e308), "blend-request.data"),
+        ("three-solvent-screens", blend_dep, blend(components=3), "blend-request.data"),
         ("project-nested-100k", open_dep,
          {"open-payload.data": {"contents": data_url(nested, "application/json"),
                                 "filename": "p.json"}}, "open-payload.data"),
