@@ -24,6 +24,8 @@ import shutil
 import tempfile
 import time
 
+import psutil
+
 from solsphere.errors import InputError
 
 #: Seconds a finished job's result is kept for its page to fetch.
@@ -66,7 +68,6 @@ def manager(folder: str | None = None, max_jobs: int | None = None):
     dash.DiskcacheManager
     """
     import diskcache  # deferred: only the app needs it
-    import psutil  # deferred: a dependency of Dash's job manager
     from dash import DiskcacheManager
 
     limit = default_max_jobs() if max_jobs is None else int(max_jobs)
@@ -109,6 +110,15 @@ def manager(folder: str | None = None, max_jobs: int | None = None):
                         running.append([pid, slot[1]])
                     self.handle.set(RUNNING_KEY, [e for e in running if alive(e)])
 
+    if folder is None:
+        folder = tempfile.mkdtemp(prefix="solsphere-jobs-")
+        owner = os.getpid()
+
+        def remove():  # only the process that made it (forked workers exit too)
+            if os.getpid() == owner:
+                shutil.rmtree(folder, ignore_errors=True)
+
+        atexit.register(remove)
     return BoundedManager(diskcache.Cache(folder), expire=EXPIRE_S)
 
 

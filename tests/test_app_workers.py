@@ -169,7 +169,7 @@ def fake_serving(monkeypatch):
     """serve() with the app, the socket and gunicorn replaced by recorders."""
     from solsphere.app import server
     calls = []
-    monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp(calls))
+    monkeypatch.setattr(server, "create_app", lambda path=None, **_: _FakeApp(calls))
     monkeypatch.setattr(server, "listen_socket",
                         lambda host, port: calls.append(("bind", host, port)) or "sock")
     monkeypatch.setattr(server, "_serve_workers",
@@ -211,7 +211,7 @@ def test_without_gunicorn_it_says_so_and_serves_with_one_process(fake_serving, m
 
 def test_a_busy_port_is_one_line_and_exit_2(monkeypatch):
     from solsphere.app import server
-    monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp([]))
+    monkeypatch.setattr(server, "create_app", lambda path=None, **_: _FakeApp([]))
     with socket.socket() as taken:
         taken.bind(("127.0.0.1", 0))
         taken.listen(1)

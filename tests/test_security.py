@@ -77,7 +77,7 @@ class _FakeApp:
 def test_the_command_warns_on_public_binding(argv, warned, monkeypatch):
     from solsphere.app import server
     calls = []
-    monkeypatch.setattr(server, "create_app", lambda path=None: _FakeApp(calls))
+    monkeypatch.setattr(server, "create_app", lambda path=None, **_: _FakeApp(calls))
     rc, out, err = run(argv)
     assert rc == 0, err
     assert calls and calls[0]["host"] == (argv[2] if len(argv) > 2 else "127.0.0.1")
