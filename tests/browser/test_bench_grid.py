@@ -118,9 +118,9 @@ def test_a_bad_cell_is_marked_with_its_reason_and_fixed_in_one_click(page, artef
     assert page.locator(f"#{GRID} .ag-cell.bench-bad").count() == 1
     tip = hover_tip(page, bad, "chlorofrom")
     assert "chlorofrom" in tip and "unknown solvent" in tip
+    page.screenshot(path=str(artefacts / "22-bench-grid-bad-cell.png"))
     # a good row says its RED on hover
     assert "RED" in hover_tip(page, cell(page, 0, "solvent"), "RED")
-    page.screenshot(path=str(artefacts / "22-bench-grid-bad-cell.png"))
     assert "Did you mean" in page.inner_text("#problems")
     before = counts(page)
     page.locator("#problems button", has_text="chloroform").first.click()
