@@ -13,8 +13,9 @@ from solsphere.workflows import DEFAULT_RANK
 from dash import Input, Output, State, ctx, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import blendlogic, ids, logic
+from . import blendlogic, ids, jobs, logic
 from .bench import CHECK_UPLOAD_JS
+from .sphere import HIDE, SHOW, progress_box
 from .share import caution_line
 from .grids import clicked_row, column, grid
 
@@ -141,11 +142,13 @@ def panel(library):
         ]),
         constraints(),
         caution_line("blend-caution"),
+        progress_box("bl"),
         html.Div(id="blend-message", className="message"),
         html.Ul(id="blend-notes", className="notes"),
         grid("blend-table", COLUMNS, page_size=10, csv_name="blends.csv"),
         html.Div(id="blend-detail", className="detail"),
         dcc.Store(id="blend-key"),
+        dcc.Store(id="blend-request"),
         html.Button("Clear the blend from the map", id="clear-blend", className="btn btn-quiet"),
     ])
 
@@ -197,11 +200,7 @@ def register(app, get_library):
         text = files("solsphere.data").joinpath("restricted_example.csv").read_text("utf-8")
         return dict(content=text, filename="restricted_example.csv", type="text/csv")
 
-    @app.callback(Output("blend-table", "rowData"), Output("blend-key", "data"),
-                  Output("blend-message", "children"),
-                  Output("blend-caution", "children"),
-                  Output("blend-detail", "children", allow_duplicate=True),
-                  Output("blend-table", "columnDefs"), Output("blend-notes", "children"),
+    @app.callback(Output("blend-request", "data"),
                   Input(ids.FIT, "data"), Input(ids.SHOWN["blends"], "data"), Input("blend-pool", "value"),
                   Input(ids.SHELF_PAYLOAD, "data"), Input("blend-ticked", "value"),
                   Input("blend-min-fp", "value"), Input("blend-max-bp", "value"),
@@ -211,29 +210,59 @@ def register(app, get_library):
                   Input("blend-max-frac", "value"), Input("blend-min-frac", "value"),
                   Input("blend-temperature", "value"), Input("blend-rank", "value"),
                   Input("blend-top", "value"),
-                  State("blend-key", "data"), State(ids.TABS, "value"),
-                  prevent_initial_call="initial_duplicate")
-    def update(result, _shown, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
-               exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top,
-               seen, tab):
+                  State("blend-key", "data"), State(ids.TABS, "value"))
+    def plan(result, _shown, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa, no_carc,
+             exclude, restricted, components, max_frac, min_frac, temperature, rank_by, top,
+             seen, tab):
+        """A quick check in the request: whether the screen needs computing (shown, with
+        inputs other than those of what it shows). Only then the background job starts,
+        so a tab switch back to the screen costs no job."""
         if result is None or tab != "blends":
             raise PreventUpdate  # computed only while the screen is shown
-        key = logic.inputs_key(result, pool, shelf, ticked, min_fp, max_bp, min_bp, min_twa,
-                               no_carc, exclude, restricted, components, max_frac, min_frac,
-                               temperature, rank_by, top)
+        args = dict(pool=pool, shelf=shelf, ticked=ticked, min_fp=min_fp, max_bp=max_bp,
+                    min_bp=min_bp, min_twa=min_twa, no_carc=no_carc, exclude=exclude,
+                    restricted=restricted, components=components, max_frac=max_frac,
+                    min_frac=min_frac, temperature=temperature, rank_by=rank_by, top=top)
+        key = logic.inputs_key(result, *args.values())
         if key == seen:
             raise PreventUpdate  # shown again with the same inputs: keep what it shows
-        if pool == "shelf" and shelf and shelf.get("too_big"):
-            return ([], None, logic.too_big_message(shelf.get("filename"), shelf["too_big"]),
+        return {"key": key, "args": args}
+
+    @app.callback(Output("blend-table", "rowData"), Output("blend-key", "data"),
+                  Output("blend-message", "children"),
+                  Output("blend-caution", "children"),
+                  Output("blend-detail", "children", allow_duplicate=True),
+                  Output("blend-table", "columnDefs"), Output("blend-notes", "children"),
+                  Input("blend-request", "data"), State(ids.FIT, "data"),
+                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
+                  running=[(Output("bl-progress-box", "style"), SHOW, HIDE)],
+                  progress=[Output("bl-progress", "value"), Output("bl-progress-text",
+                                                                   "children")],
+                  progress_default=["0", ""],
+                  cancel=[Input("bl-cancel", "n_clicks")])
+    def update(set_progress, request, result):
+        """The screen itself, as a background job (a three-solvent screen of every
+        liquid takes seconds): a progress bar and a cancel button, the page responsive."""
+        if not request or result is None:
+            raise PreventUpdate
+        a = request["args"]
+        shelf = a["shelf"]
+        if a["pool"] == "shelf" and shelf and shelf.get("too_big"):
+            return ([], request["key"], logic.too_big_message(shelf.get("filename"),
+                                                              shelf["too_big"]),
                     logic.caution_text(), None, columns(False), [])
+        n = int(a["components"] or 2)
+        set_progress((None, f"screening the {'pairs' if n == 2 else 'three-solvent blends'} "
+                            "of the pool (no step count)…"))
         out = blendlogic.blend_designer(
-            result, get_library(), pool_choice=pool, shelf=shelf, ticked=ticked,
-            exclude=exclude, min_flash_point=min_fp, max_boiling_point=max_bp,
-            min_boiling_point=min_bp, min_exposure_limit=min_twa,
-            no_carcinogens=bool(no_carc), restricted=restricted,
-            components=int(components or 2), max_fraction=max_frac, min_fraction=min_frac,
-            temperature=temperature, rank_by=rank_by or DEFAULT_RANK, top=int(top or 15))
-        return (out["blends"], key, out["message"], out["caution"], None,
+            result, get_library(), pool_choice=a["pool"], shelf=shelf, ticked=a["ticked"],
+            exclude=a["exclude"], min_flash_point=a["min_fp"], max_boiling_point=a["max_bp"],
+            min_boiling_point=a["min_bp"], min_exposure_limit=a["min_twa"],
+            no_carcinogens=bool(a["no_carc"]), restricted=a["restricted"],
+            components=n, max_fraction=a["max_frac"], min_fraction=a["min_frac"],
+            temperature=a["temperature"], rank_by=a["rank_by"] or DEFAULT_RANK,
+            top=int(a["top"] or 15))
+        return (out["blends"], request["key"], out["message"], out["caution"], None,
                 columns(out["has_price"]), [html.Li(n) for n in out["notes"]])
 
     @app.callback(Output(ids.BLEND, "data"), Output("blend-detail", "children"),

@@ -14,6 +14,10 @@ sends: security headers, a body-size limit per callback, and a message in the pa
   :data:`UPLOAD_REQUEST_BYTES`; every other callback :data:`CALLBACK_BYTES` (a results
   table of :mod:`solsphere.limits`' maximum rows fits easily). Larger requests are
   answered 413 with a one-line reason before the body is read.
+- **Numbers.** Every callback runs under :func:`solsphere.errors.numeric_notes`: a
+  floating-point complaint of numpy (overflow, division by zero) becomes one line in
+  the server's log, never a numpy trace (the fit's own notes are shown in the page with
+  its warnings).
 - **Errors.** A callback that raises (a hand-made request with rows as a number, a
   filename as a list ...) answers with a one-line message in the page's notice area;
   the server logs one line and keeps serving.
@@ -21,6 +25,7 @@ sends: security headers, a body-size limit per callback, and a message in the pa
 
 from __future__ import annotations
 
+import functools
 import json
 
 import flask
@@ -28,6 +33,7 @@ from dash import html, set_props
 from werkzeug.exceptions import HTTPException
 from werkzeug.serving import WSGIRequestHandler
 
+from solsphere.errors import numeric_notes
 from solsphere.limits import clip
 
 from . import ids
@@ -96,6 +102,26 @@ def on_callback_error(exc: BaseException):
     return None  # no update of the callback's own outputs
 
 
+def quiet_numbers(func, logger):
+    """``func`` run under :func:`~solsphere.errors.numeric_notes`; each note becomes one
+    warning line in ``logger`` (safe in the server's threads).
+
+    >>> import logging, numpy as np
+    >>> f = quiet_numbers(lambda x: np.float64(x) / 0.0, logging.getLogger("t"))
+    >>> float(f(1.0))
+    inf
+    """
+    @functools.wraps(func)
+    def run(*args, **kwargs):
+        with numeric_notes() as notes:
+            out = func(*args, **kwargs)
+        for note in notes:
+            logger.warning("note: %s", note)
+        return out
+
+    return run
+
+
 def limit_for(body) -> int:
     """The size limit of the callback a (parsed) request body is for: the upload limit
     when its inputs carry an uploaded file, else :data:`CALLBACK_BYTES`.
@@ -121,6 +147,9 @@ def install(app) -> None:
     inline scripts they add)."""
     server = app.server
     policy = content_security_policy(sorted(set(app.csp_hashes())))
+    for entry in app.callback_map.values():
+        if callable(entry.get("callback")):
+            entry["callback"] = quiet_numbers(entry["callback"], server.logger)
 
     @server.before_request
     def limit_callback_bodies():

@@ -29,7 +29,7 @@ from importlib.resources import files
 from pathlib import Path
 
 from solsphere.design.ranking import CAUTION, rank_solvents
-from solsphere.errors import FitError, InputError, SolsphereError
+from solsphere.errors import FitError, InputError, SolsphereError, numeric_notes
 from solsphere.formatting import num, split_names
 from solsphere.io import trials as T
 from solsphere.io.project import Project, load_any, save
@@ -164,11 +164,14 @@ def compute_fit(rows, partial: str, library) -> dict:
                             f"dissolves, does not or left out (partial good/bad/skip).")
         return out
     try:
-        fit = fit_project(Project(trials, {"partial": partial}), partial=partial,
-                          library=library)
+        with numeric_notes() as notes:  # shown with the warnings, never a numpy trace
+            fit = fit_project(Project(trials, {"partial": partial}), partial=partial,
+                              library=library)
     except FitError as exc:
         out["fit_error"] = str(exc)
         return out
+    finally:
+        out["warnings"] += notes
     out["fit"] = fit.to_dict()
     return out
 

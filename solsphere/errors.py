@@ -14,6 +14,7 @@ front end parses an error's text.
 from __future__ import annotations
 
 import contextlib
+import threading
 import warnings as _warnings
 
 
@@ -131,30 +132,49 @@ class AmbiguousNameError(UnknownSolventError):
 
 @contextlib.contextmanager
 def numeric_notes():
-    """Collect numpy's RuntimeWarnings (overflow, division by zero, invalid values) as
-    one-line notes for the report instead of letting them reach the terminal.
+    """Collect numpy's floating-point complaints (overflow, division by zero, invalid
+    values) and RuntimeWarnings as one-line notes for the report instead of letting them
+    reach the terminal or a server's log as numpy traces.
 
-    Yields a list that holds, after the block, one note per distinct warning.
+    Safe in threads (the app answers requests in threads): numpy's floating-point
+    errors are caught through its per-thread error handler (``numpy.errstate``), and
+    Python's warning filters, which are shared by all threads, are changed only in the
+    main thread (the command line).
+
+    Yields a list that holds, after the block, one note per distinct complaint.
 
     >>> import numpy as np
     >>> with numeric_notes() as notes:
     ...     _ = np.array([1.0]) / 0.0
     >>> notes
-    ['a numerical step reported: divide by zero encountered in divide; check the results it concerns']
+    ['a numerical step reported: divide by zero; check the results it concerns']
     """
+    import numpy as np  # deferred: the command line's --help needs no numpy
+
     notes: list[str] = []
-    with _warnings.catch_warnings(record=True) as caught:
-        _warnings.simplefilter("always", RuntimeWarning)
-        try:
+    seen: set[str] = set()
+
+    def note(text: str) -> None:
+        text = " ".join(str(text).split())[:200]
+        if text not in seen:
+            seen.add(text)
+            notes.append(f"a numerical step reported: {text}; check the results it concerns")
+
+    def on_float_error(kind: str, _flag: int) -> None:
+        note(kind)
+
+    caught: list = []
+    try:
+        with contextlib.ExitStack() as stack:
+            stack.enter_context(np.errstate(divide="call", over="call", invalid="call",
+                                            under="ignore", call=on_float_error))
+            if threading.current_thread() is threading.main_thread():
+                caught = stack.enter_context(_warnings.catch_warnings(record=True))
+                _warnings.simplefilter("always", RuntimeWarning)
             yield notes
-        finally:
-            seen = set()
-            for w in caught:
-                if not issubclass(w.category, RuntimeWarning):
-                    _warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
-                    continue
-                text = " ".join(str(w.message).split())[:200]
-                if text not in seen:
-                    seen.add(text)
-                    notes.append(f"a numerical step reported: {text}; check the results "
-                                 f"it concerns")
+    finally:  # the filters are restored: other warnings go on as they would have
+        for w in caught:
+            if issubclass(w.category, RuntimeWarning):
+                note(w.message)
+            else:
+                _warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)

@@ -112,6 +112,31 @@ def test_misfit_rows_are_shaded(lib):
     assert logic.summary(res)["misfits"]
 
 
+def test_a_numerical_complaint_of_the_fit_is_a_warning_line_not_a_trace(demo, lib, monkeypatch,
+                                                                       capfd):
+    import threading
+
+    import numpy as np
+
+    real = logic.fit_project
+
+    def complaining_fit(*args, **kwargs):
+        np.array([1.0]) / np.array([0.0])  # as a degenerate step inside the fit would
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(logic, "fit_project", complaining_fit)
+    got = {}
+    # in a thread, as the app's server answers requests
+    t = threading.Thread(target=lambda: got.update(r=logic.compute_fit(demo["rows"], "good", lib)))
+    t.start()
+    t.join()
+    r = got["r"]
+    assert r["fit"] is not None
+    assert "a numerical step reported: divide by zero; check the results it concerns" in r["warnings"]
+    assert any("divide by zero" in w for w in logic.summary(r)["warnings"])
+    assert "RuntimeWarning" not in capfd.readouterr().err
+
+
 def test_no_fit_yet_says_what_to_do(lib):
     res = logic.compute_fit([logic.blank_row()] * 3, "good", lib)
     assert res["fit"] is None and "No bench results" in res["fit_error"]

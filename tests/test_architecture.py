@@ -32,8 +32,10 @@ LAYERS = (
 DEFERRABLE = ("plotly", "dash", "dash_ag_grid", "scipy.stats", "rdkit", "thermo", "gunicorn",
               "pandas", "sklearn", "kaleido", "openpyxl", "python_calamine", "odf", "emcee",
               "diskcache", "solsphere.app", "solsphere.commands", "solsphere.report.share",
-              "solsphere.estimate", "chemicals")
+              "solsphere.estimate", "chemicals", "numpy")
 # (solsphere.estimate loads RDKit and chemicals its identifier database: optional extras)
+# (numpy: solsphere.errors, which the command line loads for --help, needs it only while
+# a command runs)
 
 
 def _module_name(path: Path) -> str:

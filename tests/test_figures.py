@@ -56,13 +56,14 @@ def fig3():
     return figures.map3d(FIT, untried=UNTRIED_ROWS, blends=BLENDS)
 
 
-def test_sphere_surface(fig3):
-    s = [t for t in fig3.data if t.type == "surface"]
+def test_sphere_wireframe(fig3):
+    s = [t for t in fig3.data if t.name == "sphere"]
     assert len(s) == 1
     s = s[0]
-    assert s.opacity == pytest.approx(0.15)
-    assert {c[1] for c in s.colorscale} == {SPHERE}
-    x, y, z = (np.asarray(a, dtype=float) for a in (s.x, s.y, s.z))
+    assert s.type == "scatter3d" and s.mode == "lines" and s.line.color == SPHERE
+    assert s.hoverinfo == "skip"
+    x, y, z = (np.array([v for v in a if v is not None], dtype=float) for a in (s.x, s.y, s.z))
+    assert list(s.x).count(None) == 11  # 6 meridians and 5 parallels, each its own line
     # an ellipsoid with δD semi-axis R0/2: in scaled space (2δD, δP, δH) every point is R0 away
     d = np.sqrt(4 * (x - 17.0) ** 2 + (y - 6.0) ** 2 + (z - 6.0) ** 2)
     assert np.allclose(d, 5.0)
@@ -143,7 +144,8 @@ def test_empty_untried_partial_outcomes_no_misfits_no_blends():
     names = [t.name for t in fig.data]
     assert "untried" not in names and "partly" not in names and "misfits" not in names
     assert "dissolves" in names and "does not" in names
-    assert not [t for t in fig.data if getattr(t, "mode", None) == "lines"]
+    assert not [t for t in fig.data if getattr(t, "mode", None) == "lines"
+                and t.name != "sphere"]  # no blend segments, no drying paths
     json.loads(fig.to_json())
 
 

@@ -164,6 +164,31 @@ def test_bootstrap_runs_in_the_background_with_progress_and_cancel(page):
     assert_clean_console(page)
 
 
+def test_blend_screen_runs_in_the_background_with_progress_and_cancel(page, artefacts):
+    load_demo(page)
+    tab(page, "Blends")
+    page.wait_for_selector("#blend-table .ag-row[row-index='0'] .ag-cell[col-id='label']",
+                           timeout=60_000)
+    pairs = page.inner_text("#blend-message")
+    assert "pairs" in pairs
+    # a three-solvent screen of every liquid takes seconds: the bar shows, then cancel
+    page.locator("#blend-pool label", has_text="all library liquids").click()
+    page.locator("#blend-components label", has_text="3").click()
+    page.wait_for_selector("#bl-progress-box", state="visible", timeout=30_000)
+    page.wait_for_selector("#bl-progress-text:has-text('three-solvent')", timeout=30_000)
+    page.screenshot(path=str(artefacts / "17-blends-running.png"), full_page=True)
+    page.click("#bl-cancel")
+    page.wait_for_selector("#bl-progress-box", state="hidden", timeout=30_000)
+    page.wait_for_timeout(1500)
+    assert page.inner_text("#blend-message") == pairs  # cancelled: the last answer stays
+    # the tab shown again with other inputs than the answer's: it computes, to the end
+    tab(page, "Try next")
+    tab(page, "Blends")
+    page.wait_for_selector("#blend-message:has-text('three-solvent')", timeout=90_000)
+    page.wait_for_selector("#bl-progress-box", state="hidden")
+    assert_clean_console(page)
+
+
 def test_pool_selectors_allow_worse_and_resolved_names(page, artefacts):
     load_demo(page)
     tab(page, "Try next")
