@@ -3,7 +3,7 @@ the grid's marks, its column definitions under the page's content-security polic
 its callbacks called through Dash's HTTP endpoint as the browser calls them.
 
 The browser side (editing, the type-ahead editor, the paste listener, tooltips, the new
-row scrolled into view) is tested in real Chromium in tests/browser/test_bench_grid.py.
+row scrolled into view) is tested in real Chromium in tests/browser/test_results_grid.py.
 """
 
 from __future__ import annotations
