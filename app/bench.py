@@ -1,21 +1,27 @@
-"""'Bench results' screen: the editable table of trials, opening files, the demo.
+"""'Bench results' screen: the editable grid of trials, opening files, the demo.
 
-Type-ahead: the solvent cells of the table are free text (so a blend such as
-``toluene 70 + ethanol 30`` or an own solvent can be typed or pasted), and the
-"Add a result" line above the table has a browser-native type-ahead (a datalist over
-every library name, abbreviation, CAS number and synonym). A name the library does not
-know is marked in place; the list under the table says why and offers the close
-library names as one-click fixes.
+The trials sit in an AG Grid (``dash-ag-grid``) whose ``rowData`` is the one copy of
+the table every screen reads; the sphere refits whenever it changes. Every cell but the
+file line is editable: the solvent is free text (a blend such as
+``toluene 70 + ethanol 30`` or an own solvent with its δD δP δH) typed in an editor
+that offers the page's type-ahead list of library names; the outcome is chosen from
+dissolves / partly / does not. A block of cells copied from a spreadsheet is pasted at
+the clicked cell (:func:`solsphere.app.logic.paste_cells`), and a button per row deletes
+it. Cells the reader cannot use are marked in place with the reason on hover; the list
+under the grid repeats them and offers close library names as one-click fixes. Rows are
+always addressed by their place in the data, never on screen, so sorting or filtering
+the grid never changes which row an edit, a fix or a delete applies to.
+
+The grid's browser-side parts (the editor, the delete button, the marks, the paste
+listener, scrolling to a new row) are in ``assets/dashAgGridComponentFunctions.js``.
 """
 
 from __future__ import annotations
 
-import warnings
-
-from dash import ALL, Input, Output, State, ctx, dcc, html, no_update
+from dash import ALL, ClientsideFunction, Input, Output, State, ctx, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
-from . import ids, logic
+from . import grids, ids, logic
 
 OUTCOME_OPTIONS = [{"label": w, "value": w} for w in ("dissolves", "partly", "does not")]
 #: Clientside size check of an upload: refuses big files before they are sent.
@@ -29,34 +35,6 @@ function(contents, filename) {
     return [{filename: filename, contents: contents, nonce: Date.now()}, null];
 }
 """ % logic.UPLOAD_LIMIT
-
-#: After "Add" or "Add an empty row": once the new row is drawn, scroll the table to it
-#: (new rows go at the end, which was out of sight in a long table).
-SHOW_NEW_ROW_JS = """
-function(a, b, c) {
-    var t = document.getElementById('results-table');
-    if (!t) { return window.dash_clientside.no_update; }
-    var cells = function() { return t.querySelectorAll('td[data-dash-column="solvent"]'); };
-    var before = cells().length, tries = 0;
-    var tick = function() {
-        var now = cells();
-        if (now.length > before || tries++ > 60) {
-            var show = function() {
-                t.querySelectorAll('.dt-table-container__row').forEach(function(el) {
-                    if (el.scrollHeight > el.clientHeight + 4) { el.scrollTop = el.scrollHeight; }
-                });
-                var last = cells();
-                if (last.length) { last[last.length - 1].scrollIntoView({block: 'nearest'}); }
-            };
-            show();
-            // again after the refit's marks redraw the table (later on a busy machine)
-            [300, 800, 1600].forEach(function(ms) { setTimeout(show, ms); });
-        } else { setTimeout(tick, 50); }
-    };
-    setTimeout(tick, 50);
-    return Date.now();
-}
-"""
 
 #: Fills the type-ahead list with plain <option> elements (thousands of names: cheaper
 #: as DOM nodes than as components).
@@ -77,36 +55,86 @@ function(pairs) {
 """
 
 
+#: Widths [px] of the grid's columns (the left panel is at least 560 px wide).
+WIDTHS = {"solvent": 150, "outcome": 100, "dD": 62, "dP": 62, "dH": 62, "note": 110,
+          "line": 50, "delete": 36}
+#: Cell marks: classes set by name-only functions of the asset file (no code from strings).
+_CELL_CLASSES = {"bench-bad": {"function": "benchMarked(params, 'bad')"},
+                 "bench-pending": {"function": "benchMarked(params, 'pending')"},
+                 "bench-misfit": {"function": "benchMarked(params, 'misfit')"}}
+
+
+def _col(field: str, header: str, **extra) -> dict:
+    c = {"field": field, "headerName": header, "width": WIDTHS[field],
+         "minWidth": WIDTHS[field],
+         "cellClassRules": _CELL_CLASSES,
+         "tooltipValueGetter": {"function": "benchTip(params)"}}
+    c.update(extra)
+    return c
+
+
+def table_columns() -> list[dict]:
+    """The grid's column definitions (functions only by name: no code from strings).
+
+    >>> [c.get("field") or c["colId"] for c in table_columns()]
+    ['solvent', 'outcome', 'dD', 'dP', 'dH', 'note', 'line', 'delete']
+    """
+    number = {"type": "numericColumn", "filter": "agNumberColumnFilter",
+              "cellEditor": "agNumberCellEditor"}
+    return [
+        _col("solvent", "solvent", cellEditor="BenchSolventEditor", pinned="left",
+             filter="agTextColumnFilter"),
+        _col("outcome", "outcome", cellEditor="agSelectCellEditor",
+             cellEditorParams={"values": [o["value"] for o in OUTCOME_OPTIONS]},
+             filter="agTextColumnFilter"),
+        *[_col(d, f"δ{d[1]}", headerTooltip=f"your own δ{d[1]} [MPa½] (empty: the "
+                                              f"library's)", **number)
+          for d in logic.NUMBER_COLUMNS],
+        _col("note", "note", filter="agTextColumnFilter"),
+        {"field": "line", "headerName": "file line", "width": WIDTHS["line"],
+         "minWidth": WIDTHS["line"],
+         "editable": False, "type": "numericColumn", "filter": False,
+         "cellClass": "cell-line", "headerTooltip": "the line of the opened file"},
+        {"colId": "delete", "headerName": "", "width": WIDTHS["delete"],
+         "minWidth": WIDTHS["delete"], "maxWidth": WIDTHS["delete"], "editable": False,
+         "sortable": False, "filter": False, "resizable": False,
+         "cellRenderer": "BenchDeleteButton", "cellClass": "cell-delete"},
+    ]
+
+
 def results_table(rows):
-    """The editable DataTable of trials."""
-    from dash import dash_table
-    with warnings.catch_warnings():  # Dash 4 announces the table's future move; it works
-        warnings.simplefilter("ignore", DeprecationWarning)
-        return dash_table.DataTable(
-            id=ids.TABLE, data=rows, editable=True, row_deletable=True,
-            columns=[{"id": "solvent", "name": "solvent"},
-                     {"id": "outcome", "name": "outcome", "presentation": "dropdown"},
-                     {"id": "dD", "name": "own δD", "type": "numeric"},
-                     {"id": "dP", "name": "own δP", "type": "numeric"},
-                     {"id": "dH", "name": "own δH", "type": "numeric"},
-                     {"id": "note", "name": "note"},
-                     {"id": "line", "name": "file line", "editable": False}],
-            dropdown={"outcome": {"options": OUTCOME_OPTIONS, "clearable": False}},
-            page_action="none", fixed_rows={"headers": True},
-            style_table={"maxHeight": "52vh", "overflowY": "auto", "overflowX": "auto"},
-            style_cell={"fontFamily": "inherit", "fontSize": "14px", "padding": "4px 6px",
-                        "textAlign": "left", "whiteSpace": "normal", "height": "auto"},
-            style_cell_conditional=[
-                {"if": {"column_id": c}, "width": w, "minWidth": w, "maxWidth": w}
-                for c, w in (("solvent", "185px"), ("outcome", "112px"), ("dD", "54px"),
-                             ("dP", "54px"), ("dH", "54px"), ("note", "112px"),
-                             ("line", "44px"))] + [
-                {"if": {"column_id": "line"}, "color": "#6b7275", "fontSize": "12px"}],
-            style_header={"backgroundColor": "#eef2f0", "fontWeight": "600"},
-            tooltip_delay=0, tooltip_duration=None, css=[
-                {"selector": ".Select-menu-outer", "rule": "display: block !important"},
-                {"selector": ".dash-table-tooltip", "rule": "max-width: 420px; font-size: 13px"}],
-        )
+    """The editable grid of trials (its rows are the table every screen reads), with a
+    CSV download button like the other grids."""
+    import dash_ag_grid as dag  # deferred: only the app needs the grid
+
+    return html.Div(className="grid-box bench-grid", children=[
+        dag.AgGrid(
+            id=ids.TABLE, rowData=rows, columnDefs=table_columns(), className=grids.THEME,
+            defaultColDef={"editable": True, "sortable": True, "filter": True,
+                           "resizable": True, "wrapHeaderText": True,
+                           "autoHeaderHeight": True},
+            columnSize="responsiveSizeToFit",
+            dashGridOptions={"tooltipShowDelay": 0, "tooltipHideDelay": 20000,
+                             "stopEditingWhenCellsLoseFocus": True,
+                             "enterNavigatesVerticallyAfterEdit": True,
+                             "suppressColumnVirtualisation": True,
+                             "rowHeight": 34},
+            csvExportParams={"fileName": "bench-results.csv",
+                             "columnKeys": [*logic.COLUMNS, "line"]},
+            style={"height": "52vh", "minHeight": "260px", "width": "100%"},
+        ),
+        html.Div(className="grid-foot", children=[
+            html.Button("Download this table (CSV)", id=f"{ids.TABLE}-csv",
+                        className="btn btn-quiet btn-small"),
+            html.Span("edit: double-click a cell or start typing · sort: click a header · "
+                      "filter: the ≡ menu of a header", className="muted small"),
+        ]),
+        dcc.Store(id="bench-paste"),   # a block pasted into the grid (set in the browser)
+        dcc.Store(id="bench-marks"),   # the cells' marks (logic.table_marks)
+        dcc.Store(id="bench-new-row"),  # a row just added, to scroll to
+        dcc.Store(id="bench-marks-shown"),
+        dcc.Store(id="bench-row-shown"),
+    ])
 
 
 def type_ahead(library):
@@ -147,14 +175,14 @@ def panel(rows, library, has_demo: bool):
         ]),
         html.P(className="tip", children=[
             "Solvent: a library name, CAS number or abbreviation, or your own solvent with "
-            "its δD δP δH. Edit any cell; the sphere refits on every change. Paste rows from a "
-            "spreadsheet: click a solvent cell, then Ctrl+V (columns solvent, outcome, "
-            "δD, δP, δH, note); to add rows, paste into the solvent cell of an empty row "
-            "(Add an empty row). A blend tested as one trial is written ",
+            "its δD δP δH. Edit any cell (double-click it or start typing); the sphere "
+            "refits on every change. Paste rows from a spreadsheet: click a cell once, "
+            "then Ctrl+V (columns solvent, outcome, δD, δP, δH, note from the clicked "
+            "one on); rows pasted past the end are added. × deletes a row. A blend "
+            "tested as one trial is written ",
             html.Code("toluene 70 + ethanol 30"), ". Leave δD δP δH empty to use the "
             "library's values."]),
         results_table(rows),
-        dcc.Store(id="new-row-shown"),
         html.Div(id="problems", className="problems"),
     ])
 
@@ -179,25 +207,37 @@ def _problem_items(problems):
 
 
 def register(app, get_library):
-    """Callbacks: the one fit, the table's marks, and every edit of the table."""
+    """Callbacks: the one fit, the grid's marks, and every edit of the table."""
+    grids.register_csv(app, [ids.TABLE])
 
-    @app.callback(Output(ids.FIT, "data"), Output(ids.TABLE, "data", allow_duplicate=True),
-                  Input(ids.TABLE, "data"), Input(ids.PARTIAL, "value"),
+    @app.callback(Output(ids.FIT, "data"), Output(ids.TABLE, "rowData", allow_duplicate=True),
+                  Input(ids.TABLE, "rowData"), Input(ids.PARTIAL, "value"),
+                  Input(ids.TABLE, "cellValueChanged"),
                   prevent_initial_call="initial_duplicate")
-    def refit(rows, partial):
-        """The one callback that fits; it also rewrites pasted outcome words ('yes',
-        'bad' …) in the display words so the outcome menus show them."""
+    def refit(rows, partial, _edited=None):
+        """The one callback that fits; it also rewrites typed outcome words ('yes',
+        'bad' …) in the table's words so the outcome cells show them.
+
+        An edit in the grid changes its ``rowData`` in place (the grid writes into the
+        row objects), which Dash does not see as a change: the grid's
+        ``cellValueChanged`` is the trigger then, and ``rowData`` still the table read."""
         result = logic.compute_fit(rows or [], partial or "good", get_library())
         fixed = logic.normalise_outcomes(rows)
         return result, (no_update if fixed is None else fixed)
 
-    @app.callback(Output(ids.TABLE, "style_data_conditional"), Output(ids.TABLE, "tooltip_data"),
-                  Output("problems", "children"), Input(ids.FIT, "data"), State(ids.TABLE, "data"))
+    @app.callback(Output("bench-marks", "data"), Output("problems", "children"),
+                  Input(ids.FIT, "data"), State(ids.TABLE, "rowData"))
     def mark_table(result, rows):
         if result is None:
             raise PreventUpdate
-        styles, tips, problems = logic.table_marks(result, len(rows or []))
-        return styles, tips, _problem_items(problems)
+        marks, problems = logic.table_marks(result, len(rows or []))
+        return marks, _problem_items(problems)
+
+    app.clientside_callback(ClientsideFunction("solsphereBench", "showMarks"),
+                            Output("bench-marks-shown", "data"), Input("bench-marks", "data"))
+    app.clientside_callback(ClientsideFunction("solsphereBench", "showRow"),
+                            Output("bench-row-shown", "data"),
+                            Input("bench-new-row", "data"), prevent_initial_call=True)
 
     @app.callback(Output("table-status", "children"), Input(ids.FIT, "data"),
                   Input(ids.SOURCE, "data"))
@@ -207,9 +247,36 @@ def register(app, get_library):
             raise PreventUpdate
         return logic.table_status(result, source)
 
-    app.clientside_callback(SHOW_NEW_ROW_JS, Output("new-row-shown", "data"),
-                            Input("add-button", "n_clicks"), Input("add-solvent", "n_submit"),
-                            Input("add-empty", "n_clicks"), prevent_initial_call=True)
+    @app.callback(Output(ids.TABLE, "rowData", allow_duplicate=True),
+                  Output("bench-new-row", "data", allow_duplicate=True),
+                  Input("bench-paste", "data"), State(ids.TABLE, "rowData"),
+                  prevent_initial_call=True)
+    def paste(block, rows):
+        """A block of spreadsheet cells pasted at the focused cell."""
+        if not isinstance(block, dict) or not isinstance(block.get("text"), str):
+            raise PreventUpdate
+        try:
+            row = int(block.get("row"))
+        except (TypeError, ValueError):
+            raise PreventUpdate from None
+        new, n = logic.paste_cells(rows, row, block.get("column"), block["text"])
+        if not n:
+            raise PreventUpdate
+        last = min(row, len(rows or [])) + n - 1
+        return new, {"row": last, "rows": len(new), "edit": False}
+
+    @app.callback(Output(ids.TABLE, "rowData", allow_duplicate=True),
+                  Input(ids.TABLE, "cellRendererData"), State(ids.TABLE, "rowData"),
+                  prevent_initial_call=True)
+    def delete_clicked(event, rows):
+        """The × button of a row (the row's place in the data, whatever the sort)."""
+        if not isinstance(event, dict) or event.get("colId") != "delete":
+            raise PreventUpdate
+        try:
+            row = int(event.get("rowIndex"))
+        except (TypeError, ValueError):
+            raise PreventUpdate from None
+        return logic.delete_row(rows, row)
 
     app.clientside_callback(FILL_NAMES_JS, Output("solvent-names", "className"),
                             Input("solvent-names-data", "data"))
@@ -218,9 +285,10 @@ def register(app, get_library):
                             Output("open-upload", "contents"),
                             Input("open-upload", "contents"), State("open-upload", "filename"))
 
-    @app.callback(Output(ids.TABLE, "data"), Output(ids.PARTIAL, "value"),
+    @app.callback(Output(ids.TABLE, "rowData"), Output(ids.PARTIAL, "value"),
                   Output(ids.SAVED_FIT, "data"), Output(ids.SOURCE, "data"),
                   Output(ids.NOTICE, "children"), Output("add-solvent", "value"),
+                  Output("bench-new-row", "data"),
                   Input(ids.OPEN_PAYLOAD, "data"), Input("share-open-payload", "data"),
                   Input("demo-button", "n_clicks"),
                   Input("add-button", "n_clicks"), Input("add-solvent", "n_submit"),
@@ -228,13 +296,26 @@ def register(app, get_library):
                   Input({"type": "fix", "row": ALL, "col": ALL, "value": ALL}, "n_clicks"),
                   Input({"type": "add-next", "name": ALL}, "n_clicks"),
                   Input("add-all-next", "n_clicks"),
-                  State(ids.TABLE, "data"), State("add-solvent", "value"),
+                  State(ids.TABLE, "rowData"), State("add-solvent", "value"),
                   State("add-outcome", "value"), State("add-note", "value"),
                   State(ids.NEXT, "data"),
                   prevent_initial_call=True)
     def edit_table(payload, share_payload, _demo, _add, _submit, _empty, _clear, _fix,
                    _next, _all_next, rows, solvent, outcome, note, suggested):
-        trig = ctx.triggered_id
+        out = _edit(ctx.triggered_id, payload, share_payload, rows, solvent, outcome, note,
+                    suggested)
+        new = out[0]
+        if ctx.triggered_id in ("add-button", "add-solvent", "add-empty") and \
+                isinstance(new, list):
+            # the row just written: the first one that differs from before (an empty
+            # row at the end is reused), else the last; shown, and an empty one opened
+            old = list(rows or [])
+            k = next((i for i, r in enumerate(new) if i >= len(old) or r != old[i]),
+                     len(new) - 1)
+            return *out, {"row": k, "rows": len(new), "edit": ctx.triggered_id == "add-empty"}
+        return *out, no_update
+
+    def _edit(trig, payload, share_payload, rows, solvent, outcome, note, suggested):
         keep = (no_update,) * 4
         if trig == "add-all-next" or (isinstance(trig, dict) and trig.get("type") == "add-next"):
             if not ctx.triggered or not ctx.triggered[0].get("value"):

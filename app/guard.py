@@ -132,7 +132,7 @@ def limit_for(body) -> int:
 
     >>> limit_for({"inputs": [{"id": "shelf-upload", "property": "contents"}]})
     7500000
-    >>> limit_for({"inputs": [{"id": "results-table", "property": "data"}]}), limit_for("x")
+    >>> limit_for({"inputs": [{"id": "results-table", "property": "rowData"}]}), limit_for("x")
     (2000000, 2000000)
     """
     if not isinstance(body, dict):

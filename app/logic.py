@@ -252,22 +252,43 @@ def summary(result: dict | None) -> dict:
             "resolved": list(result.get("resolved") or [])}
 
 
-def table_marks(result: dict | None, n_rows: int) -> tuple[list, list, list[dict]]:
-    """Styles, tooltips and the problem list for the results table.
+def table_marks(result: dict | None, n_rows: int) -> tuple[dict, list[dict]]:
+    """The marks of the results grid and the problem list under it.
+
+    Parameters
+    ----------
+    result : dict or None
+        :func:`compute_fit`'s result.
+    n_rows : int
+        Rows in the table now (marks past the end are dropped).
 
     Returns
     -------
-    styles : list
-        ``style_data_conditional``: bad cells in red, misfit rows shaded.
-    tooltips : list of dict
-        ``tooltip_data``: per row, the reason for a bad cell or the row's RED.
+    marks : dict
+        Keyed by the row's place in the table (a string, as JSON keys are): ``bad`` and
+        ``pending`` map a column to the reason shown on hover; ``misfit`` is True for a
+        fitted row the sphere disagrees with; ``red`` says the row's RED and verdict.
+        The grid looks rows up by their place in the data, not on screen, so sorting
+        never moves a mark.
     problems : list of dict
         The bad cells, for the list under the table.
+
+    >>> res = {"fit": None, "trial_rows": [], "problems": [
+    ...     {"row": 1, "column": "outcome", "message": "unknown outcome 'maybe'",
+    ...      "hint": "dissolves, partly or does not", "suggestions": []}]}
+    >>> marks, problems = table_marks(res, 2)
+    >>> marks["1"]["bad"]["outcome"]
+    "unknown outcome 'maybe' Fix: dissolves, partly or does not"
+    >>> len(problems), table_marks(None, 3)
+    (1, ({}, []))
     """
-    styles: list = []
-    tips: list[dict] = [{} for _ in range(n_rows)]
+    marks: dict[str, dict] = {}
     if not result:
-        return styles, tips, []
+        return marks, []
+
+    def row(i: int) -> dict:
+        return marks.setdefault(str(i), {})
+
     fit = result.get("fit")
     if fit:
         for k, r in enumerate(fit["table"]):
@@ -275,27 +296,100 @@ def table_marks(result: dict | None, n_rows: int) -> tuple[list, list, list[dict
             if i is None or i >= n_rows:
                 continue
             verdict = {True: "fits", False: "MISFIT", None: "left out"}[r.get("agrees")]
-            text = f"RED {_red(r['red'])} ({r['predicted']} the sphere): {verdict}"
-            tips[i].update({c: {"value": text, "type": "text"} for c in ("solvent", "outcome")})
+            row(i)["red"] = f"RED {_red(r['red'])} ({r['predicted']} the sphere): {verdict}"
             if r.get("agrees") is False:
-                styles.append({"if": {"row_index": i}, "backgroundColor": "#fbe3d3",
-                               "fontWeight": "600"})
+                row(i)["misfit"] = True
     problems = [p for p in result.get("problems", []) if p.get("row") is not None]
     for p in problems:
         i, col = p["row"], p["column"] or "solvent"
         if i >= n_rows:
             continue
         if p.get("pending"):
-            styles.append({"if": {"row_index": i, "column_id": col},
-                           "backgroundColor": "#fff3c4", "border": "1px solid #e6ab02"})
-            tips[i][col] = {"value": "Waiting for the result: choose dissolves, partly or "
-                                     "does not once tested.", "type": "text"}
+            row(i).setdefault("pending", {})[col] = (
+                "Waiting for the result: choose dissolves, partly or does not once tested.")
             continue
-        styles.append({"if": {"row_index": i, "column_id": col},
-                       "backgroundColor": "#f6c6c6", "border": "1px solid #b22222"})
         text = p["message"] + (f" Fix: {p['hint']}" if p.get("hint") else "")
-        tips[i][col] = {"value": text, "type": "text"}
-    return styles, tips, problems
+        row(i).setdefault("bad", {})[col] = text
+    return marks, problems
+
+
+#: Numeric columns of the table (a pasted number is read with a point or a comma).
+NUMBER_COLUMNS = ("dD", "dP", "dH")
+
+
+def paste_cells(rows, row: int, column: str | None, text: str) -> tuple[list[dict], int]:
+    r"""The table with a block of spreadsheet cells pasted in at (``row``, ``column``).
+
+    Reads what a spreadsheet puts on the clipboard (cells separated by tabs, rows by
+    newlines). The block overwrites the cells from the clicked one rightwards in the
+    order solvent, outcome, δD, δP, δH, note (cells past the note are dropped) and
+    downwards; lines past the end of the table become new rows. Outcome words the
+    results files accept ('yes', 'bad' …) are written as the table's words; δ values
+    are read as numbers (a decimal comma too); anything unreadable is kept as typed so
+    the table marks it. Pasting into a column that is not editable starts at the solvent.
+
+    Returns
+    -------
+    rows : list of dict
+    changed : int
+        How many table rows the paste wrote to.
+
+    >>> rows = [{"solvent": "toluene", "outcome": "dissolves"}]
+    >>> new, n = paste_cells(rows, 0, "outcome", "bad\n")
+    >>> new[0]["outcome"], n
+    ('does not', 1)
+    >>> new, n = paste_cells(rows, 1, "solvent", "my oil\tyes\t16,5\t3.1\tx\r\nwater\tno")
+    >>> [(r["solvent"], r["outcome"], r["dD"], r["dP"], r["dH"]) for r in new[1:]], n
+    ([('my oil', 'dissolves', 16.5, 3.1, 'x'), ('water', 'does not', None, None, None)], 2)
+    >>> rows[0]["outcome"]  # the input table is not changed
+    'dissolves'
+    """
+    out = [dict(r) for r in rows or [] if isinstance(r, dict)]
+    lines = str(text or "").replace("\r\n", "\n").replace("\r", "\n").split("\n")
+    while lines and not lines[-1].strip():  # a spreadsheet ends its copy with a newline
+        lines.pop()
+    start = COLUMNS.index(column) if column in COLUMNS else 0
+    row = max(0, min(int(row), len(out)))
+    for k, line in enumerate(lines):
+        i = row + k
+        while i >= len(out):
+            out.append(blank_row())
+        for j, cell in enumerate(line.split("\t")):
+            if start + j >= len(COLUMNS):
+                break
+            out[i][COLUMNS[start + j]] = _pasted(COLUMNS[start + j], cell)
+    return out, len(lines)
+
+
+def _pasted(column: str, cell: str):
+    """One pasted cell as the table keeps it (None for an empty cell)."""
+    cell = cell.strip()
+    if not cell:
+        return None
+    if column == "outcome":
+        canon = parse_outcome(cell)
+        return WORDS[canon] if canon is not None else cell
+    if column in NUMBER_COLUMNS:
+        try:
+            return float(cell.replace(",", "."))
+        except ValueError:
+            return cell
+    return cell
+
+
+def delete_row(rows, row: int) -> list[dict]:
+    """The table without row ``row`` (its place in the data); an empty row is left when
+    the last one goes, so the table never disappears.
+
+    >>> delete_row([{"solvent": "a"}, {"solvent": "b"}], 0)
+    [{'solvent': 'b'}]
+    >>> delete_row([{"solvent": "a"}], 0)[0]["solvent"] is None
+    True
+    """
+    out = [dict(r) for r in rows or []]
+    if 0 <= row < len(out):
+        del out[row]
+    return out or [blank_row()]
 
 
 def _red(x: float) -> str:

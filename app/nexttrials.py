@@ -84,8 +84,8 @@ def register(app, get_library):
     @app.callback(Output("next-trials-list", "children"), Output("recheck-list", "children"),
                   Output("next-trials-message", "children"), Output("add-all-next", "style"),
                   Output("add-all-next", "disabled"),
-                  Input(ids.NEXT, "data"), Input(ids.TABLE, "data"), Input(ids.FIT, "data"))
-    def show(store, rows, result):
+                  Input(ids.NEXT, "data"), Input(ids.TABLE, "rowData"), Input(ids.FIT, "data"))
+    def show(store, rows, result):  # an edit in the grid refits, so FIT follows it too
         if not store:
             raise PreventUpdate
         in_table = {str(r.get("solvent") or "").strip().casefold() for r in rows or []}

@@ -54,7 +54,7 @@ def register(app, get_library):
 
     @app.callback(Output("download-html", "data"), Output("share-message", "children",
                                                           allow_duplicate=True),
-                  Input("download-html-button", "n_clicks"), State(ids.TABLE, "data"),
+                  Input("download-html-button", "n_clicks"), State(ids.TABLE, "rowData"),
                   State(ids.PARTIAL, "value"), State("share-title", "value"),
                   State(ids.SOURCE, "data"), prevent_initial_call=True)
     def download_html(n, rows, partial, title, source):
@@ -70,7 +70,7 @@ def register(app, get_library):
 
     @app.callback(Output("download-project", "data"), Output("share-message", "children",
                                                              allow_duplicate=True),
-                  Input("download-project-button", "n_clicks"), State(ids.TABLE, "data"),
+                  Input("download-project-button", "n_clicks"), State(ids.TABLE, "rowData"),
                   State(ids.PARTIAL, "value"), State(ids.SOURCE, "data"),
                   prevent_initial_call=True)
     def download_project(n, rows, partial, source):

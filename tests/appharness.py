@@ -171,8 +171,8 @@ class Client:
 
     def fit(self, rows) -> dict:
         """The fit callback's stored result for these table rows ('partly' as good)."""
-        values = {"results-table.data": rows, "partial-choice.value": "good"}
-        return self.update(self.dep, values, "results-table.data")["fit-store"]["data"]
+        values = {"results-table.rowData": rows, "partial-choice.value": "good"}
+        return self.update(self.dep, values, "results-table.rowData")["fit-store"]["data"]
 
 
 # ----------------------------------------------------------------------------- the server

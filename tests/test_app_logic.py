@@ -78,10 +78,11 @@ def test_bad_cells_are_reported_with_row_column_and_suggestions(demo, lib):
     assert "chloroform" in probs[(n, "solvent")]["suggestions"]
     assert "Did you mean" not in probs[(n, "solvent")]["message"]  # shown as buttons instead
     assert res["fit"] is not None  # the rest still fits
-    styles, tips, problems = logic.table_marks(res, len(rows))
-    marked = {(s["if"]["row_index"], s["if"].get("column_id")) for s in styles}
-    assert (n, "solvent") in marked and (n + 1, "outcome") in marked
-    assert "chlorofrom" in tips[n]["solvent"]["value"]
+    marks, problems = logic.table_marks(res, len(rows))
+    marked = {(int(i), c) for i, m in marks.items() for c in m.get("bad", {})}
+    assert marked == {(n, "solvent"), (n + 1, "outcome")}
+    assert "chlorofrom" in marks[str(n)]["bad"]["solvent"]
+    assert len(problems) == 2
     fixed = logic.apply_suggestion(rows, n, "solvent", "chloroform")
     assert fixed[n]["solvent"] == "chloroform" and rows[n]["solvent"] == "chlorofrom"
     res2 = logic.compute_fit(fixed, "good", lib)
@@ -103,10 +104,11 @@ def test_misfit_rows_are_shaded(lib):
     misfit_rows = [res["trial_rows"][k] for k, r in enumerate(res["fit"]["table"])
                    if r["agrees"] is False]
     assert set(misfit_rows) & {9, 10}
-    styles, tips, _ = logic.table_marks(res, len(rows))
-    shaded = {s["if"]["row_index"] for s in styles if "column_id" not in s["if"]}
+    marks, _ = logic.table_marks(res, len(rows))
+    shaded = {int(i) for i, m in marks.items() if m.get("misfit")}
     assert shaded == set(misfit_rows)
-    assert all("MISFIT" in tips[i]["solvent"]["value"] for i in misfit_rows)
+    assert all("MISFIT" in marks[str(i)]["red"] for i in misfit_rows)
+    assert "MISFIT" not in marks["0"]["red"] and "8" not in marks  # the blank row: no mark
     assert logic.summary(res)["misfits"]
 
 
@@ -620,10 +622,9 @@ def test_adding_a_suggestion_leaves_a_row_waiting_for_its_outcome(demo, lib):
     s = logic.summary(res)
     assert any("waits for its outcome" in w for w in s["warnings"])
     assert not any("need" in w and "fixing" in w for w in s["warnings"])
-    styles, tips, _ = logic.table_marks(res, len(rows))
-    mark = [st for st in styles if st["if"].get("row_index") == n]
-    assert mark and mark[0]["backgroundColor"] == "#fff3c4"
-    assert "Waiting for the result" in tips[n]["outcome"]["value"]
+    marks, _ = logic.table_marks(res, len(rows))
+    assert set(marks[str(n)]) == {"pending"}  # waiting, not bad
+    assert "Waiting for the result" in marks[str(n)]["pending"]["outcome"]
 
 
 def test_share_limits_for_names_with_commas(demo_result, lib):

@@ -290,8 +290,8 @@ def test_callbacks_leave_module_state_alone(lib, projects):
     fit_dep = next(d for d in deps if "fit-store.data" in d["output"]
                    and d["inputs"][0]["id"] == "results-table")
     for i, r in enumerate(rows):
-        res = call(fit_dep, {"results-table.data": r, "partial-choice.value": "good"},
-                   "results-table.data")["response"]["fit-store"]["data"]
+        res = call(fit_dep, {"results-table.rowData": r, "partial-choice.value": "good"},
+                   "results-table.rowData")["response"]["fit-store"]["data"]
         assert verdict(res, i, expected) == "ok"
         for d in deps:  # every callback fed by the fit store alone
             if [x["id"] for x in d["inputs"]][:1] == ["fit-store"]:

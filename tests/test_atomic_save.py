@@ -388,25 +388,25 @@ def test_the_app_never_writes_the_file_it_was_opened_on(tmp_path):
             for s, o in [("toluene", "dissolves"), ("acetone", "dissolves"),
                          ("water", "does not"), ("n-hexane", "does not"),
                          ("methanol", "dissolves")]]  # edited: methanol now dissolves
-    res = _post(client, deps, "..fit-store.data", {"results-table.data": rows,
+    res = _post(client, deps, "..fit-store.data", {"results-table.rowData": rows,
                                                    "partial-choice.value": "good"})
     assert res["response"]["fit-store"]["data"]["fit"] is not None
     got = _post(client, deps, "..download-project.data", {"download-project-button.n_clicks": 1},
-                {"results-table.data": rows, "partial-choice.value": "good",
+                {"results-table.rowData": rows, "partial-choice.value": "good",
                  "source-store.data": str(proj)})
     download = got["response"]["download-project"]["data"]
     assert json.loads(download["content"])["format"] == "solsphere-project"
     assert download["filename"] == "opened-project.json"  # a new name, in the browser
     # an upload named like the server's file (even with its full path) is only read
     data = "data:application/json;base64," + base64.b64encode(proj.read_bytes()).decode()
-    opened = _post(client, deps, "..results-table.data...partial-choice.value",
+    opened = _post(client, deps, "..results-table.rowData...partial-choice.value",
                    {"open-payload.data": {"filename": str(proj), "contents": data}},
-                   {"results-table.data": rows})
-    assert len(opened["response"]["results-table"]["data"]) == 7
+                   {"results-table.rowData": rows})
+    assert len(opened["response"]["results-table"]["rowData"]) == 7
     junk = "data:text/csv;base64," + base64.b64encode(b"PK\x03\x04junk").decode()
-    refused = _post(client, deps, "..results-table.data...partial-choice.value",
+    refused = _post(client, deps, "..results-table.rowData...partial-choice.value",
                     {"open-payload.data": {"filename": str(bench), "contents": junk}},
-                    {"results-table.data": rows})
+                    {"results-table.rowData": rows})
     assert "Not opened" in json.dumps(refused["response"]["notice"])
 
     after = {p.name: (p.read_bytes(), p.stat().st_mtime_ns) for p in tmp_path.iterdir()}

@@ -839,9 +839,11 @@ def test_a_request_that_fails_does_not_stop_the_server(lib):
 
     def refit(rows, partial):
         body = {"output": dep["output"], "outputs": outs, "state": [],
-                "changedPropIds": ["results-table.data"],
-                "inputs": [{"id": "results-table", "property": "data", "value": rows},
-                           {"id": "partial-choice", "property": "value", "value": partial}]}
+                "changedPropIds": ["results-table.rowData"],
+                "inputs": [{"id": "results-table", "property": "rowData", "value": rows},
+                           {"id": "partial-choice", "property": "value", "value": partial},
+                           {"id": "results-table", "property": "cellValueChanged",
+                            "value": None}]}
         return client.post("/_dash-update-component", json=body)
 
     for junk in ([None, 5, "x"], "not rows", [{"solvent": {"a": [1]}, "outcome": 3}]):
@@ -1109,10 +1111,10 @@ def test_malformed_payloads_answer_with_a_message_in_the_page():
     open_dep = next(d for d in deps if "open-payload.data" in
                     [i["id"] + "." + i["property"] for i in d["inputs"]])
     cases = [
-        (fit_dep, {"results-table.data": 5, "partial-choice.value": "good"},
-         "results-table.data"),
-        (fit_dep, {"results-table.data": "rows", "partial-choice.value": ["x"]},
-         "results-table.data"),
+        (fit_dep, {"results-table.rowData": 5, "partial-choice.value": "good"},
+         "results-table.rowData"),
+        (fit_dep, {"results-table.rowData": "rows", "partial-choice.value": ["x"]},
+         "results-table.rowData"),
         (open_dep, {"open-payload.data": {"contents": "data:text/csv;base64,eA==",
                                           "filename": ["not", "a", "name"]}},
          "open-payload.data"),
@@ -1128,7 +1130,7 @@ def test_malformed_payloads_answer_with_a_message_in_the_page():
         r = client.post("/_dash-update-component", json=junk)
         assert r.status_code == 400 and "could not be used" in r.get_json()["error"]
     r = client.post("/_dash-update-component",
-                    json=_request(fit_dep, {"results-table.data": SMALL_ROWS,
+                    json=_request(fit_dep, {"results-table.rowData": SMALL_ROWS,
                                             "partial-choice.value": "good"},
-                                  "results-table.data"))
+                                  "results-table.rowData"))
     assert r.status_code == 200 and r.get_json()["response"]["fit-store"]["data"]["fit"]

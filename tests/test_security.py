@@ -299,10 +299,10 @@ def test_no_version_in_the_page_beyond_what_dash_needs(app_client):
 def test_callback_bodies_are_limited_per_callback(app_client):
     """A table callback takes 2 MB at most; only a callback carrying a file takes more."""
     from solsphere.app import guard
-    big = {"output": "..fit-store.data...results-table.data..", "outputs": [],
-           "inputs": [{"id": "results-table", "property": "data",
+    big = {"output": "..fit-store.data...results-table.rowData..", "outputs": [],
+           "inputs": [{"id": "results-table", "property": "rowData",
                        "value": [{"solvent": "x" * 100, "outcome": "good"}] * 30_000}],
-           "changedPropIds": ["results-table.data"], "state": []}
+           "changedPropIds": ["results-table.rowData"], "state": []}
     r = app_client.post("/_dash-update-component", json=big)
     assert r.status_code == 413 and "at most 2,000,000" in r.get_json()["error"]
     assert guard.limit_for({"inputs": [{"id": "open-payload", "property": "data"}]}) \

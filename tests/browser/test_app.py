@@ -10,6 +10,7 @@ import json
 import statistics
 
 import pytest
+from benchgrid import cell, column, paste_tsv, row_count, set_outcome, outcome_of
 
 pytestmark = pytest.mark.browser
 
@@ -45,17 +46,6 @@ def wait_counts_change(page, before: str):
         " return e && e.innerText !== b; }", arg=before)
 
 
-def set_outcome(page, row: int, word: str):
-    """Choose an outcome in the table's dropdown cell of ``row`` (0-based)."""
-    page.locator('#results-table td[data-dash-column="outcome"]').nth(row).click()
-    page.locator("#results-table .Select-option", has_text=word).first.click()
-
-
-def outcome_of(page, row: int) -> str:
-    return page.locator('#results-table td[data-dash-column="outcome"]').nth(row) \
-        .locator(".Select-value-label").inner_text().strip()
-
-
 def upload(page, selector: str, name: str, data: bytes, mime: str = "text/csv"):
     page.set_input_files(f"{selector} input[type=file]",
                          files=[{"name": name, "mimeType": mime, "buffer": data}])
@@ -75,7 +65,7 @@ def wait_idle(page, settle_ms: int = 150):
 
 
 def table_rows(page) -> int:
-    return page.locator('#results-table td[data-dash-column="solvent"]').count()
+    return row_count(page)
 
 
 def assert_clean_console(page):
@@ -128,9 +118,7 @@ def test_demo_loads_and_draws_the_3d_map(page, artefacts):
 def test_one_outcome_edit_refits_and_redraws(page):
     load_demo(page)
     centre = page.inner_text("#centre-text")
-    row = next(i for i in range(table_rows(page))
-               if page.locator('#results-table td[data-dash-column="solvent"]').nth(i)
-               .inner_text().strip() == "toluene")
+    row = column(page, "solvent").index("toluene")
     assert outcome_of(page, row) == "does not"
     before = counts_text(page)
     set_outcome(page, row, "dissolves")
@@ -165,9 +153,10 @@ def test_edit_to_redraw_time_on_a_40_row_table(page, forty_rows_csv):
             row = k % 3
             word = "does not" if outcome_of(page, row) != "does not" else "dissolves"
             page.wait_for_timeout(250)  # let the previous redraw settle
-            page.locator('#results-table td[data-dash-column="outcome"]').nth(row).click()
+            cell(page, row, "outcome").dblclick()
+            page.locator("#results-table .ag-cell-inline-editing .ag-picker-field-wrapper").click()
             page.evaluate("() => { const m = window.__marks; m.text = m.map = m.planes = 0; }")
-            page.locator("#results-table .Select-option", has_text=word).first.click()
+            page.locator(".ag-select-list-item", has_text=word).first.click()
             page.wait_for_function("() => { const m = window.__marks; return m.down > 0 &&"
                                    " m.text > m.down && m.map > m.down && m.planes > m.down; }")
             page.wait_for_timeout(150)  # a late second afterplot would move the mark
@@ -227,8 +216,7 @@ def test_unknown_name_is_marked_with_one_click_fixes(page, artefacts):
     page.locator("#problems button", has_text="chloroform").first.click()
     page.wait_for_selector("#problems li", state="detached")
     wait_counts_change(page, before)  # the fixed row now counts
-    cell = page.locator('#results-table td[data-dash-column="solvent"]').nth(n)
-    assert cell.inner_text().strip() == "chloroform"
+    assert cell(page, n, "solvent").inner_text().strip() == "chloroform"
     assert_clean_console(page)
 
 
@@ -237,22 +225,18 @@ def test_rows_pasted_from_a_spreadsheet_are_added_and_counted(page):
     n = table_rows(page)
     wait_idle(page)
     page.click("#add-empty")
-    page.wait_for_function(f"() => document.querySelectorAll("
-                           f"'#results-table td[data-dash-column=\"solvent\"]').length === {n + 1}")
+    # the empty row is shown with its solvent cell open for typing
+    page.wait_for_selector("#results-table input.bench-solvent-editor")
+    assert table_rows(page) == n + 1
+    page.keyboard.press("Escape")  # leave the editor: the cell keeps the focus
     wait_idle(page)  # the refit and the table's marks of the new row are back
-    page.locator('#results-table td[data-dash-column="solvent"]').nth(n).click()
+    cell(page, n, "solvent").click()  # focused, not edited
     before = counts_text(page)
     # what a spreadsheet puts on the clipboard: tab-separated cells, one line per row
-    page.evaluate("""() => {
-        const dt = new DataTransfer();
-        dt.setData('text/plain', 'glycerol\\tbad\\nmy own oil\\tyes\\t16.5\\t3.1\\t4.2\\tinvented\\n');
-        document.activeElement.dispatchEvent(new ClipboardEvent('paste', {clipboardData: dt, bubbles: true}));
-    }""")
+    paste_tsv(page, "glycerol\tbad\nmy own oil\tyes\t16.5\t3.1\t4.2\tinvented\n")
     wait_counts_change(page, before)
     assert table_rows(page) == n + 2
     assert f"{n + 2} trials" in counts_text(page)
-    page.wait_for_function(f"() => document.querySelectorAll('#results-table "
-                           f"td[data-dash-column=\"outcome\"] .Select-value-label').length === {n + 2}")
     assert outcome_of(page, n) == "does not" and outcome_of(page, n + 1) == "dissolves"
     assert page.locator("#problems li").count() == 0
     assert_clean_console(page)
@@ -582,10 +566,9 @@ def test_next_trials_panel_and_add_to_the_table(page, artefacts):
     page.wait_for_selector("#next-trials-items li.suggestion >> nth=0 >> text=in the table")
     assert f"Added {name}" in page.inner_text("#notice")
     tab(page, "Bench results")
-    page.wait_for_function(f"() => document.querySelectorAll("
-                           f"'#results-table td[data-dash-column=\"solvent\"]').length === {n + 1}")
-    cell = page.locator('#results-table td[data-dash-column="solvent"]').nth(n)
-    assert cell.inner_text().strip() == name
+    page.wait_for_function(f"() => {{ let k = 0; window.dash_ag_grid.getApi('results-table')"
+                           f".forEachNode(() => k++); return k === {n + 1}; }}")
+    assert cell(page, n, "solvent").inner_text().strip() == name
     page.wait_for_selector("#fit-summary .warnings:has-text('waits for its outcome')")
     assert "row " + str(n + 1) in page.inner_text("#problems")
     page.screenshot(path=str(artefacts / "12b-added-row.png"), full_page=True)

@@ -13,6 +13,8 @@ import io
 
 import pytest
 
+from benchgrid import column, set_outcome
+
 pytestmark = pytest.mark.browser
 
 MAP = "#map3d .js-plotly-plot"
@@ -81,11 +83,7 @@ def test_red_ladder_hover_misfit_ring_and_the_plane_chooser(page, artefacts):
     assert shown and "toluene" in shown["shown"] and "RED" in shown["shown"]
     assert "δD" in shown["shown"] and "does not" in shown["shown"]
     # a misfit gets its ring: ethanol marked as dissolving lies outside
-    row = next(i for i, t in enumerate(
-        page.locator('#results-table td[data-dash-column="solvent"]').all_inner_texts())
-        if t.strip() == "ethanol")
-    page.locator('#results-table td[data-dash-column="outcome"]').nth(row).click()
-    page.locator("#results-table .Select-option", has_text="dissolves").first.click()
+    set_outcome(page, column(page, "solvent").index("ethanol"), "dissolves")
     page.wait_for_function(f"() => (document.querySelector('{LADDER}')._fullData || [])"
                            ".some(t => t.name === 'misfits')")
     ring = full_trace(page, LADDER, "misfits")
@@ -244,13 +242,14 @@ def test_banner_follows_the_table_and_a_new_row_is_shown(page, artefacts):
     assert "PnB → 1-butoxy-2-propanol" in page.inner_text("#resolved-names")
     # the new row is where the user sees it: inside the table's visible area
     page.wait_for_function("""() => {
-        const cells = document.querySelectorAll('#results-table td[data-dash-column="solvent"]');
-        const last = cells[cells.length - 1];
-        if (!last || last.innerText.trim() !== 'PnB') { return false; }
-        const r = last.getBoundingClientRect();
-        const box = last.closest('.dt-table-container__row');  // the scrolled body
-        const b = box.getBoundingClientRect();
-        return r.top >= b.top && r.top + 10 <= b.bottom && r.top + 10 <= window.innerHeight;
+        const grid = document.getElementById('results-table');
+        const cells = Array.from(grid.querySelectorAll(".ag-cell[col-id='solvent']"))
+            .filter(c => c.innerText.trim() === 'PnB');
+        if (cells.length !== 1) { return false; }
+        const r = cells[0].getBoundingClientRect();
+        const b = grid.querySelector('.ag-body-viewport').getBoundingClientRect();
+        return r.top >= b.top && r.bottom <= b.bottom + 1 && r.bottom <= window.innerHeight;
     }""")
+    assert column(page, "solvent")[-1] == "PnB"  # the last row of 36: out of sight before
     page.screenshot(path=str(artefacts / "17-new-row-shown.png"))
     assert_clean_console(page)

@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import pytest
 
+from benchgrid import cell, column
+
 pytestmark = pytest.mark.browser
 
 EVIL_NAME = "<script>alert(1)</script>"
@@ -74,10 +76,9 @@ def test_hostile_names_show_as_text_in_the_app_and_the_share_file(page, browser,
     page.wait_for_selector("#ladder .js-plotly-plot .main-svg")
 
     # the table shows the name and the note exactly as typed, as text
-    cells = page.locator('#results-table td[data-dash-column="solvent"]').all_inner_texts()
-    assert EVIL_NAME in [c.strip() for c in cells]
-    notes = page.locator('#results-table td[data-dash-column="note"]').all_inner_texts()
-    assert EVIL_NOTE in [c.strip() for c in notes]
+    row = column(page, "solvent").index(EVIL_NAME)
+    assert cell(page, row, "solvent").inner_text().strip() == EVIL_NAME  # drawn as text
+    assert cell(page, row, "note").inner_text().strip() == EVIL_NOTE
     assert EVIL_FILE in page.inner_text("#notice")  # the file name, as text
 
     # the hover label of the 2D projection shows the name as text

@@ -59,7 +59,7 @@ TAB_READY = {
     "Try next": "#shortlist .ag-center-cols-container .ag-row",
     "Blends": "#blend-table .ag-center-cols-container .ag-row",
     "Replace a solvent": "#replace-name",
-    "Bench results": "#results-table td[data-dash-column='solvent']",
+    "Bench results": "#results-table .ag-center-cols-container .ag-row",
 }
 
 
@@ -125,16 +125,16 @@ def refits(page, n: int) -> list[float]:
                 () => { m[k === 'map3d' ? 'map' : k] = performance.now(); });
         }
     }""")
-    cell = "#results-table td[data-dash-column='outcome']"
     times = []
     for k in range(n):
-        row = k % 3
-        label = page.locator(cell).nth(row).locator(".Select-value-label").inner_text().strip()
-        word = "does not" if label != "does not" else "dissolves"
+        row = k % 3  # the first rows of the grid (unsorted: data order = screen order)
+        cell = page.locator(f"#results-table .ag-row[row-index='{row}'] .ag-cell[col-id='outcome']")
+        word = "does not" if cell.inner_text().strip() != "does not" else "dissolves"
         wait_idle(page)
-        page.locator(cell).nth(row).click()
+        cell.dblclick()  # the cell's outcome list, as a user opens it
+        page.locator("#results-table .ag-cell-inline-editing .ag-picker-field-wrapper").click()
         page.evaluate("() => { const m = window.__marks; m.text = m.map = m.ladder = m.plane = 0; }")
-        page.locator("#results-table .Select-option", has_text=word).first.click()
+        page.locator(".ag-select-list-item", has_text=word).first.click()
         page.wait_for_function("() => { const m = window.__marks; return m.down > 0 && "
                                "m.text > m.down && m.map > m.down && m.ladder > m.down && "
                                "m.plane > m.down; }", timeout=WAIT_MS)

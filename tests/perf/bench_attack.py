@@ -68,7 +68,7 @@ def fit_table() -> dict:
 def payloads(client: Client, small_fit: dict) -> list[tuple[str, dict, dict, str]]:
     """(name, callback, values, changed input) for each payload of the report."""
     fit_dep = client.dep
-    open_dep = client.dependency("results-table.data", "open-payload")
+    open_dep = client.dependency("results-table.rowData", "open-payload")
     boot_dep = client.dependency("boot-store.data")
     # the blend screen is a background job fed by a quick check in the request; an
     # attacker skips the check and sends the job its arguments directly
@@ -96,9 +96,9 @@ def payloads(client: Client, small_fit: dict) -> list[tuple[str, dict, dict, str
         ("fraction-field-spaces", blend_dep,
          blend(components=3, max_frac="a" + " " * 2500 + "x"), "blend-request.data"),
         ("1000-unknown-names", fit_dep,
-         {"results-table.data": names, "partial-choice.value": "good"}, "results-table.data"),
+         {"results-table.rowData": names, "partial-choice.value": "good"}, "results-table.rowData"),
         ("10000-own-rows", fit_dep,
-         {"results-table.data": own, "partial-choice.value": "good"}, "results-table.data"),
+         {"results-table.rowData": own, "partial-choice.value": "good"}, "results-table.rowData"),
         ("bootstrap-1000rows-x2000", boot_dep,
          {"boot-button.n_clicks": 1, "fit-store.data": fit_table(), "boot-n.value": 2000,
           "boot-method.value": "classic"}, "boot-button.n_clicks"),
@@ -107,16 +107,16 @@ def payloads(client: Client, small_fit: dict) -> list[tuple[str, dict, dict, str
          blend(pool="shelf", shelf={"contents": data_url(shelf), "filename": "shelf.csv"}),
          "blend-request.data"),
         ("blend-part-400-digits", fit_dep,
-         {"results-table.data": [{"solvent": "toluene " + "9" * 400 + " + ethanol 1",
-                                  "outcome": "dissolves"}], "partial-choice.value": "good"},
-         "results-table.data"),
+         {"results-table.rowData": [{"solvent": "toluene " + "9" * 400 + " + ethanol 1",
+                                     "outcome": "dissolves"}], "partial-choice.value": "good"},
+         "results-table.rowData"),
         ("temperature-1e308", blend_dep, blend(temperature=1e308), "blend-request.data"),
         ("three-solvent-screens", blend_dep, blend(components=3), "blend-request.data"),
         ("project-nested-100k", open_dep,
          {"open-payload.data": {"contents": data_url(nested, "application/json"),
                                 "filename": "p.json"}}, "open-payload.data"),
         ("rows-as-integer", fit_dep,
-         {"results-table.data": 5, "partial-choice.value": "good"}, "results-table.data"),
+         {"results-table.rowData": 5, "partial-choice.value": "good"}, "results-table.rowData"),
     ]
 
 
