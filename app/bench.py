@@ -18,6 +18,9 @@ listener, scrolling to a new row) are in ``assets/dashAgGridComponentFunctions.j
 
 from __future__ import annotations
 
+import json
+
+import flask
 from dash import ALL, ClientsideFunction, Input, Output, State, ctx, dcc, html, no_update
 from dash.exceptions import PreventUpdate
 
@@ -39,17 +42,28 @@ function(contents, filename) {
 #: Fills the type-ahead list with plain <option> elements (thousands of names: cheaper
 #: as DOM nodes than as components).
 FILL_NAMES_JS = """
-function(pairs) {
-    var list = document.getElementById('solvent-names');
-    if (!list || !pairs) { return window.dash_clientside.no_update; }
-    var frag = document.createDocumentFragment();
-    for (var i = 0; i < pairs.length; i++) {
-        var o = document.createElement('option');
-        o.value = pairs[i][0];
-        if (pairs[i][1]) { o.label = pairs[i][1]; }
-        frag.appendChild(o);
-    }
-    list.replaceChildren(frag);
+function(url) {
+    // The list (some 5,000 names, 340 kB) is fetched once the page has drawn: it is
+    // not part of the page's first answer, and the browser keeps it in its cache.
+    if (!url) { return window.dash_clientside.no_update; }
+    var fill = function() {
+        fetch(url, {credentials: 'same-origin'}).then(function(r) { return r.json(); })
+            .then(function(pairs) {
+                var list = document.getElementById('solvent-names');
+                if (!list || !Array.isArray(pairs)) { return; }
+                var frag = document.createDocumentFragment();
+                for (var i = 0; i < pairs.length; i++) {
+                    var o = document.createElement('option');
+                    o.value = pairs[i][0];
+                    if (pairs[i][1]) { o.label = pairs[i][1]; }
+                    frag.appendChild(o);
+                }
+                list.replaceChildren(frag);
+                list.setAttribute('data-filled', String(pairs.length));
+            });
+    };
+    if (window.requestIdleCallback) { window.requestIdleCallback(fill, {timeout: 3000}); }
+    else { setTimeout(fill, 1500); }
     return 'filled';
 }
 """
@@ -137,12 +151,33 @@ def results_table(rows):
     ])
 
 
-def type_ahead(library):
+#: Where the page fetches the type-ahead list (see :func:`serve_names`).
+NAMES_PATH = "/solsphere/names.json"
+
+
+def type_ahead(url: str = NAMES_PATH.lstrip("/")):
     """The page-wide type-ahead list (every library name, abbreviation, CAS number and
-    synonym) and its data; outside the tabs, so every screen's inputs can use it."""
-    opts = [list(p) for p in logic.type_ahead_options(library)]
-    return [html.Datalist(id="solvent-names"),  # filled in the browser from the store
-            dcc.Store(id="solvent-names-data", data=opts)]
+    synonym), filled in the browser from ``url`` once the page has drawn (relative to
+    the page, so a server behind a path prefix works); outside the tabs, so every
+    screen's inputs can use it."""
+    return [html.Datalist(id="solvent-names"),
+            dcc.Store(id="solvent-names-data", data=url)]
+
+
+def serve_names(app, get_library) -> None:
+    """The type-ahead list as one JSON answer at :data:`NAMES_PATH` (made once per
+    process; the browser may keep it a day: it changes only with the library)."""
+    cache: dict = {}
+
+    def names():
+        if "body" not in cache:
+            pairs = [list(p) for p in logic.type_ahead_options(get_library())]
+            cache["body"] = json.dumps(pairs, ensure_ascii=False, separators=(",", ":"))
+        r = flask.Response(cache["body"], mimetype="application/json")
+        r.headers["Cache-Control"] = "private, max-age=86400"
+        return r
+
+    app.server.add_url_rule(NAMES_PATH, "solsphere_names", names)
 
 
 def panel(rows, library, has_demo: bool):
@@ -278,6 +313,7 @@ def register(app, get_library):
             raise PreventUpdate from None
         return logic.delete_row(rows, row)
 
+    serve_names(app, get_library)
     app.clientside_callback(FILL_NAMES_JS, Output("solvent-names", "className"),
                             Input("solvent-names-data", "data"))
 

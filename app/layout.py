@@ -71,5 +71,5 @@ def build_layout(initial: dict | None, library, has_demo: bool):
         dcc.Store(id=ids.BOOT),
         dcc.Store(id=ids.NEXT),
         *[dcc.Store(id=v, data=0) for v in ids.SHOWN.values()],
-        *bench.type_ahead(library),
+        *bench.type_ahead(),
     ])

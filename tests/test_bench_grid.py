@@ -238,3 +238,19 @@ def test_an_empty_row_added_is_opened_for_typing_and_a_fix_applies_to_its_row(cl
     assert r.status_code == 200, r.get_data(as_text=True)[:500]
     rows = r.get_json()["response"]["results-table"]["rowData"]
     assert rows[2]["solvent"] == "chloroform" and rows[0]["solvent"] == "toluene"
+
+
+def test_the_type_ahead_list_is_its_own_cached_answer_not_part_of_the_page():
+    from solsphere.app import bench
+    from solsphere.app.server import create_app
+    app = create_app(None, initial={})
+    client = app.server.test_client()
+    r = client.get(bench.NAMES_PATH)
+    assert r.status_code == 200 and r.mimetype == "application/json"
+    assert "max-age=86400" in r.headers["Cache-Control"]
+    pairs = json.loads(r.get_data(as_text=True))
+    assert len(pairs) > 5000
+    assert ["MEK", "2-butanone"] in pairs and ["108-88-3", "toluene"] in pairs
+    layout = client.get("/_dash-layout").get_data(as_text=True)
+    assert "108-88-3" not in layout  # (toluene's CAS number) the page's first answer carries only the address
+    assert len(layout) < 150_000

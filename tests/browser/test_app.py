@@ -467,6 +467,7 @@ def test_replace_a_solvent_lists_singles_and_pairs(page, artefacts):
     tab(page, "Replace a solvent")
     assert page.get_attribute("#replace-name", "list") == "solvent-names"
     # the page-wide type-ahead list survives switching tabs
+    page.wait_for_selector("#solvent-names option[value='MEK']", state="attached")
     assert page.locator("#solvent-names option[value='MEK']").count() == 1
     page.fill("#replace-name", "toluene")
     page.press("#replace-name", "Enter")

@@ -74,6 +74,7 @@ def test_every_kind_of_cell_is_edited_and_the_sphere_refits(page, artefacts):
     cell(page, k, "solvent").dblclick()
     editor = page.locator(f"#{GRID} input.bench-solvent-editor")
     assert editor.get_attribute("list") == "solvent-names"
+    page.wait_for_selector("#solvent-names option[value='MEK']", state="attached")
     assert page.locator("#solvent-names option[value='MEK']").count() == 1
     assert editor.input_value() == "anisole"
     editor.press("Escape")
