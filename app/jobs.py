@@ -8,7 +8,7 @@ created, before ``solsphere app --workers N`` forks its worker processes (gunico
 ``preload_app``): every worker of the machine sees the same jobs, so a progress poll or
 a cancel answered by another worker than the one that started the job still finds it.
 
-Jobs are processes, so their number is bounded: at most :func:`default_max_jobs` (one
+Jobs are processes, so their number is bounded: at most :func:`default_max_jobs` (two
 per core) run at once on the machine, counted across the workers in the same folder; a
 request for one more gets a one-line message in the page (try again in a moment), and a
 lab server's operator raises the bound with ``solsphere app --max-jobs N``. Without the
@@ -43,8 +43,10 @@ STARTING_S = 30.0
 
 
 def default_max_jobs() -> int:
-    """Background jobs allowed at once by default: one per core (at least 2)."""
-    return max(2, os.cpu_count() or 1)
+    """Background jobs allowed at once by default: two per core (at least 4), so that a
+    page changing its settings quickly (each change starts a job while the last is
+    still being stopped) is not refused on a small machine."""
+    return max(4, 2 * (os.cpu_count() or 1))
 
 
 def busy_message(limit: int) -> str:

@@ -141,7 +141,7 @@ def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1
         says so and serves with one process.
     max_jobs : int or None
         Long computations (bootstrap, posterior, next trials, blend screens) running at
-        once on the machine, all workers together (default: one per core, at least 2).
+        once on the machine, all workers together (default: two per core, at least 4).
 
     Raises
     ------

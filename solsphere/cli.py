@@ -384,8 +384,8 @@ def build_parser() -> argparse.ArgumentParser:
                         "one per core, e.g. 2 (needs gunicorn, Unix only)")
     p.add_argument("--max-jobs", type=_jobs, default=None, metavar="N",
                    help="long computations (bootstrap, posterior, next trials, blend "
-                        "screens) running at once, all users together (default: one per "
-                        "core, at least 2); one more is refused with a message to try again")
+                        "screens) running at once, all users together (default: two per "
+                        "core, at least 4); one more is refused with a message to try again")
     _add_limits(p)
     return parser
 

@@ -253,3 +253,20 @@ def test_banner_follows_the_table_and_a_new_row_is_shown(page, artefacts):
     assert column(page, "solvent")[-1] == "PnB"  # the last row of 36: out of sight before
     page.screenshot(path=str(artefacts / "17-new-row-shown.png"))
     assert_clean_console(page)
+
+
+def test_a_tab_switch_shows_a_kept_screen_without_rebuilding_it(page):
+    load_demo(page)
+    tab(page, "Try next")
+    page.wait_for_selector("#shortlist .ag-row[row-index='0']")
+    assert page.is_hidden("#screen-bench") and page.is_visible("#screen-next")
+    # the screen stays on the page while hidden: the grid's own sort survives a switch
+    page.locator("#shortlist .ag-header-cell[col-id='name'] .ag-header-cell-label").click()
+    page.wait_for_selector("#shortlist .ag-header-cell[col-id='name'][aria-sort='ascending']")
+    page.evaluate("() => { window.__kept = document.querySelector('#shortlist .ag-root'); }")
+    tab(page, "Bench results")
+    assert page.is_visible("#screen-bench") and page.is_hidden("#screen-next")
+    tab(page, "Try next")
+    assert page.evaluate("() => window.__kept === document.querySelector('#shortlist .ag-root')")
+    assert page.locator("#shortlist .ag-header-cell[col-id='name'][aria-sort='ascending']").count() == 1
+    assert_clean_console(page)
