@@ -19,6 +19,7 @@ each, and the machine would stall.
 from __future__ import annotations
 
 import atexit
+import functools
 import os
 import shutil
 import tempfile
@@ -38,6 +39,8 @@ PROGRESS_EVERY_S = 0.15
 
 #: Cache key of the running jobs' process ids (shared by the workers).
 RUNNING_KEY = "solsphere-running-jobs"
+#: How much lower the jobs' CPU priority is than the server's (Unix ``nice`` steps).
+NICENESS = 10
 #: Longest time a job's process may take to start [s] (its slot is held meanwhile).
 STARTING_S = 30.0
 
@@ -58,6 +61,16 @@ def busy_message(limit: int) -> str:
     return (f"The server is already running {limit} long computations, its limit; try "
             f"again in a moment (a lab server raises the limit with solsphere app "
             f"--max-jobs N).")
+
+
+def run_niced(job_fn, *args):
+    """Run a job at a lower CPU priority (:data:`NICENESS`): the machine answers its
+    users' clicks first, and the long computations take the time left over."""
+    try:
+        os.nice(NICENESS)
+    except (OSError, AttributeError):  # not allowed, or not on this system: run as is
+        pass
+    return job_fn(*args)
 
 
 def manager(folder: str | None = None, max_jobs: int | None = None):
@@ -103,7 +116,8 @@ def manager(folder: str | None = None, max_jobs: int | None = None):
                 self.handle.set(RUNNING_KEY, running + [slot])
             pid = None
             try:
-                pid = super().call_job_fn(key, job_fn, args, context)
+                pid = super().call_job_fn(key, functools.partial(run_niced, job_fn), args,
+                                          context)
                 return pid
             finally:  # the slot becomes the process (or is freed if it did not start)
                 with self.handle.transact():

@@ -334,3 +334,23 @@ def test_max_jobs_option_reaches_the_app_and_refuses_nonsense():
     assert [m.max_jobs for m in managers] == [3]
     code, out, err = run_cli(["app", "--max-jobs", "0"])
     assert code == 2 and "--max-jobs" in err and "Traceback" not in err
+
+
+def _report_niceness(*_args):
+    import os
+    from pathlib import Path
+    Path(os.environ["SOLSPHERE_TEST_NICE_FILE"]).write_text(str(os.nice(0)))
+
+
+def test_background_jobs_run_at_a_lower_priority(tmp_path, monkeypatch):
+    import os
+    import time
+    from solsphere.app import jobs
+    out = tmp_path / "nice.txt"
+    monkeypatch.setenv("SOLSPHERE_TEST_NICE_FILE", str(out))
+    m = jobs.manager(str(tmp_path / "jobs"), max_jobs=2)
+    m.call_job_fn("k", _report_niceness, (), {})
+    deadline = time.monotonic() + 30
+    while not out.exists() and time.monotonic() < deadline:
+        time.sleep(0.05)
+    assert int(out.read_text()) == min(19, os.nice(0) + jobs.NICENESS)
