@@ -382,6 +382,48 @@ def test_a_big_sheet_is_refused_before_it_is_read(tmp_path):
     _refused(["fit", p], "cells")
 
 
+def _ods_with_tail(path, far_value: bool):
+    """A results sheet as LibreOffice stores it: its rows, then the empty rows and
+    columns it writes up to its last row and column, repeated, and (``far_value``) one
+    stray value far away."""
+    doc = OpenDocumentSpreadsheet()
+    t = Table(name="Bench")
+    for r in [("solvent", "outcome"), ("acetone", "good"), ("toluene", "bad"),
+              ("ethanol", "good"), ("n-hexane", "bad")]:
+        tr = TableRow()
+        for v in r:
+            c = TableCell(valuetype="string")
+            c.addElement(P(text=v))
+            tr.addElement(c)
+        tr.addElement(TableCell(numbercolumnsrepeated=1020))  # empty to the last column
+        t.addElement(tr)
+    tail = TableRow(numberrowsrepeated=1_048_000)
+    tail.addElement(TableCell(numbercolumnsrepeated=1024))
+    t.addElement(tail)
+    if far_value:
+        far = TableRow()
+        far.addElement(TableCell(numbercolumnsrepeated=199))
+        c = TableCell(valuetype="string")
+        c.addElement(P(text="x"))
+        far.addElement(c)
+        t.addElement(far)
+    doc.spreadsheet.addElement(t)
+    doc.save(str(path))
+    return path
+
+
+def test_an_ods_stray_value_far_away_is_refused_before_it_is_read(tmp_path):
+    p = _ods_with_tail(tmp_path / "far.ods", far_value=True)
+    _refused(["fit", p], "used range is 1,048,006 rows × 200 columns", "--sheet")
+
+
+def test_an_ods_with_the_usual_empty_tail_reads(tmp_path, lib):
+    # the repeated empty rows and columns a spreadsheet writes are not part of the range
+    p = _ods_with_tail(tmp_path / "tail.ods", far_value=False)
+    t = T.read_trials(p, library=lib)
+    assert t.names[:3] == ["acetone", "toluene", "ethanol"] and len(t) == 4
+
+
 def test_shuffled_lab_sheet_reads_like_its_csv(tmp_path, lib):
     rnd = random.Random(3)
     rows = ROWS[:]

@@ -164,6 +164,9 @@ def read_sheet(data: bytes, file: str, sheet: str | None = None) -> Sheet:
     if "EncryptedPackage" in names or "EncryptionInfo" in names:
         raise InputError("the workbook is protected by a password.", file=file,
                          hint="save a copy without the password and give that file")
+    if "content.xml" in names:  # the reader builds every sheet of an .ods when it opens
+        for sheet_name, extent in _ods_extents(zf, file).items():
+            _refuse_big(extent, f"{file}, sheet {sheet_name!r}")
     try:
         wb = python_calamine.CalamineWorkbook.from_filelike(io.BytesIO(data))
         sheet_names = list(wb.sheet_names)
@@ -184,15 +187,14 @@ def read_sheet(data: bytes, file: str, sheet: str | None = None) -> Sheet:
                              column="--sheet", hint="give one of these names to --sheet")
         name = match[0]
     label = f"{file}, sheet {name!r}"
+    # the used range from the sheet's own XML first: the reader builds the whole range
+    # in memory (a stray cell at row 1,048,000, column GR took it 10 s and gigabytes)
+    _refuse_big(_used_extent(zf, name, file), label)
     try:
         ws = wb.get_sheet_by_name(name)
         end = ws.end
         n_cells = 0 if end is None else (end[0] + 1) * (end[1] + 1)
-        if n_cells > MAX_CELLS:
-            raise InputError(f"the sheet's used range is {end[0] + 1:,} rows × "
-                             f"{end[1] + 1:,} columns, more than {MAX_CELLS:,} cells.",
-                             file=label, hint="copy the bench results alone to a new sheet "
-                                              "and give its name to --sheet")
+        _refuse_big(None if end is None else (end[0] + 1, end[1] + 1), label)
         grid = ws.to_python(skip_empty_area=False) if n_cells else []
     except InputError:
         raise
@@ -213,6 +215,87 @@ def read_sheet(data: bytes, file: str, sheet: str | None = None) -> Sheet:
                                           "--sheet NAME, or fill this one")
     out = Sheet(name=name, rows=rows, label=label)
     _check_cells(zf, out, ws, file, name)
+    return out
+
+
+def _refuse_big(extent: tuple[int, int] | None, label: str) -> None:
+    """Refuse a used range of more than :data:`MAX_CELLS` cells ((rows, columns))."""
+    if extent and extent[0] * extent[1] > MAX_CELLS:
+        raise InputError(f"the sheet's used range is {extent[0]:,} rows × {extent[1]:,} "
+                         f"columns, more than {MAX_CELLS:,} cells.", file=label,
+                         hint="copy the bench results alone to a new sheet and give its "
+                              "name to --sheet")
+
+
+def _used_extent(zf: zipfile.ZipFile, name: str, label: str) -> tuple[int, int] | None:
+    """(last row, last column) holding something in sheet ``name``, read from the
+    sheet's XML in one streaming pass (time and memory linear in the file), or None
+    when the XML cannot say (the reader then decides).
+
+    Cells that hold nothing (a format only) do not count; in an .ods sheet, repeated
+    empty rows and columns (a spreadsheet writes them up to its last row) do not count.
+    """
+    if "content.xml" in zf.namelist():
+        return _ods_extents(zf, label).get(name)
+    part = _xlsx_sheet_part(zf, name, label)
+    raw = None if part is None else _read_part(zf, part, label)
+    if raw is None:
+        return None
+    m = f"{{{_XLSX_MAIN}}}"
+    last_row = last_col = row = 0
+    try:
+        for _, el in ET.iterparse(io.BytesIO(raw), events=("end",)):
+            if el.tag == f"{m}c":
+                if len(el):  # a value, an inline string or a formula
+                    r, c = _cell_ref(el.get("r", ""))
+                    last_row = max(last_row, r or row)
+                    last_col = max(last_col, c + 1)
+                el.clear()
+            elif el.tag == f"{m}row":
+                row = int(el.get("r") or row + 1)
+                el.clear()
+    except (ET.ParseError, ValueError):
+        return None
+    return (last_row, last_col) if last_row and last_col else None
+
+
+def _ods_extents(zf: zipfile.ZipFile, label: str) -> dict[str, tuple[int, int]]:
+    """:func:`_used_extent` of every sheet of an .ods (content.xml), by sheet name."""
+    raw = _read_part(zf, "content.xml", label)
+    if raw is None:
+        return {}
+    t = f"{{{_ODS_TABLE}}}"
+    office_type = "{urn:oasis:names:tc:opendocument:xmlns:office:1.0}value-type"
+    out: dict[str, tuple[int, int]] = {}
+    name = None
+    last_row = last_col = row = col = 0
+    try:
+        for event, el in ET.iterparse(io.BytesIO(raw), events=("start", "end")):
+            if el.tag == f"{t}table":
+                if event == "start":
+                    name, last_row, last_col, row = el.get(f"{t}name"), 0, 0, 0
+                else:
+                    if last_row and last_col:
+                        out[name] = (last_row, last_col)
+                    el.clear()
+                continue
+            if name is None:
+                continue
+            if el.tag == f"{t}table-row" and event == "start":
+                col = 0
+            elif el.tag == f"{t}table-row" and event == "end":
+                rep = int(el.get(f"{t}number-rows-repeated", "1") or 1)
+                if any(c.get(office_type) or len(c) for c in el.iter(f"{t}table-cell")):
+                    last_row = max(last_row, row + rep)
+                row += rep
+                el.clear()
+            elif el.tag in (f"{t}table-cell", f"{t}covered-table-cell") and event == "end":
+                rep = int(el.get(f"{t}number-columns-repeated", "1") or 1)
+                if el.get(office_type) or len(el):
+                    last_col = max(last_col, col + rep)
+                col += rep
+    except (ET.ParseError, ValueError):
+        return out
     return out
 
 
