@@ -13,9 +13,9 @@ from solsphere.workflows import DEFAULT_RANK
 from dash import Input, Output, State, ctx, dcc, html
 from dash.exceptions import PreventUpdate
 
-from . import blendlogic, ids, jobs, logic
+from . import blendlogic, ids, logic
 from .bench import CHECK_UPLOAD_JS
-from .sphere import HIDE, SHOW, progress_box
+from .sphere import progress_box, progress_job
 from .share import caution_line
 from .grids import clicked_row, column, grid
 
@@ -234,12 +234,7 @@ def register(app, get_library):
                   Output("blend-detail", "children", allow_duplicate=True),
                   Output("blend-table", "columnDefs"), Output("blend-notes", "children"),
                   Input("blend-request", "data"), State(ids.FIT, "data"),
-                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
-                  running=[(Output("bl-progress-box", "style"), SHOW, HIDE)],
-                  progress=[Output("bl-progress", "value"), Output("bl-progress-text",
-                                                                   "children")],
-                  progress_default=["0", ""],
-                  cancel=[Input("bl-cancel", "n_clicks")])
+                  **progress_job("bl"))
     def update(set_progress, request, result):
         """The screen itself, as a background job (a three-solvent screen of every
         liquid takes seconds): a progress bar and a cancel button, the page responsive."""

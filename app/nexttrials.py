@@ -9,7 +9,7 @@ from dash import Input, Output, State, dcc, html
 from dash.exceptions import PreventUpdate
 
 from . import ids, jobs, uncertainty
-from .sphere import HIDE, SHOW, progress_box
+from .sphere import progress_box, progress_job
 from .share import caution_line
 from .trynext import filters
 
@@ -58,15 +58,10 @@ def register(app, get_library):
                   State("next-trials-samples", "value"), State("nt-min-fp", "value"),
                   State("nt-max-bp", "value"), State("nt-no-carc", "value"),
                   State("nt-exclude", "value"), State("nt-pool", "value"),
-                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
-                  running=[(Output("next-trials-button", "disabled"), True, False),
-                           (Output("next-trials-running", "children"),
-                            "Sampling spheres and scoring the candidates…", ""),
-                           (Output("nt-progress-box", "style"), SHOW, HIDE)],
-                  progress=[Output("nt-progress", "value"), Output("nt-progress-text",
-                                                                   "children")],
-                  progress_default=["0", ""],
-                  cancel=[Input("nt-cancel", "n_clicks")])
+                  **progress_job("nt", running=[
+                      (Output("next-trials-button", "disabled"), True, False),
+                      (Output("next-trials-running", "children"),
+                       "Sampling spheres and scoring the candidates…", "")]))
     def compute(set_progress, n, result, how_many, n_samples, min_fp, max_bp, no_carc,
                 exclude, pool):
         """A background job (progress bar, cancel button): the page stays responsive."""

@@ -29,6 +29,19 @@ def progress_box(prefix: str):
                                           className="btn btn-quiet btn-small")])
 
 
+def progress_job(prefix: str, running=()) -> dict:
+    """The keyword arguments of a background callback shown with :func:`progress_box`
+    ``prefix``: polled every :data:`jobs.POLL_MS`, the box shown while it runs (after
+    the ``running`` entries of its own), the bar and its text as its progress, its
+    Cancel button as the cancel."""
+    return dict(prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
+                running=[*running, (Output(f"{prefix}-progress-box", "style"), SHOW, HIDE)],
+                progress=[Output(f"{prefix}-progress", "value"),
+                          Output(f"{prefix}-progress-text", "children")],
+                progress_default=["0", ""],
+                cancel=[Input(f"{prefix}-cancel", "n_clicks")])
+
+
 def panel(partial: str):
     """Layout of the 'Sphere' panel."""
     return html.Div(className="panel sphere-panel", children=[
@@ -136,15 +149,10 @@ def register(app, get_library):
 
     @app.callback(Output(ids.BOOT, "data"), Input("boot-button", "n_clicks"),
                   State(ids.FIT, "data"), State("boot-n", "value"), State("boot-method", "value"),
-                  prevent_initial_call=True, background=True, interval=jobs.POLL_MS,
-                  running=[(Output("boot-button", "disabled"), True, False),
-                           (Output("boot-running", "children"),
-                            "Computing the plausible spheres…", ""),
-                           (Output("boot-progress-box", "style"), SHOW, HIDE)],
-                  progress=[Output("boot-progress", "value"), Output("boot-progress-text",
-                                                                     "children")],
-                  progress_default=["0", ""],
-                  cancel=[Input("boot-cancel", "n_clicks")])
+                  **progress_job("boot", running=[
+                      (Output("boot-button", "disabled"), True, False),
+                      (Output("boot-running", "children"), "Computing the plausible spheres…",
+                       "")]))
     def run_bootstrap(set_progress, n, result, n_resamples, method):
         """A background job, run only on the button: the refit on every edit stays fast,
         and the page stays responsive meanwhile (progress bar, cancel button)."""
