@@ -11,7 +11,9 @@ a cancel answered by another worker than the one that started the job still find
 Jobs are processes, so their number is bounded: at most :func:`default_max_jobs` (two
 per core) run at once on the machine, counted across the workers in the same folder; a
 request for one more gets a one-line message in the page (try again in a moment), and a
-lab server's operator raises the bound with ``solsphere app --max-jobs N``. Without the
+lab server's operator raises the bound with ``solsphere app --max-jobs N``. One client
+address may hold all but one of the places (:func:`per_address`), so a user (or a
+script) asking for jobs over and over never shuts the others out. Without the
 bound, a page (or a script) asking for jobs over and over would start a process for
 each, and the machine would stall.
 """
@@ -25,6 +27,7 @@ import shutil
 import tempfile
 import time
 
+import flask
 import psutil
 
 from solsphere.errors import InputError
@@ -63,6 +66,30 @@ def busy_message(limit: int) -> str:
             f"--max-jobs N).")
 
 
+def per_address(limit: int) -> int:
+    """Jobs one client address may run at once: all but one of the places (at least one).
+
+    >>> per_address(4), per_address(1)
+    (3, 1)
+    """
+    return max(1, limit - 1)
+
+
+def own_busy_message(running: int) -> str:
+    """The line a job refused for its address shows.
+
+    >>> own_busy_message(3)[:60]
+    'This address is already running 3 long computations, the mos'
+    """
+    return (f"This address is already running {running} long computations, the most one "
+            f"address may run at once here; wait for one to finish or cancel it.")
+
+
+def requester() -> str | None:
+    """The client address of the request being answered (None outside a request)."""
+    return flask.request.remote_addr if flask.has_request_context() else None
+
+
 def run_niced(job_fn, *args):
     """Run a job at a lower CPU priority (:data:`NICENESS`): the machine answers its
     users' clicks first, and the long computations take the time left over."""
@@ -91,9 +118,9 @@ def manager(folder: str | None = None, max_jobs: int | None = None):
                          file="<command line>", hint="e.g. --max-jobs 2")
 
     def alive(entry) -> bool:
-        """A job still running: [pid, start time]; a slot taken a moment ago whose
-        process is still starting has pid None."""
-        pid, started = entry
+        """A job still running: [pid, start time, client address]; a slot taken a
+        moment ago whose process is still starting has pid None."""
+        pid, started = entry[:2]
         if pid is None:
             return time.time() - started < STARTING_S
         try:
@@ -107,12 +134,15 @@ def manager(folder: str | None = None, max_jobs: int | None = None):
         max_jobs = limit
 
         def call_job_fn(self, key, job_fn, args, context):
-            slot = [None, time.time()]
+            who = requester()
+            slot = [None, time.time(), who]
             with self.handle.transact():  # one worker at a time counts and takes a slot
                 running = [e for e in self.handle.get(RUNNING_KEY, []) if alive(e)]
-                if len(running) >= limit:
+                mine = sum(who is not None and e[2:] == [who] for e in running)
+                if len(running) >= limit or mine >= per_address(limit):
                     self.handle.set(RUNNING_KEY, running)
-                    raise InputError(busy_message(limit), setting="max_jobs")
+                    text = busy_message(limit) if len(running) >= limit else own_busy_message(mine)
+                    raise InputError(text, setting="max_jobs")
                 self.handle.set(RUNNING_KEY, running + [slot])
             pid = None
             try:
@@ -123,7 +153,7 @@ def manager(folder: str | None = None, max_jobs: int | None = None):
                 with self.handle.transact():
                     running = [e for e in self.handle.get(RUNNING_KEY, []) if e != slot]
                     if pid:
-                        running.append([pid, slot[1]])
+                        running.append([pid, *slot[1:]])
                     self.handle.set(RUNNING_KEY, [e for e in running if alive(e)])
 
     if folder is None:

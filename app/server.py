@@ -31,8 +31,11 @@ from . import logic
 MAX_REQUEST_BYTES = 7_500_000
 #: Most worker processes ``serve`` starts (``--workers``): about one per core is enough.
 MAX_WORKERS = 64
-#: Threads per worker process: a slow connection never holds a whole process.
-WORKER_THREADS = 4
+#: Threads per worker process: a slow connection never holds a whole process, and the
+#: requests held for the low-priority process (``fairshare.QUEUE``) leave as many free.
+WORKER_THREADS = 16
+#: Where the app keeps its :class:`fairshare.FairShare` (Flask's ``extensions``).
+FAIR_SHARE = "solsphere-fair-share"
 #: Seconds a worker may stay unresponsive before it is replaced (the longest app request,
 #: a large bootstrap on a slow machine, stays well under this).
 WORKER_TIMEOUT = 120
@@ -79,7 +82,7 @@ def create_app(path=None, initial: dict | None = None, max_jobs: int | None = No
     dash.Dash
     """
     import dash
-    from . import guard, jobs
+    from . import fairshare, guard, ids, jobs
     from .callbacks import register_callbacks
     from .layout import build_layout
 
@@ -94,6 +97,10 @@ def create_app(path=None, initial: dict | None = None, max_jobs: int | None = No
     app.layout = build_layout(initial, library, has_demo=_demo_installed())
     register_callbacks(app, _library)
     guard.install(app)  # after the callbacks: the policy hashes their inline scripts
+    # made here, before any worker is forked: the usage table is shared by all of them
+    share = fairshare.FairShare(app.server.wsgi_app, fairshare.Usage(), ids.NOTICE)
+    app.server.wsgi_app = share
+    app.server.extensions[FAIR_SHARE] = share
     return app
 
 
@@ -170,6 +177,7 @@ def serve(path=None, host: str = "127.0.0.1", port: int = 8050, workers: int = 1
           flush=True)
     if sock is None:
         from . import guard
+        app.server.extensions[FAIR_SHARE].start_low_priority()  # still one thread here
         app.run(host=host, port=port, debug=False, request_handler=guard.request_handler())
     else:
         _serve_workers(app.server, sock, workers)
@@ -256,6 +264,9 @@ def _serve_workers(wsgi_app, sock: socket.socket, workers: int) -> None:
     from gunicorn.app.base import BaseApplication
 
     options = worker_options(sock.detach(), workers)  # gunicorn owns the socket from here
+    share = wsgi_app.extensions[FAIR_SHARE]
+    # each worker forks its low-priority process at once, while it has one thread
+    options["post_fork"] = lambda arbiter, worker: share.start_low_priority()
 
     class _Workers(BaseApplication):
         def load_config(self):

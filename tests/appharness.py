@@ -14,6 +14,8 @@ the way the browser does.
 
 from __future__ import annotations
 
+import functools
+import http.client
 import json
 import os
 import signal
@@ -127,13 +129,28 @@ def update_body(dep: dict, values: dict, changed: str) -> dict:
             "changedPropIds": [changed]}
 
 
+class FromAddress(urllib.request.HTTPHandler):
+    """Connect from ``address`` (e.g. 127.0.0.12): the server sees another client."""
+
+    def __init__(self, address: str):
+        super().__init__()
+        self.address = address
+
+    def http_open(self, req):
+        return self.do_open(functools.partial(http.client.HTTPConnection,
+                                              source_address=(self.address, 0)), req)
+
+
 class Client:
     """Builds callback requests from the app's own callback map, as the browser does."""
 
-    def __init__(self, base: str, timeout: float = REQUEST_TIMEOUT):
+    def __init__(self, base: str, timeout: float = REQUEST_TIMEOUT, source: str | None = None):
         self.base = base
         self.timeout = timeout
-        self.opener = urllib.request.build_opener(urllib.request.ProxyHandler({}))
+        handlers = [urllib.request.ProxyHandler({})]
+        if source:  # another loopback address (127.0.0.0/8): another user, to the server
+            handlers.append(FromAddress(source))
+        self.opener = urllib.request.build_opener(*handlers)
         self.deps = json.loads(self.get("_dash-dependencies"))
         self.dep = self.dependency("fit-store.data", "results-table")
 
@@ -189,6 +206,22 @@ def app_command(port: int, workers: int, host: str = "127.0.0.1", *extra: str) -
     """How a user starts the app (``python -m solsphere`` = the ``solsphere`` command)."""
     return [sys.executable, "-m", "solsphere", "app", "--host", host, "--port", str(port),
             "--workers", str(workers), *extra]
+
+
+class FakeApp:
+    """Stands for the app when a test replaces ``server.create_app``: records how it
+    would be served, ("run", options), and that its low-priority process starts
+    first, ("low",)."""
+
+    def __init__(self, calls: list):
+        import types
+        from solsphere.app.server import FAIR_SHARE
+        self.calls = calls
+        share = types.SimpleNamespace(start_low_priority=lambda: calls.append(("low",)))
+        self.server = types.SimpleNamespace(extensions={FAIR_SHARE: share})
+
+    def run(self, **kw):
+        self.calls.append(("run", kw))
 
 
 class ServedApp:

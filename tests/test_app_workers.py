@@ -27,7 +27,7 @@ from pathlib import Path
 import pytest
 
 import appharness
-from appharness import ROOT, Client, ServedApp, expected_fit, make_projects, verdict
+from appharness import ROOT, Client, FakeApp, ServedApp, expected_fit, make_projects, verdict
 from clirun import run_cli
 from solsphere import cli
 from solsphere.library.table import load_library
@@ -73,7 +73,8 @@ def test_two_workers_serve_the_library_fit_and_stop(projects):
                    for _ in range(2) for i, r in enumerate(rows)]
         assert answers == ["ok"] * (2 * len(rows))
         if Path("/proc/self/stat").exists():
-            assert len(_group_members(served.proc.pid)) == 3  # the master and 2 workers
+            # the master, 2 workers and each worker's low-priority process (fairshare)
+            assert len(_group_members(served.proc.pid)) == 5
         out = served.output()
         assert "2 worker processes" in out and "warning" not in out
     finally:
@@ -155,21 +156,12 @@ def test_serve_checks_workers_itself():
             serve(workers=bad)
 
 
-class _FakeApp:
-    def __init__(self, calls):
-        self.calls = calls
-        self.server = object()
-
-    def run(self, **kw):
-        self.calls.append(("run", kw))
-
-
 @pytest.fixture
 def fake_serving(monkeypatch):
     """serve() with the app, the socket and gunicorn replaced by recorders."""
     from solsphere.app import server
     calls = []
-    monkeypatch.setattr(server, "create_app", lambda path=None, **_: _FakeApp(calls))
+    monkeypatch.setattr(server, "create_app", lambda path=None, **_: FakeApp(calls))
     monkeypatch.setattr(server, "listen_socket",
                         lambda host, port: calls.append(("bind", host, port)) or "sock")
     monkeypatch.setattr(server, "_serve_workers",
@@ -192,7 +184,8 @@ def test_a_public_address_with_workers_still_warns(fake_serving, host, warned):
 def test_one_worker_is_the_threaded_server(fake_serving):
     rc, _, err = run(["app", "--workers", "1"])
     assert rc == 0 and err == ""
-    [(what, kw)] = fake_serving
+    [low, (what, kw)] = fake_serving
+    assert low == ("low",)  # the low-priority process starts before the server
     handler = kw.pop("request_handler")  # names the server without versions
     assert what == "run" and kw == {"host": "127.0.0.1", "port": 8050, "debug": False}
     assert handler.version_string(None) == "solsphere"
@@ -204,14 +197,14 @@ def test_without_gunicorn_it_says_so_and_serves_with_one_process(fake_serving, m
                         lambda: "the 'gunicorn' package (install it with: pip install gunicorn)")
     rc, _, err = run(["app", "--workers", "3"])
     assert rc == 0
-    assert [c[0] for c in fake_serving] == ["run"]
+    assert [c[0] for c in fake_serving] == ["low", "run"]
     assert len(err.strip().splitlines()) == 1
     assert "--workers 3 needs the 'gunicorn' package" in err and "one process" in err
 
 
 def test_a_busy_port_is_one_line_and_exit_2(monkeypatch):
     from solsphere.app import server
-    monkeypatch.setattr(server, "create_app", lambda path=None, **_: _FakeApp([]))
+    monkeypatch.setattr(server, "create_app", lambda path=None, **_: FakeApp([]))
     with socket.socket() as taken:
         taken.bind(("127.0.0.1", 0))
         taken.listen(1)
@@ -354,3 +347,32 @@ def test_background_jobs_run_at_a_lower_priority(tmp_path, monkeypatch):
     while not out.exists() and time.monotonic() < deadline:
         time.sleep(0.05)
     assert int(out.read_text()) == min(19, os.nice(0) + jobs.NICENESS)
+
+
+def test_one_address_never_takes_every_job_place(tmp_path):
+    # a user (or a script) asking for jobs over and over leaves a place for the others
+    import flask
+    from solsphere.app import jobs
+    from solsphere.errors import InputError
+
+    m = jobs.manager(str(tmp_path), max_jobs=3)
+    app = flask.Flask("t")
+    started = []
+
+    def start(address, key):
+        with app.test_request_context(environ_base={"REMOTE_ADDR": address}):
+            started.append(m.call_job_fn(key, _sleeper, (), {}))
+
+    try:
+        start("10.0.0.7", "k1")
+        start("10.0.0.7", "k2")
+        with pytest.raises(InputError) as exc:
+            start("10.0.0.7", "k3")
+        assert str(exc.value) == jobs.own_busy_message(2)
+        start("10.0.0.8", "k4")  # the place left over is another address's
+        with pytest.raises(InputError) as exc:
+            start("10.0.0.9", "k5")
+        assert str(exc.value) == jobs.busy_message(3)
+    finally:
+        for pid in started:
+            m.terminate_job(pid)

@@ -25,6 +25,7 @@ from pathlib import Path
 
 import pytest
 
+from appharness import FakeApp
 from clirun import run_cli
 from solsphere import cli
 from solsphere.library.table import load_library
@@ -63,25 +64,19 @@ def test_loopback_detection(host, loopback):
         assert host in warning and "127.0.0.1" in warning and "\n" not in warning
 
 
-class _FakeApp:
-    def __init__(self, calls):
-        self.calls = calls
-
-    def run(self, **kw):
-        self.calls.append(kw)
-
-
 @pytest.mark.parametrize("argv,warned", [(["app"], False),
                                          (["app", "--host", "0.0.0.0", "--port", "8123"], True),
                                          (["app", "--host", "::1"], False)])
 def test_the_command_warns_on_public_binding(argv, warned, monkeypatch):
     from solsphere.app import server
     calls = []
-    monkeypatch.setattr(server, "create_app", lambda path=None, **_: _FakeApp(calls))
+    monkeypatch.setattr(server, "create_app", lambda path=None, **_: FakeApp(calls))
     rc, out, err = run(argv)
     assert rc == 0, err
-    assert calls and calls[0]["host"] == (argv[2] if len(argv) > 2 else "127.0.0.1")
-    assert calls[0].get("debug") is False  # never the debugger on a served app
+    assert calls[0] == ("low",)  # the low-priority process starts before the server
+    options = calls[1][1]
+    assert options["host"] == (argv[2] if len(argv) > 2 else "127.0.0.1")
+    assert options.get("debug") is False  # never the debugger on a served app
     assert ("warning" in err and "anyone who can reach" in err) is warned
     if not warned:
         assert err == ""

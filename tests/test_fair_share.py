@@ -1,0 +1,216 @@
+"""Each client address's fair share of the app's server (app/fairshare.py).
+
+- The usage table: charges add up and fade with the half-life, addresses are kept
+  apart, a full table makes room by dropping the address that used least lately, and
+  the table is shared by processes forked after it is made (the server's workers).
+- The middleware: a callback request of an address over its share, or with a large
+  body, is answered by the low-priority process (marked by a response header) with the
+  same answer the worker gives; other addresses stay in the worker; every place taken
+  gives a line in the page, not an error; a stopped low-priority process leaves the
+  requests to the worker.
+- Served for real (``solsphere app --workers 2`` and the single-process server), with
+  clients on different loopback addresses standing for different machines.
+
+Every project here is invented (``appharness.make_projects``).
+"""
+
+from __future__ import annotations
+
+import json
+import multiprocessing
+import sys
+import time
+import types
+import urllib.request
+
+import pytest
+
+from appharness import Client, ServedApp, expected_fit, make_projects, update_body, verdict
+from solsphere.app import fairshare
+from solsphere.app.fairshare import HALF_LIFE_S, PRIORITY_HEADER, Usage
+
+pytestmark = pytest.mark.skipif(sys.platform == "win32", reason="fork and gunicorn are Unix")
+
+
+# ----------------------------------------------------------------------------- the table
+
+
+def test_charges_add_up_and_fade_with_the_half_life():
+    u = Usage(size=16)
+    u.charge("10.1.1.1", 0.6, now=100.0)
+    u.charge("10.1.1.1", 0.4, now=100.0)
+    assert u.level("10.1.1.1", now=100.0) == pytest.approx(1.0)
+    assert u.level("10.1.1.1", now=100.0 + 2 * HALF_LIFE_S) == pytest.approx(0.25)
+    assert u.level("10.1.1.2", now=100.0) == 0.0  # another address is another client
+    u.charge("10.1.1.1", 1.0, now=100.0 + HALF_LIFE_S)  # fades, then adds
+    assert u.level("10.1.1.1", now=100.0 + HALF_LIFE_S) == pytest.approx(1.5)
+
+
+def test_a_full_table_drops_the_address_that_used_least():
+    u = Usage(size=4)
+    u.charge("heavy", 50.0, now=0.0)
+    for i in range(40):  # many one-off visitors pass through the four places
+        u.charge(f"visitor {i}", 0.01, now=1.0 + i)
+    assert u.level("heavy", now=41.0) > 1.0  # the heavy address is still known
+    assert u.level("visitor 0", now=41.0) == 0.0  # an early visitor made room
+
+
+def _charge_in_child(u):
+    u.charge("10.9.9.9", 2.0)
+
+
+def test_the_table_is_shared_with_forked_processes():
+    u = Usage(size=16)
+    p = multiprocessing.get_context("fork").Process(target=_charge_in_child, args=(u,))
+    p.start()
+    p.join(30)
+    assert p.exitcode == 0
+    assert u.level("10.9.9.9") == pytest.approx(2.0, rel=0.01)
+
+
+# ----------------------------------------------------------------------------- middleware
+
+
+@pytest.fixture(scope="module")
+def app():
+    from solsphere.app.server import FAIR_SHARE, create_app
+    a = create_app(None, initial={})
+    return a, a.server.extensions[FAIR_SHARE]
+
+
+@pytest.fixture(scope="module")
+def projects(lib):
+    rows = make_projects(lib, 3, seed=11)
+    return rows, [expected_fit(r, lib) for r in rows]
+
+
+def _fit_body(app, rows) -> dict:
+    deps = app.server.test_client().get("/_dash-dependencies").get_json()
+    dep = next(d for d in deps if "fit-store.data" in d["output"]
+               and d["inputs"][0]["id"] == "results-table")
+    return update_body(dep, {"results-table.rowData": rows, "partial-choice.value": "good"},
+                       "results-table.rowData")
+
+
+def test_in_a_test_client_every_request_stays_in_the_worker(app, projects):
+    a, share = app
+    assert not share.low.alive  # nothing started: the app behaves as before
+    r = a.server.test_client().post("/_dash-update-component", json=_fit_body(a, projects[0][0]),
+                                    environ_base={"REMOTE_ADDR": "10.2.2.2"})
+    assert r.status_code == 200 and PRIORITY_HEADER not in r.headers
+    assert share.usage.level("10.2.2.2") > 0  # its CPU time was charged
+
+
+def test_every_place_taken_gives_a_line_in_the_page(app, projects, monkeypatch):
+    a, share = app
+    monkeypatch.setattr(share.low, "process", types.SimpleNamespace(is_alive=lambda: True))
+    monkeypatch.setattr(share.low, "held", types.SimpleNamespace(acquire=lambda **k: False))
+    share.usage.charge("10.3.3.3", 100.0)  # far over its share
+    r = a.server.test_client().post("/_dash-update-component", json=_fit_body(a, projects[0][0]),
+                                    environ_base={"REMOTE_ADDR": "10.3.3.3"})
+    assert r.status_code == 200 and r.headers[PRIORITY_HEADER] == "busy"
+    answer = r.get_json()
+    assert answer["response"] == {}  # nothing changes in the page but the notice
+    assert "busy" in answer["sideUpdate"]["notice"]["children"]["props"]["children"]
+    # an address within its share is not held up by the full places
+    r = a.server.test_client().post("/_dash-update-component", json=_fit_body(a, projects[0][0]),
+                                    environ_base={"REMOTE_ADDR": "10.4.4.4"})
+    assert r.status_code == 200 and "response" in r.get_json()
+    assert PRIORITY_HEADER not in r.headers
+
+
+def test_a_request_runs_the_same_in_the_low_priority_process(app, projects):
+    # the low-priority process's own function on a request of the worker's kind
+    a, _ = app
+    rows, expected = projects
+    body = json.dumps(_fit_body(a, rows[1])).encode()
+    environ = {"REQUEST_METHOD": "POST", "PATH_INFO": "/_dash-update-component",
+               "CONTENT_TYPE": "application/json", "CONTENT_LENGTH": str(len(body)),
+               "SERVER_NAME": "127.0.0.1", "SERVER_PORT": "8050", "SERVER_PROTOCOL": "HTTP/1.1",
+               "REMOTE_ADDR": "10.5.5.5", "wsgi.url_scheme": "http",
+               "wsgi.input": object(), "gunicorn.socket": object()}  # not sent on
+    message = fairshare.request_message(environ, body)
+    assert set(message["environ"]) <= set(fairshare.SENT_KEYS)
+    status, headers, out, cpu = fairshare.run_request(a.server.wsgi_app.wsgi_app, message)
+    assert status.startswith("200") and cpu > 0
+    fit = json.loads(out)["response"]["fit-store"]["data"]
+    assert verdict(fit, 1, expected) == "ok"
+
+
+# ----------------------------------------------------------------------------- served
+
+
+def _post(client: Client, rows) -> tuple[str | None, dict]:
+    body = json.dumps(update_body(client.dep, {"results-table.rowData": rows,
+                                               "partial-choice.value": "good"},
+                                  "results-table.rowData")).encode()
+    req = urllib.request.Request(client.base + "_dash-update-component", data=body,
+                                 headers={"Content-Type": "application/json"})
+    with client.opener.open(req, timeout=client.timeout) as r:
+        return r.headers.get(PRIORITY_HEADER), json.loads(r.read())
+
+
+def _heavy_rows(first: int = 0, n: int = 1000) -> list[dict]:
+    """A table well over LARGE_BODY of made-up names (new names cost a suggestion search)."""
+    return [{"solvent": f"madeup{i}qz", "outcome": "dissolves"} for i in range(first, first + n)]
+
+
+def _helpers(served: ServedApp, workers: int = 2) -> list:
+    """The low-priority processes, one child of each worker (no background job runs in
+    these tests), once every worker has started (bounded wait)."""
+    import psutil
+    deadline = time.monotonic() + 30
+    while True:
+        found = [w.children() for w in psutil.Process(served.proc.pid).children()]
+        if len(found) == workers and all(len(k) == 1 for k in found):
+            return [k[0] for k in found]
+        assert time.monotonic() < deadline, f"workers and their processes: {found}"
+        time.sleep(0.1)
+
+
+def test_a_heavy_address_runs_at_low_priority_and_the_others_do_not(projects):
+    rows, expected = projects
+    with ServedApp(2) as served:
+        heavy = Client(served.base, source="127.0.0.21")
+        light = Client(served.base, source="127.0.0.22")
+        assert _post(heavy, _heavy_rows())[0] == "low"  # a large body: low from the start
+        for k in range(1, 9):  # and its CPU time counts against its share
+            _post(heavy, _heavy_rows(first=1000 * k))
+        priority, answer = _post(heavy, rows[0])  # now even a small request of it is low
+        assert priority == "low"
+        assert verdict(answer["response"]["fit-store"]["data"], 0, expected) == "ok"
+        for k in range(3):  # another address, within its share, stays in the worker
+            priority, answer = _post(light, rows[k])
+            assert priority is None
+            assert verdict(answer["response"]["fit-store"]["data"], k, expected) == "ok"
+        helpers = _helpers(served)
+        assert len(helpers) == 2  # one per worker
+        assert all(h.nice() >= fairshare.NICENESS for h in helpers)
+    assert "Traceback" not in served.output()
+
+
+def test_a_stopped_low_priority_process_leaves_the_work_to_the_worker(projects):
+    rows, expected = projects
+    with ServedApp(2) as served:
+        for h in _helpers(served):
+            h.kill()
+        time.sleep(0.3)
+        client = Client(served.base, source="127.0.0.23")
+        for k in range(4):  # large bodies: each worker finds its process gone
+            priority, answer = _post(client, rows[k % 3] + [{"solvent": "toluene",
+                                                             "outcome": "dissolves",
+                                                             "note": "n" * 40_000}])
+            assert priority is None and "response" in answer
+        priority, answer = _post(client, rows[2])
+        assert verdict(answer["response"]["fit-store"]["data"], 2, expected) == "ok"
+        out = served.output()
+    assert "low-priority process stopped" in out and "Traceback" not in out
+
+
+def test_the_single_process_server_has_its_low_priority_process_too(projects):
+    rows, expected = projects
+    with ServedApp(1) as served:
+        client = Client(served.base, source="127.0.0.24")
+        priority, answer = _post(client, _heavy_rows())
+        assert priority == "low" and "response" in answer
+    assert "Traceback" not in served.output()
