@@ -25,8 +25,8 @@ How it works
 On an idle server a low-priority request is as fast as any other (one more hop
 through a pipe, about a millisecond). Behind a reverse proxy every user has the
 proxy's address and so shares one fair share; the proxy's own rate limits then do
-this job. Without a started low-priority process (the app in a test client) every
-request runs in the worker, as before.
+this job. Without a started low-priority process (the app in a test client, or on
+Windows, which cannot fork a process) every request runs in the worker, as before.
 """
 
 from __future__ import annotations
@@ -92,6 +92,14 @@ def notice_answer(notice_id: str, text: str) -> bytes:
                        "sideUpdate": {notice_id: {"children": div}}}).encode()
 
 
+def fork_context():
+    """multiprocessing's "fork" start method (None where there is none: Windows)."""
+    try:
+        return multiprocessing.get_context("fork")
+    except ValueError:
+        return None
+
+
 def client_key(address: str) -> int:
     """A non-zero 63-bit number for a client address (the table stores numbers).
 
@@ -116,7 +124,8 @@ class Usage:
         self.keys = RawArray("q", size)     # 0: an empty place
         self.loads = RawArray("d", size)    # CPU seconds at ``whens``
         self.whens = RawArray("d", size)    # time.monotonic() of the last charge
-        self.lock = multiprocessing.get_context("fork").Lock()
+        ctx = fork_context()
+        self.lock = ctx.Lock() if ctx else threading.Lock()
 
     def _faded(self, i: int, now: float) -> float:
         return self.loads[i] * 0.5 ** (max(0.0, now - self.whens[i]) / HALF_LIFE_S)
@@ -267,7 +276,9 @@ class LowPriority:
         return self.process is not None and self.process.is_alive()
 
     def start(self) -> None:
-        ctx = multiprocessing.get_context("fork")
+        ctx = fork_context()
+        if ctx is None:  # no fork here: every request stays in the worker
+            return
         pairs = [ctx.Pipe() for _ in range(self.slots)]
         self.process = ctx.Process(target=serve_slots, name="solsphere-low-priority",
                                    args=(self.wsgi_app, [far for _, far in pairs],
@@ -386,10 +397,14 @@ class FairShare:
 
 
 def content_length(environ) -> int | None:
-    """The request body's declared length (None: not given or not a number)."""
+    """The request body's declared length (None: not given, as with a chunked body, or
+    not a number: such a request stays in the worker, whose server reads it).
+
+    >>> content_length({"CONTENT_LENGTH": "12"}), content_length({}), content_length({"CONTENT_LENGTH": "x"})
+    (12, None, None)
+    """
     try:
-        n = int(environ.get("CONTENT_LENGTH") or 0)
+        n = int(environ.get("CONTENT_LENGTH") or "")
     except (TypeError, ValueError):
         return None
     return n if n >= 0 else None
-

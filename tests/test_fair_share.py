@@ -137,6 +137,21 @@ def test_a_request_runs_the_same_in_the_low_priority_process(app, projects):
     assert verdict(fit, 1, expected) == "ok"
 
 
+def test_without_fork_every_request_stays_in_the_worker(app, projects, monkeypatch):
+    # Windows has no fork: the table still counts, nothing is started, nothing breaks
+    a, _ = app
+    monkeypatch.setattr(fairshare, "fork_context", lambda: None)
+    share = fairshare.FairShare(a.server.wsgi_app.wsgi_app, Usage(size=8), "notice")
+    share.start_low_priority()
+    assert share.low.process is None and not share.low_ready()
+    share.usage.charge("10.6.6.6", 100.0)
+    environ = {"REQUEST_METHOD": "POST", "PATH_INFO": "/_dash-update-component",
+               "CONTENT_LENGTH": "100000", "REMOTE_ADDR": "10.6.6.6"}
+    seen = []
+    share.wsgi_app = lambda env, start: seen.append(env) or [b"{}"]
+    assert share(environ, lambda *a: None) == [b"{}"] and seen == [environ]
+
+
 # ----------------------------------------------------------------------------- served
 
 
