@@ -13,7 +13,8 @@ sends: security headers, a body-size limit per callback, and a message in the pa
 - **Request size.** Callbacks that carry an uploaded file may receive up to
   :data:`UPLOAD_REQUEST_BYTES`; every other callback :data:`CALLBACK_BYTES` (a results
   table of :mod:`solsphere.limits`' maximum rows fits easily). Larger requests are
-  answered 413 with a one-line reason before the body is read.
+  answered 413 with a one-line reason: above the upload limit before the body is read,
+  between the two limits once the body shows which callback it is for.
 - **Numbers.** Every callback runs under :func:`solsphere.errors.numeric_notes`: a
   floating-point complaint of numpy (overflow, division by zero) becomes one line in
   the server's log, never a numpy trace (the fit's own notes are shown in the page with
@@ -96,13 +97,29 @@ def callback_error_message(exc: BaseException) -> str:
             f"happening.")
 
 
+def error_notice(text: str):
+    """The element the page's notice area shows for a refusal or a failure."""
+    return html.Div(text, className="notice notice-error")
+
+
+def notice_answer(text: str) -> bytes:
+    """Dash's answer to a callback request that changes none of its outputs but shows
+    ``text`` in the page's notice area: what :func:`on_callback_error` makes Dash send,
+    for requests answered before they reach Dash.
+
+    >>> json.loads(notice_answer("busy"))["sideUpdate"]["notice"]["children"]["props"]
+    {'children': 'busy', 'className': 'notice notice-error'}
+    """
+    return json.dumps({"multi": True, "response": {}, "sideUpdate": {
+        ids.NOTICE: {"children": error_notice(text).to_plotly_json()}}}).encode()
+
+
 def on_callback_error(exc: BaseException):
     """Dash's ``on_error`` hook: the message goes to the page's notice area, the
     outputs stay as they were, the server logs one line."""
     flask.current_app.logger.warning("callback failed: %s: %s", type(exc).__name__,
                                      clip(str(exc), 300))
-    set_props(ids.NOTICE, {"children": html.Div(callback_error_message(exc),
-                                                className="notice notice-error")})
+    set_props(ids.NOTICE, {"children": error_notice(callback_error_message(exc))})
     return None  # no update of the callback's own outputs
 
 

@@ -32,6 +32,8 @@ import psutil
 
 from solsphere.errors import InputError
 
+from .fairshare import client_id
+
 #: Seconds a finished job's result is kept for its page to fetch.
 EXPIRE_S = 600
 #: How often the page asks for progress [ms] (Dash's default is 1000).
@@ -86,8 +88,11 @@ def own_busy_message(running: int) -> str:
 
 
 def requester() -> str | None:
-    """The client address of the request being answered (None outside a request)."""
-    return flask.request.remote_addr if flask.has_request_context() else None
+    """The client of the request being answered (:func:`fairshare.client_id` of its
+    address; None outside a request)."""
+    if not flask.has_request_context():
+        return None
+    return client_id(str(flask.request.remote_addr or "unknown"))
 
 
 def run_niced(job_fn, *args):

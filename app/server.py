@@ -32,8 +32,8 @@ MAX_REQUEST_BYTES = 7_500_000
 #: Most worker processes ``serve`` starts (``--workers``): about one per core is enough.
 MAX_WORKERS = 64
 #: Threads per worker process: a slow connection never holds a whole process, and the
-#: requests held for the low-priority process (``fairshare.QUEUE``) leave as many free.
-WORKER_THREADS = 16
+#: requests held for the low-priority process (``fairshare.QUEUE``) leave enough free.
+WORKER_THREADS = 20
 #: Where the app keeps its :class:`fairshare.FairShare` (Flask's ``extensions``).
 FAIR_SHARE = "solsphere-fair-share"
 #: Seconds a worker may stay unresponsive before it is replaced (the longest app request,
@@ -82,7 +82,7 @@ def create_app(path=None, initial: dict | None = None, max_jobs: int | None = No
     dash.Dash
     """
     import dash
-    from . import fairshare, guard, ids, jobs
+    from . import fairshare, guard, jobs
     from .callbacks import register_callbacks
     from .layout import build_layout
 
@@ -98,7 +98,7 @@ def create_app(path=None, initial: dict | None = None, max_jobs: int | None = No
     register_callbacks(app, _library)
     guard.install(app)  # after the callbacks: the policy hashes their inline scripts
     # made here, before any worker is forked: the usage table is shared by all of them
-    share = fairshare.FairShare(app.server.wsgi_app, fairshare.Usage(), ids.NOTICE)
+    share = fairshare.FairShare(app.server.wsgi_app, fairshare.Usage())
     app.server.wsgi_app = share
     app.server.extensions[FAIR_SHARE] = share
     return app
@@ -265,8 +265,10 @@ def _serve_workers(wsgi_app, sock: socket.socket, workers: int) -> None:
 
     options = worker_options(sock.detach(), workers)  # gunicorn owns the socket from here
     share = wsgi_app.extensions[FAIR_SHARE]
-    # each worker forks its low-priority process at once, while it has one thread
-    options["post_fork"] = lambda arbiter, worker: share.start_low_priority()
+    # each worker forks its low-priority process at once, while it has one thread (the
+    # process closes its copy of the listening socket)
+    options["post_fork"] = lambda arbiter, worker: share.start_low_priority(
+        [s.fileno() for s in worker.sockets])
 
     class _Workers(BaseApplication):
         def load_config(self):
