@@ -306,6 +306,7 @@ def test_a_heavy_address_runs_at_low_priority_and_the_others_do_not(projects):
 
 
 @forks
+@pytest.mark.slow  # a server of its own; the logic is covered above with a stand-in
 def test_a_stopped_low_priority_process_leaves_the_work_to_the_worker(projects):
     rows, expected = projects
     with ServedApp(2) as served:
@@ -325,6 +326,7 @@ def test_a_stopped_low_priority_process_leaves_the_work_to_the_worker(projects):
 
 
 @forks
+@pytest.mark.slow  # a server of its own
 def test_the_single_process_server_has_its_low_priority_process_too(projects):
     rows, expected = projects
     with ServedApp(1) as served:
