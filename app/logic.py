@@ -323,10 +323,13 @@ def paste_cells(rows, row: int, column: str | None, text: str) -> tuple[list[dic
     Reads what a spreadsheet puts on the clipboard (cells separated by tabs, rows by
     newlines). The block overwrites the cells from the clicked one rightwards in the
     order solvent, outcome, δD, δP, δH, note (cells past the note are dropped) and
-    downwards; lines past the end of the table become new rows. Outcome words the
-    results files accept ('yes', 'bad' …) are written as the table's words; δ values
-    are read as numbers (a decimal comma too); anything unreadable is kept as typed so
-    the table marks it. Pasting into a column that is not editable starts at the solvent.
+    downwards; lines past the end of the table become new rows. A first line that is a
+    header (:func:`pasted_header`) is not pasted: it says which column each cell goes
+    to instead (any order; a coordinate in (cal/cm³)½ is converted to MPa½; unknown
+    columns are left out). Outcome words the results files accept ('yes', 'bad' …) are
+    written as the table's words; δ values are read as numbers (a decimal comma too);
+    anything unreadable is kept as typed so the table marks it. Pasting into a column
+    that is not editable starts at the solvent.
 
     Returns
     -------
@@ -343,26 +346,55 @@ def paste_cells(rows, row: int, column: str | None, text: str) -> tuple[list[dic
     ([('my oil', 'dissolves', 16.5, 3.1, 'x'), ('water', 'does not', None, None, None)], 2)
     >>> rows[0]["outcome"]  # the input table is not changed
     'dissolves'
+    >>> new, n = paste_cells([], 0, "solvent", "Result\tLiquid\tpH\nyes\tacetone\t7\n")
+    >>> [(r["solvent"], r["outcome"]) for r in new], n  # the header row placed the cells
+    ([('acetone', 'dissolves')], 1)
     """
     out = [dict(r) for r in rows or [] if isinstance(r, dict)]
     lines = str(text or "").replace("\r\n", "\n").replace("\r", "\n").split("\n")
     while lines and not lines[-1].strip():  # a spreadsheet ends its copy with a newline
         lines.pop()
     start = COLUMNS.index(column) if column in COLUMNS else 0
+    places = pasted_header(lines[0], COLUMNS[start]) if lines else None
+    if places is not None:
+        lines = lines[1:]
+    else:  # from the clicked cell rightwards
+        places = [(c, 1.0) for c in COLUMNS[start:]]
     row = max(0, min(int(row), len(out)))
     for k, line in enumerate(lines):
         i = row + k
         while i >= len(out):
             out.append(blank_row())
-        for j, cell in enumerate(line.split("\t")):
-            if start + j >= len(COLUMNS):
-                break
-            out[i][COLUMNS[start + j]] = _pasted(COLUMNS[start + j], cell)
+        for (target, factor), cell in zip(places, line.split("\t")):
+            if target is not None:
+                out[i][target] = _pasted(target, cell, factor)
     return out, len(lines)
 
 
-def _pasted(column: str, cell: str):
-    """One pasted cell as the table keeps it (None for an empty cell)."""
+def pasted_header(line: str, column: str) -> list[tuple[str | None, float]] | None:
+    r"""Where each cell of a pasted block goes, when its first ``line`` is a header: two
+    or more cells naming different table columns (as a results file's header is read),
+    or one cell naming the ``column`` it is pasted into. (table column or None, unit
+    factor) per cell; None when the line is data.
+
+    >>> pasted_header("Solvent\tdD (cal/cm3)^0.5\tpH", "solvent")
+    [('solvent', 1.0), ('dD', 2.0455), (None, 1.0)]
+    >>> pasted_header("Notes", "note"), pasted_header("toluene\tyes", "solvent")
+    ([('note', 1.0)], None)
+    """
+    found = [T.header_column(c) for c in line.split("\t")]
+    places = [(c if c in COLUMNS else None, f) for c, f in found]
+    named = [c for c, _ in places if c is not None]
+    if len(named) != len(set(named)):  # a column twice: not a header of ours
+        return None
+    if len(named) >= 2 or (len(places) == 1 and named == [column]):
+        return places
+    return None
+
+
+def _pasted(column: str, cell: str, factor: float = 1.0):
+    """One pasted cell as the table keeps it (None for an empty cell); a number is
+    multiplied by ``factor`` (its unit to MPa½)."""
     cell = cell.strip()
     if not cell:
         return None
@@ -371,7 +403,7 @@ def _pasted(column: str, cell: str):
         return WORDS[canon] if canon is not None else cell
     if column in NUMBER_COLUMNS:
         try:
-            return float(cell.replace(",", "."))
+            return float(cell.replace(",", ".")) * factor
         except ValueError:
             return cell
     return cell

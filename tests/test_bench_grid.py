@@ -65,6 +65,30 @@ def test_paste_of_nothing_changes_nothing_and_a_far_row_lands_at_the_end():
     assert n == 1 and len(rows) == 6 and rows[5]["solvent"] == "ethanol"
 
 
+def test_a_pasted_header_row_places_the_cells_and_is_not_a_row():
+    # a block copied with its header, in the lab's own column order and words; the dP
+    # column in (cal/cm³)½ (converted at 2.0455 MPa½ per (cal/cm³)½, as in a file);
+    # a column solsphere does not know (pH) is left out
+    text = ("Result\tLiquid\tpH\tdP (cal/cm3)^0.5\tComments\n"
+            "yes\tglycerol\t7\t2.0\tclear\nno\twater\t7\t\t\n")
+    rows, n = logic.paste_cells(ROWS, 5, "solvent", text)
+    assert n == 2 and len(rows) == 7  # the header is not a row
+    assert rows[5] == {"solvent": "glycerol", "outcome": "dissolves", "dD": None,
+                       "dP": 2.0 * 2.0455, "dH": None, "note": "clear"}
+    assert (rows[6]["solvent"], rows[6]["outcome"]) == ("water", "does not")
+    assert "7" not in json.dumps(rows[5:]) and "pH" not in json.dumps(rows)
+    # the header alone adds nothing; one header cell over the column it lands in is
+    # read as a header too; a data line is never a header
+    assert logic.paste_cells(ROWS, 0, "solvent", "solvent\toutcome\n") == (ROWS, 0)
+    rows, n = logic.paste_cells(ROWS, 0, "note", "Notes\nfirst\nsecond")
+    assert n == 2 and [r["note"] for r in rows[:2]] == ["first", "second"]
+    rows, n = logic.paste_cells(ROWS, 0, "solvent", "ethanol\tgood\nwater\tbad")
+    assert n == 2 and rows[0]["solvent"] == "ethanol"
+    # a repeated column name is not one of our headers: pasted as data, as typed
+    rows, n = logic.paste_cells(ROWS, 0, "solvent", "solvent\tsolvent\nx\ty")
+    assert n == 2 and rows[0]["solvent"] == "solvent"
+
+
 def test_delete_row_by_its_place_in_the_data():
     rows = logic.delete_row(ROWS, 2)
     assert [r["solvent"] for r in rows] == ["toluene", "acetone", "n-hexane", "methanol"]

@@ -65,7 +65,7 @@ __all__ = ["Trial", "Trials", "read", "read_text", "read_trials", "from_rows", "
            "parse_outcome", "OUTCOMES", "OUTCOME_WORDS", "DISPLAY", "DEFAULT_PARTIAL",
            "COLUMNS", "MAX_COORDINATE", "MAX_BLEND_PART", "replace_surrogates",
            "parse_blend_spec", "read_materials", "pick_material", "read_bytes_table", "CAL_TO_MPA",
-           "MAX_PROBLEMS"]
+           "MAX_PROBLEMS", "header_column"]
 
 #: Canonical outcomes.
 OUTCOMES = ("good", "bad", "partial")
@@ -936,6 +936,19 @@ def _canon_header(raw: str) -> tuple[str | None, str]:
     key = low.replace("δ", "d").replace("delta", "d")
     key = re.sub(r"[\s_\-.]", "", key)
     return _HEADER_ALIASES.get(key), unit
+
+
+def header_column(cell: str) -> tuple[str | None, float]:
+    """The column a header cell names (as a results file's header is read; None: not
+    a column solsphere knows) and the factor that puts its values in MPa½
+    (:data:`CAL_TO_MPA` for a coordinate in (cal/cm³)½, else 1).
+
+    >>> header_column("dP (cal/cm3)^0.5"), header_column(" Solvent "), header_column("pH")
+    (('dP', 2.0455), ('solvent', 1.0), (None, 1.0))
+    """
+    key, unit = _canon_header(str(cell))
+    cal = key in COORDINATES and "cal" in unit.replace(" ", "")
+    return key, CAL_TO_MPA if cal else 1.0
 
 
 def _bracketed_unit(low: str) -> tuple[str, str]:
