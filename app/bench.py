@@ -148,6 +148,7 @@ def results_table(rows):
         dcc.Store(id="bench-new-row"),  # a row just added, to scroll to
         dcc.Store(id="bench-marks-shown"),
         dcc.Store(id="bench-row-shown"),
+        dcc.Store(id="bench-pending-shown"),  # a row added from another screen, shown
     ])
 
 
@@ -213,7 +214,8 @@ def panel(rows, library, has_demo: bool):
             "its δD δP δH. Edit any cell (double-click it or start typing); the sphere "
             "refits on every change. Paste rows from a spreadsheet: click a cell once, "
             "then Ctrl+V (columns solvent, outcome, δD, δP, δH, note from the clicked "
-            "one on); rows pasted past the end are added. × deletes a row. A blend "
+            "one on, or as a copied header row names them); rows pasted past the end "
+            "are added. × deletes a row. A blend "
             "tested as one trial is written ",
             html.Code("toluene 70 + ethanol 30"), ". Leave δD δP δH empty to use the "
             "library's values."]),
@@ -273,6 +275,9 @@ def register(app, get_library):
     app.clientside_callback(ClientsideFunction("solsphereBench", "showRow"),
                             Output("bench-row-shown", "data"),
                             Input("bench-new-row", "data"), prevent_initial_call=True)
+    app.clientside_callback(ClientsideFunction("solsphereBench", "showPendingRow"),
+                            Output("bench-pending-shown", "data"),
+                            Input(ids.TABS, "value"), prevent_initial_call=True)
 
     @app.callback(Output("table-status", "children"), Input(ids.FIT, "data"),
                   Input(ids.SOURCE, "data"))
@@ -341,8 +346,10 @@ def register(app, get_library):
         out = _edit(ctx.triggered_id, payload, share_payload, rows, solvent, outcome, note,
                     suggested)
         new = out[0]
-        if ctx.triggered_id in ("add-button", "add-solvent", "add-empty") and \
-                isinstance(new, list):
+        from_next = ctx.triggered_id == "add-all-next" or (
+            isinstance(ctx.triggered_id, dict) and ctx.triggered_id.get("type") == "add-next")
+        if (from_next or ctx.triggered_id in ("add-button", "add-solvent", "add-empty")) \
+                and isinstance(new, list):
             # the row just written: the first one that differs from before (an empty
             # row at the end is reused), else the last; shown, and an empty one opened
             old = list(rows or [])

@@ -8,6 +8,8 @@
     // The marks of the table as the server last sent them (logic.table_marks): keyed by
     // the row's place in the data, so sorting or filtering never moves a mark.
     var marks = {};
+    // A row added while the grid's screen was hidden, to show when it is shown again.
+    var pendingRow = null;
 
     function rowMarks(params) {
         var node = params && params.node;
@@ -105,9 +107,16 @@
         },
 
         /** Scroll to a row the user just added (its place in the data) once the grid has
-            it; an empty row gets its solvent cell opened for typing. */
+            it; an empty row gets its solvent cell opened for typing. A row added from
+            another screen (Next trials) is shown when the grid's screen is shown again. */
         showRow: function (target) {
             if (!target || target.row === undefined) { return window.dash_clientside.no_update; }
+            var el = document.getElementById(GRID);
+            if (el && el.offsetParent === null) {  // on a hidden screen: show it later
+                pendingRow = target;
+                return window.dash_clientside.no_update;
+            }
+            pendingRow = null;
             withGrid(function (api) {
                 var tries = 0;
                 var find = function () {
@@ -134,6 +143,23 @@
                 };
                 show();
             });
+            return Date.now();
+        },
+
+        /** The tab shown: on the results' screen, a row added meanwhile is shown (once
+            the screen is visible: another callback shows it). */
+        showPendingRow: function (tab) {
+            if (tab !== 'bench' || !pendingRow) { return window.dash_clientside.no_update; }
+            var target = pendingRow, tries = 0;
+            var later = function () {
+                var el = document.getElementById(GRID);
+                if (el && el.offsetParent === null && tries++ < 60) {
+                    setTimeout(later, 50);
+                    return;
+                }
+                cs.solsphereBench.showRow(target);
+            };
+            setTimeout(later, 0);
             return Date.now();
         }
     };

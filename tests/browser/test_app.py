@@ -351,6 +351,18 @@ def test_share_downloads_and_the_project_loads_back(page, browser, server, artef
     assert errors == []
 
 
+#: Whether the bench grid's row of data row ``row`` lies inside the grid's viewport.
+ROW_IN_VIEW = """(row) => {
+    const api = window.dash_ag_grid.getApi('results-table'); let at = null;
+    api.forEachNode(n => { if (n.sourceRowIndex === row) { at = n.rowIndex; } });
+    const el = at === null ? null : document.querySelector(
+        `#results-table .ag-center-cols-container .ag-row[row-index='${at}']`);
+    const vp = document.querySelector('#results-table .ag-body-viewport');
+    if (!el || !vp) { return false; }
+    const a = el.getBoundingClientRect(), b = vp.getBoundingClientRect();
+    return a.height > 0 && a.top >= b.top - 1 && a.bottom <= b.bottom + 1; }"""
+
+
 def tab(page, label: str):
     """Open a screen by its tab (an exact label, not any text on the page)."""
     page.locator("#tabs .tab", has_text=label).first.click()
@@ -550,6 +562,8 @@ def test_posterior_intervals_and_their_p_good(page, artefacts):
 def test_next_trials_panel_and_add_to_the_table(page, artefacts):
     load_demo(page)
     n = table_rows(page)
+    page.evaluate("() => window.dash_ag_grid.getApi('results-table').ensureIndexVisible(0, 'top')")
+    assert not page.evaluate(ROW_IN_VIEW, n - 1)  # the grid shows its top rows only
     tab(page, "Next trials")
     page.fill("#nt-min-fp", "23")
     page.click("#next-trials-button")
@@ -569,6 +583,7 @@ def test_next_trials_panel_and_add_to_the_table(page, artefacts):
     tab(page, "Bench results")
     page.wait_for_function(f"() => {{ let k = 0; window.dash_ag_grid.getApi('results-table')"
                            f".forEachNode(() => k++); return k === {n + 1}; }}")
+    page.wait_for_function(ROW_IN_VIEW, arg=n, timeout=10_000)  # scrolled to the new row
     assert cell(page, n, "solvent").inner_text().strip() == name
     page.wait_for_selector("#fit-summary .warnings:has-text('waits for its outcome')")
     assert "row " + str(n + 1) in page.inner_text("#problems")
