@@ -24,9 +24,9 @@ How it works
   line in the page (try again in a moment). A request the low-priority process does not
   answer within :data:`ANSWER_S` is answered with a line too, and the process is
   stopped; the worker then runs every request itself (and says so once in its log).
-- Progress polls of background jobs always run in the worker (they are light, and the
-  page must see their answers). A callback request without a declared body length (a
-  chunked body, which no browser sends) is refused with 411.
+- A progress poll of a background job that finds no place is told to ask again, so
+  the page keeps waiting for its job. A callback request without a declared body
+  length (a chunked body, which no browser sends) is refused with 411.
 
 On an idle server a low-priority request is as fast as any other (one more hop
 through a pipe, about a millisecond). Behind a reverse proxy every user has the
@@ -450,8 +450,7 @@ class FairShare:
             return refuse(start_response, "411 Length Required",
                           "a callback request must give its body's length (Content-Length).")
         client = client_id(str(environ.get("REMOTE_ADDR") or "unknown"))
-        poll = "cacheKey=" in str(environ.get("QUERY_STRING", ""))
-        if not poll and size <= UPLOAD_REQUEST_BYTES and self.low_ready() and (
+        if size <= UPLOAD_REQUEST_BYTES and self.low_ready() and (
                 size > LARGE_BODY or self.usage.level(client) > SHARE_S):
             return self.at_low_priority(environ, start_response, client, size)
         started = time.thread_time()
@@ -468,6 +467,9 @@ class FairShare:
 
     def at_low_priority(self, environ, start_response, client: str, size: int):
         body = environ["wsgi.input"].read(size) if size else b""
+        # a background job's progress poll that finds no place is told to ask again
+        # (an answer without a "response"): the page keeps waiting for its job
+        poll = "cacheKey=" in str(environ.get("QUERY_STRING", ""))
         marker = "low"
         try:
             status, headers, answer, cpu = self.low.run(environ, body, client)
@@ -480,6 +482,8 @@ class FairShare:
                 "This request could not be finished (the server's low-priority process "
                 "stopped); nothing was changed. Try again.")
             marker = "stopped"
+        if poll and marker != "low":
+            answer = b"{}"
         self.usage.charge(client, cpu)
         headers = [(k, v) for k, v in headers if k.lower() != "content-length"]
         start_response(status, [*headers, ("Content-Length", str(len(answer))),

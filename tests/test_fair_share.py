@@ -5,9 +5,9 @@
   the table is shared by processes forked after it is made (the server's workers).
 - The middleware: a callback request of an address over its share, or with a large
   body, is answered by the low-priority process (marked by a response header) with the
-  same answer the worker gives; other addresses and progress polls stay in the worker;
-  no free place gives a line in the page, not an error, and one client never holds
-  every place; a stopped or silent low-priority process gives a line (the request is
+  same answer the worker gives, progress polls included; other addresses stay in the
+  worker; no free place gives a line in the page, not an error (a progress poll is told
+  to ask again), and one client never holds every place; a stopped or silent low-priority process gives a line (the request is
   not run again) and leaves the later requests to the worker; a callback request with
   no declared length is refused.
 - Served for real (``solsphere app --workers 2`` and the single-process server), with
@@ -162,11 +162,12 @@ def test_over_its_share_a_request_goes_to_the_low_priority_process(app, projects
     assert r.data == b'{"response": {}}' and r.headers["Content-Length"] == "16"
     assert pipe.sent[0]["environ"]["REMOTE_ADDR"] == "10.3.3.1"
     assert share.usage.level("10.3.3.1") > before + 0.2  # its CPU there is charged
-    # a client within its share stays in the worker, a progress poll too
+    # a client within its share stays in the worker
     r = _post_to(a, projects[0][0], "10.3.3.2")
     assert PRIORITY_HEADER not in r.headers and "fit-store" in r.get_json()["response"]
+    # a progress poll is no way round the share (Dash ignores the key elsewhere)
     r = _post_to(a, projects[0][0], "10.3.3.1", query_string={"cacheKey": "x", "job": "1"})
-    assert PRIORITY_HEADER not in r.headers and len(pipe.sent) == 1
+    assert r.headers[PRIORITY_HEADER] == "low" and len(pipe.sent) == 2
 
 
 def test_no_free_place_gives_a_line_in_the_page_and_one_client_never_holds_all(
@@ -185,6 +186,10 @@ def test_no_free_place_gives_a_line_in_the_page_and_one_client_never_holds_all(
     monkeypatch.setattr(share.low, "held", {f"10.8.0.{i}": 1 for i in range(fairshare.QUEUE)})
     r = _post_to(a, projects[0][0], "10.3.3.4")
     assert r.headers[PRIORITY_HEADER] == "busy" and _notice(r) == fairshare.BUSY_TEXT
+    # a background job's progress poll is told to ask again (no "response": the page
+    # keeps polling), not ended with a notice
+    r = _post_to(a, projects[0][0], "10.3.3.4", query_string={"cacheKey": "k", "job": "9"})
+    assert r.headers[PRIORITY_HEADER] == "busy" and r.get_json() == {}
 
 
 @pytest.mark.parametrize("pipe,killed", [(_Pipe(fail=EOFError()), False),
