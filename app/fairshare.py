@@ -74,7 +74,8 @@ PER_CLIENT = 6
 WAIT_S = 30.0
 #: Longest time the low-priority process may take to answer one request [s].
 ANSWER_S = 300.0
-#: How much lower the low-priority process's CPU priority is (Unix ``nice`` steps).
+#: How much lower the CPU priority of the low-priority process and of the background
+#: jobs (app/jobs.py) is than the server's (Unix ``nice`` steps).
 NICENESS = 10
 #: Clients the shared table remembers (the one that used least lately makes room).
 TABLE_SIZE = 1024
@@ -109,6 +110,15 @@ def fork_context():
         return multiprocessing.get_context("fork")
     except ValueError:
         return None
+
+
+def lower_priority() -> None:
+    """Lower this process's CPU priority by :data:`NICENESS` (where that is not allowed
+    or not possible, it runs as it is)."""
+    try:
+        os.nice(NICENESS)
+    except (OSError, AttributeError):
+        pass
 
 
 def client_id(address: str) -> str:
@@ -288,10 +298,7 @@ def serve_slots(wsgi_app, conns, theirs=(), fds=()) -> None:
         if hasattr(signal, name):
             signal.signal(getattr(signal, name), signal.SIG_DFL)  # not the server's
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl+C stops the worker, then this
-    try:
-        os.nice(NICENESS)
-    except (OSError, AttributeError):  # not allowed or not on this system: run as is
-        pass
+    lower_priority()
 
     def answer(conn):
         while True:

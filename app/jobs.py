@@ -32,7 +32,7 @@ import psutil
 
 from solsphere.errors import InputError
 
-from .fairshare import client_id
+from .fairshare import NICENESS, client_id, lower_priority  # noqa: F401 (jobs.NICENESS: the jobs' step)
 
 #: Seconds a finished job's result is kept for its page to fetch.
 EXPIRE_S = 600
@@ -44,8 +44,6 @@ PROGRESS_EVERY_S = 0.15
 
 #: Cache key of the running jobs' process ids (shared by the workers).
 RUNNING_KEY = "solsphere-running-jobs"
-#: How much lower the jobs' CPU priority is than the server's (Unix ``nice`` steps).
-NICENESS = 10
 #: Longest time a job's process may take to start [s] (its slot is held meanwhile).
 STARTING_S = 30.0
 
@@ -98,10 +96,7 @@ def requester() -> str | None:
 def run_niced(job_fn, *args):
     """Run a job at a lower CPU priority (:data:`NICENESS`): the machine answers its
     users' clicks first, and the long computations take the time left over."""
-    try:
-        os.nice(NICENESS)
-    except (OSError, AttributeError):  # not allowed, or not on this system: run as is
-        pass
+    lower_priority()
     return job_fn(*args)
 
 
