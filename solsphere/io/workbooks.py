@@ -164,9 +164,10 @@ def read_sheet(data: bytes, file: str, sheet: str | None = None) -> Sheet:
     if "EncryptedPackage" in names or "EncryptionInfo" in names:
         raise InputError("the workbook is protected by a password.", file=file,
                          hint="save a copy without the password and give that file")
-    if "content.xml" in names:  # the reader builds every sheet of an .ods when it opens
-        for sheet_name, extent in _ods_extents(zf, file).items():
-            _refuse_big(extent, f"{file}, sheet {sheet_name!r}")
+    # the reader builds every sheet of an .ods when it opens: all are measured first
+    ods = _ods_extents(zf, file) if "content.xml" in names else None
+    for sheet_name, extent in (ods or {}).items():
+        _refuse_big(extent, f"{file}, sheet {sheet_name!r}")
     try:
         wb = python_calamine.CalamineWorkbook.from_filelike(io.BytesIO(data))
         sheet_names = list(wb.sheet_names)
@@ -189,7 +190,7 @@ def read_sheet(data: bytes, file: str, sheet: str | None = None) -> Sheet:
     label = f"{file}, sheet {name!r}"
     # the used range from the sheet's own XML first: the reader builds the whole range
     # in memory (a stray cell at row 1,048,000, column GR took it 10 s and gigabytes)
-    _refuse_big(_used_extent(zf, name, file), label)
+    _refuse_big(ods.get(name) if ods is not None else _used_extent(zf, name, file), label)
     try:
         ws = wb.get_sheet_by_name(name)
         end = ws.end
@@ -228,15 +229,11 @@ def _refuse_big(extent: tuple[int, int] | None, label: str) -> None:
 
 
 def _used_extent(zf: zipfile.ZipFile, name: str, label: str) -> tuple[int, int] | None:
-    """(last row, last column) holding something in sheet ``name``, read from the
-    sheet's XML in one streaming pass (time and memory linear in the file), or None
-    when the XML cannot say (the reader then decides).
-
-    Cells that hold nothing (a format only) do not count; in an .ods sheet, repeated
-    empty rows and columns (a spreadsheet writes them up to its last row) do not count.
+    """(last row, last column) holding something in sheet ``name`` of an .xlsx, read
+    from the sheet's XML in one streaming pass (time and memory linear in the file), or
+    None when the XML cannot say (the reader then decides). Cells that hold nothing (a
+    format only) do not count. (An .ods: :func:`_ods_extents`.)
     """
-    if "content.xml" in zf.namelist():
-        return _ods_extents(zf, label).get(name)
     part = _xlsx_sheet_part(zf, name, label)
     raw = None if part is None else _read_part(zf, part, label)
     if raw is None:
@@ -260,7 +257,9 @@ def _used_extent(zf: zipfile.ZipFile, name: str, label: str) -> tuple[int, int] 
 
 
 def _ods_extents(zf: zipfile.ZipFile, label: str) -> dict[str, tuple[int, int]]:
-    """:func:`_used_extent` of every sheet of an .ods (content.xml), by sheet name."""
+    """:func:`_used_extent` of every sheet of an .ods (content.xml), by sheet name, in
+    one pass; repeated empty rows and columns (a spreadsheet writes them up to its last
+    row) do not count."""
     raw = _read_part(zf, "content.xml", label)
     if raw is None:
         return {}
