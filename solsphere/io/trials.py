@@ -947,8 +947,12 @@ def header_column(cell: str) -> tuple[str | None, float]:
     (('dP', 2.0455), ('solvent', 1.0), (None, 1.0))
     """
     key, unit = _canon_header(str(cell))
-    cal = key in COORDINATES and "cal" in unit.replace(" ", "")
-    return key, CAL_TO_MPA if cal else 1.0
+    return key, CAL_TO_MPA if _in_cal(key, unit) else 1.0
+
+
+def _in_cal(key: str | None, unit: str) -> bool:
+    """True for a coordinate column whose header gives its unit as (cal/cm³)½."""
+    return key in COORDINATES and "cal" in unit.replace(" ", "")
 
 
 def _bracketed_unit(low: str) -> tuple[str, str]:
@@ -1033,14 +1037,14 @@ def _read_header(cells: list[str], file: str, line: int, warnings: list,
             canon.append(None)
             unknown.append(name)
             continue
-        if key in COORDINATES and unit:
+        if _in_cal(key, unit):
+            cal.append((key, name))
+        elif key in COORDINATES and unit:
             u = unit.replace(" ", "")
-            if "cal" in u:
-                cal.append((key, name))
-            elif not ("mpa" in u or "j/cm" in u or "j cm" in u):
+            if not ("mpa" in u or "j/cm" in u or "j cm" in u):
                 warnings.append(f"{file}, line {line}: unit {clip(unit)} of column {clip(name)} not "
                                 f"recognised; its values are read as MPa½")
-        if key in COORDINATES and not (unit and "cal" in unit.replace(" ", "")):
+        if key in COORDINATES and not _in_cal(key, unit):
             plain.append(name)
         if key in seen:
             raise InputError(f"columns {clip(seen[key])} and {clip(name)} are both read as {clip(key)}.",
