@@ -13,7 +13,7 @@ import json
 from dash import Input, Output, State
 
 from . import bench, blends, grids, ids, nexttrials, replace, share, sphere, trynext
-from .layout import SCREENS
+from .layout import HIDDEN, SCREENS
 
 #: Every recommendation grid (each has a CSV download button).
 GRIDS = ("shortlist", "blend-table", "replace-singles", "replace-pairs")
@@ -44,8 +44,8 @@ def register_callbacks(app, get_library) -> None:
     screens = [value for value, _ in SCREENS]  # the chosen screen shown, the others hidden
     app.clientside_callback(
         """function(tab) {
-            var names = %s;
-            return names.map(function(n) { return n === tab ? null : {display: 'none'}; });
-        }""" % json.dumps(screens),
+            var names = %s, hidden = %s;
+            return names.map(function(n) { return n === tab ? null : hidden; });
+        }""" % (json.dumps(screens), json.dumps(HIDDEN)),
         [Output(f"screen-{v}", "style") for v in screens], Input(ids.TABS, "value"),
         prevent_initial_call=True)
