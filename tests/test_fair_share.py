@@ -155,7 +155,10 @@ def test_over_its_share_a_request_goes_to_the_low_priority_process(app, projects
              b'{"response": {}}', 0.25)
     pipe = _Pipe(reply)
     _low(monkeypatch, share, pipe)
-    share.usage.charge("10.3.3.1", 100.0)  # far over its share
+    # over its share, but small: a charge fades while the request runs (100 s of it lose
+    # 0.007 s per millisecond, enough to hide the 0.25 s charged for the request on a
+    # slow machine; 2 s lose 0.00014)
+    share.usage.charge("10.3.3.1", 2.0)
     before = share.usage.level("10.3.3.1")
     r = _post_to(a, projects[0][0], "10.3.3.1")
     assert r.status_code == 200 and r.headers[PRIORITY_HEADER] == "low"
