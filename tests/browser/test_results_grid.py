@@ -44,13 +44,16 @@ def hover_tip(page, loc, expect: str) -> str:
     """The tooltip of a cell once it says ``expect`` (the marks of a refit reach the
     grid a moment after its classes; a few hovers, bounded)."""
     text = ""
+    # a tooltip that is fading out stays in the page a moment beside the new one:
+    # only the shown one (not .ag-tooltip-hiding) is read
+    shown = page.locator(".ag-tooltip:not(.ag-tooltip-hiding)")
     for _ in range(6):
         page.mouse.move(2, 2)  # off the grid first: a tooltip opens on entering a cell
-        page.locator(".ag-tooltip").wait_for(state="detached", timeout=5000)
+        page.wait_for_function("() => !document.querySelector('.ag-tooltip')",
+                               timeout=5000)
         loc.hover()
-        tip = page.locator(".ag-tooltip")
-        tip.wait_for(timeout=5000)
-        text = tip.inner_text()
+        shown.first.wait_for(timeout=5000)
+        text = shown.first.inner_text()
         if expect in text:
             break
         page.wait_for_timeout(300)
