@@ -76,13 +76,13 @@ def per_address(limit: int) -> int:
 
 
 def own_busy_message(running: int) -> str:
-    """The line a job refused for its address shows.
+    """The line a job refused for its client (its computer's address) shows.
 
     >>> own_busy_message(3)[:60]
-    'This address is already running 3 long computations, the mos'
+    'This computer is already running 3 long computations, the mo'
     """
-    return (f"This address is already running {running} long computations, the most one "
-            f"address may run at once here; wait for one to finish or cancel it.")
+    return (f"This computer is already running {running} long computations, the most one "
+            f"computer may run at once here; wait for one to finish or cancel it.")
 
 
 def requester() -> str | None:
