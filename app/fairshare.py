@@ -42,7 +42,6 @@ from __future__ import annotations
 import hashlib
 import io
 import ipaddress
-import json
 import multiprocessing
 import os
 import queue
@@ -52,7 +51,7 @@ import threading
 import time
 from multiprocessing.sharedctypes import RawArray
 
-from .guard import UPLOAD_REQUEST_BYTES, callback_error_message, notice_answer
+from .guard import UPLOAD_REQUEST_BYTES, callback_error_message, notice_answer, refusal
 
 #: Half-life of a charge [s]: CPU used this long ago counts half.
 HALF_LIFE_S = 10.0
@@ -263,13 +262,17 @@ def run_request(wsgi_app, message: dict) -> tuple[str, list, bytes, float]:
     def start_response(status, headers, exc_info=None):
         answer["status"], answer["headers"] = status, list(headers)
 
-    chunks = wsgi_app(environ, start_response)
+    body = drain(wsgi_app(environ, start_response))
+    return answer["status"], answer["headers"], body, time.thread_time() - started
+
+
+def drain(chunks) -> bytes:
+    """A WSGI answer's body in one piece (the answer closed after, as WSGI asks)."""
     try:
-        body = b"".join(chunks)
+        return b"".join(chunks)
     finally:
         if hasattr(chunks, "close"):
             chunks.close()
-    return answer["status"], answer["headers"], body, time.thread_time() - started
 
 
 def json_answer(text: str) -> tuple[str, list, bytes, float]:
@@ -462,13 +465,7 @@ class FairShare:
             return self.at_low_priority(environ, start_response, client, size)
         started = time.thread_time()
         try:
-            chunks = self.wsgi_app(environ, start_response)
-            try:
-                body = b"".join(chunks)
-            finally:
-                if hasattr(chunks, "close"):
-                    chunks.close()
-            return [body]
+            return [drain(self.wsgi_app(environ, start_response))]
         finally:
             self.usage.charge(client, time.thread_time() - started)
 
@@ -499,8 +496,8 @@ class FairShare:
 
 
 def refuse(start_response, status: str, reason: str):
-    """A one-line JSON refusal (as the app's other request-level refusals)."""
-    body = json.dumps({"error": reason}).encode()
+    """A one-line JSON refusal (:func:`guard.refusal`)."""
+    body = refusal(reason)
     start_response(status, [("Content-Type", "application/json"),
                             ("Content-Length", str(len(body)))])
     return [body]

@@ -114,6 +114,15 @@ def notice_answer(text: str) -> bytes:
         ids.NOTICE: {"children": error_notice(text).to_plotly_json()}}}).encode()
 
 
+def refusal(reason: str) -> bytes:
+    """The body of a request refused before Dash answers it: one JSON line.
+
+    >>> refusal("too big")
+    b'{"error": "too big"}'
+    """
+    return json.dumps({"error": reason}).encode()
+
+
 def on_callback_error(exc: BaseException):
     """Dash's ``on_error`` hook: the message goes to the page's notice area, the
     outputs stay as they were, the server logs one line."""
@@ -183,8 +192,8 @@ def install(app) -> None:
             limit = limit_for(flask.request.get_json(silent=True))
             if size > limit:
                 return flask.Response(
-                    json.dumps({"error": f"request of {size:,} bytes; this part of the app "
-                                         f"accepts at most {limit:,}."}),
+                    refusal(f"request of {size:,} bytes; this part of the app accepts at "
+                            f"most {limit:,}."),
                     status=413, mimetype="application/json")
         return None
 
@@ -203,7 +212,7 @@ def install(app) -> None:
             return exc
         server.logger.warning("request refused: %s: %s", type(exc).__name__,
                               clip(str(exc), 300))
-        return flask.Response(json.dumps({"error": callback_error_message(exc)}),
-                              status=400, mimetype="application/json")
+        return flask.Response(refusal(callback_error_message(exc)), status=400,
+                              mimetype="application/json")
 
     server.register_error_handler(Exception, unreadable)
