@@ -35,15 +35,22 @@ def pytest_collection_modifyitems(config, items):
 def server():
     """The app on a free loopback port (werkzeug, threaded, in a daemon thread)."""
     from werkzeug.serving import make_server
+    from solsphere.app import fairshare
     from solsphere.app.server import create_app
     logging.getLogger("werkzeug").setLevel(logging.ERROR)  # no request log in test output
-    dash_app = create_app()
-    srv = make_server("127.0.0.1", 0, dash_app.server, threaded=True)
-    thread = threading.Thread(target=srv.serve_forever, daemon=True)
-    thread.start()
-    yield f"http://127.0.0.1:{srv.server_port}/"
-    srv.shutdown()
-    thread.join(timeout=5)
+    with pytest.MonkeyPatch.context() as mp:
+        # Background jobs run at the tests' own priority here. At nice +10, beside the
+        # other test worker and the slow set's served load tests, a job that takes a
+        # second could wait minutes for the processor, and the page tests would fail
+        # for the design. The jobs' lower priority is tested in test_app_workers.
+        mp.setattr(fairshare, "NICENESS", 0)
+        dash_app = create_app()
+        srv = make_server("127.0.0.1", 0, dash_app.server, threaded=True)
+        thread = threading.Thread(target=srv.serve_forever, daemon=True)
+        thread.start()
+        yield f"http://127.0.0.1:{srv.server_port}/"
+        srv.shutdown()
+        thread.join(timeout=5)
 
 
 @pytest.fixture(scope="module")

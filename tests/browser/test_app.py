@@ -11,6 +11,7 @@ import statistics
 
 import pytest
 from benchgrid import cell, column, paste_tsv, row_count, set_outcome, outcome_of
+from pagewait import wait_text
 
 pytestmark = pytest.mark.browser
 
@@ -293,7 +294,7 @@ def test_blend_designer_draws_the_segment(page, artefacts):
         page.fill(".dash-dropdown-content input.dash-dropdown-search", name)
         page.locator(".dash-dropdown-content").get_by_text(name, exact=True).click()
     page.keyboard.press("Escape")
-    page.wait_for_selector("#blend-message:has-text('3 ticked solvents')")
+    wait_text(page, "#blend-message", "3 ticked solvents", ("#blend-ticked", "#bl-progress-text"))
     labels = " ".join(column_texts(page, "blend-table", "label"))
     assert labels and all(w in ("toluene", "ethanol", "acetone") or "%" in w or w == "+"
                           for w in labels.split())

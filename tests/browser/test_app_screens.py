@@ -14,6 +14,7 @@ import io
 import pytest
 
 from benchgrid import column, set_outcome
+from pagewait import JOB_START_MS, wait_text
 
 pytestmark = pytest.mark.browser
 
@@ -64,23 +65,6 @@ def full_trace(page, graph: str, name: str):
     return page.evaluate("""([sel, n]) => { const t = (document.querySelector(sel)._fullData
         || []).find(t => t.name === n); return t ? {x: Array.from(t.x), y: Array.from(t.y)}
         : null; }""", [graph, name])
-
-
-#: Longest wait for a background job's first progress line [ms]. The job runs at low
-#: priority (nice +10), so on a machine busy with other work (the other test worker,
-#: a served load test) its start can take tens of seconds; that is the design, not a
-#: fault this test looks for.
-JOB_START_MS = 120_000
-
-
-def wait_progress(page, selector: str, text: str, shown: tuple[str, ...]):
-    """Until ``selector`` shows ``text``; on timeout, fail with what ``shown`` show."""
-    from playwright.sync_api import TimeoutError as PlaywrightTimeout
-    try:
-        page.wait_for_selector(f"{selector}:has-text({text!r})", timeout=JOB_START_MS)
-    except PlaywrightTimeout:
-        seen = {sel: page.inner_text(sel) for sel in (selector, *shown)}
-        raise AssertionError(f"{selector} never said {text!r}; the page shows {seen}") from None
 
 
 def assert_clean_console(page):
@@ -192,8 +176,7 @@ def test_blend_screen_runs_in_the_background_with_progress_and_cancel(page, arte
     page.locator("#blend-pool label", has_text="all library liquids").click()
     page.locator("#blend-components label", has_text="3").click()
     page.wait_for_selector("#bl-progress-box", state="visible", timeout=30_000)
-    wait_progress(page, "#bl-progress-text", "three-solvent",
-                  ("#bl-progress-box", "#blend-message"))
+    wait_text(page, "#bl-progress-text", "three-solvent", ("#bl-progress-box", "#blend-message"))
     page.screenshot(path=str(artefacts / "17-blends-running.png"), full_page=True)
     page.click("#bl-cancel")
     page.wait_for_selector("#bl-progress-box", state="hidden", timeout=30_000)
