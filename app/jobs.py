@@ -32,7 +32,7 @@ import psutil
 
 from solsphere.errors import InputError
 
-from .fairshare import NICENESS, client_id, lower_priority  # noqa: F401 (jobs.NICENESS: the jobs' step)
+from .fairshare import client_id, lower_priority
 
 #: Seconds a finished job's result is kept for its page to fetch.
 EXPIRE_S = 600
@@ -94,7 +94,7 @@ def requester() -> str | None:
 
 
 def run_niced(job_fn, *args):
-    """Run a job at a lower CPU priority (:data:`NICENESS`): the machine answers its
+    """Run a job at a lower CPU priority (:data:`fairshare.NICENESS`): the machine answers its
     users' clicks first, and the long computations take the time left over."""
     lower_priority()
     return job_fn(*args)

@@ -338,7 +338,7 @@ def _report_niceness(*_args):
 def test_background_jobs_run_at_a_lower_priority(tmp_path, monkeypatch):
     import os
     import time
-    from solsphere.app import jobs
+    from solsphere.app import fairshare, jobs
     out = tmp_path / "nice.txt"
     monkeypatch.setenv("SOLSPHERE_TEST_NICE_FILE", str(out))
     m = jobs.manager(str(tmp_path / "jobs"), max_jobs=2)
@@ -346,7 +346,7 @@ def test_background_jobs_run_at_a_lower_priority(tmp_path, monkeypatch):
     deadline = time.monotonic() + 30
     while not out.exists() and time.monotonic() < deadline:
         time.sleep(0.05)
-    assert int(out.read_text()) == min(19, os.nice(0) + jobs.NICENESS)
+    assert int(out.read_text()) == min(19, os.nice(0) + fairshare.NICENESS)
 
 
 def test_one_address_never_takes_every_job_place(tmp_path):
