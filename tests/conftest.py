@@ -45,6 +45,7 @@ HEAVY = {
     "tests/test_cli.py::test_project_partial_setting_is_kept",
     "tests/test_estimate.py::test_numpy_trees_match_scikit_learn",
     "tests/test_app_workers.py::test_the_request_body_limit_holds_in_the_workers",
+    "tests/test_app_jobs.py::test_jobs_forked_beside_polling_threads_all_answer",
     "tests/test_app_workers.py::test_two_workers_serve_the_library_fit_and_stop",
     # over 0.8 s each (2 cores, unloaded), measured with the fast set's --junitxml
     "tests/test_app_logic.py::test_bootstrap_in_the_app_is_the_library_bootstrap_of_the_trials",
