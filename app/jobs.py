@@ -89,8 +89,8 @@ class SharedCache:
     SQLite keeps a process's file-lock state in memory shared by all its connections. A
     job forked while another thread of the server is inside SQLite (answering a progress
     poll, say) inherits that state, and its first write then waits for a lock that no
-    process holds, until SQLite gives up a minute later; the page shows a progress bar
-    with no text and never an answer. Measured here with Dash's own cache: 11 of 200 jobs
+    process holds: on a mutex for good, or through SQLite's busy timeouts (a minute each)
+    until it dies; the page shows a progress bar with no text and never an answer. Measured here with Dash's own cache: 11 of 200 jobs
     forked beside four threads polling it never wrote; with this class, 0 of 300.
 
     So every use holds :data:`FORK_GUARD`'s lock, and each process opens its own

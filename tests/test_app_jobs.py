@@ -55,8 +55,8 @@ def _write_progress_and_result(cache, key, progress_key, _args, _context):
 def test_jobs_forked_beside_polling_threads_all_answer(tmp_path):
     """Jobs forked while other threads of the server read and write the jobs' folder
     (progress polls) all write their progress and result. Before SharedCache, about one
-    job in twenty forked this way waited a minute for an SQLite lock nobody held, and
-    then died without an answer (the page: a progress bar without text, for ever)."""
+    job in twenty forked this way waited for an SQLite lock nobody held, for good or until
+    it died without an answer (the page: a progress bar without text, for ever)."""
     m = jobs.manager(str(tmp_path / "jobs"), max_jobs=1000)
     stop = threading.Event()
 
